@@ -1,0 +1,7 @@
+/** Every subcommand, in help order. Add a command: write src/cli/commands/<name>.ts and list it here. */
+import type { CommandModule } from "../context.js";
+import { registerEnvs } from "./envs.js";
+import { registerExport } from "./export.js";
+import { registerSolve } from "./solve.js";
+
+export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport];

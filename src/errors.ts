@@ -1,0 +1,67 @@
+/**
+ * Typed errors. Every expected failure carries a namespaced code (`"model.probabilitySum"`), a message
+ * that says what was expected, what was found and where, and maps to a process exit code through
+ * one table. The CLI prints `error [code]: message` on one line and exits with that code.
+ */
+
+/** Exit codes shared by every command. */
+export const EXIT = {
+  ok: 0,
+  internal: 1,
+  badInput: 2,
+  /** A gate fired: an alert (`--fail-on-alert`), a finding (`--fail-on`), a failed property (`check`). */
+  gate: 3,
+  interrupted: 130,
+} as const;
+
+/** Code prefixes that mean "the user's input is wrong" (exit 2). Anything else is internal (exit 1). */
+const BAD_INPUT_PREFIXES = [
+  "input.",
+  "model.",
+  "reward.",
+  "env.",
+  "config.",
+  "grid.",
+  "track.",
+  "module.",
+  "queue.",
+  "store.",
+  "cli.",
+];
+
+export class GapwatchError extends Error {
+  readonly code: string;
+  /** Where the problem is: a file, a JSON path, a line. Printed before the message. */
+  readonly where?: string;
+  readonly exitCode: number;
+
+  constructor(code: string, message: string, opts: { where?: string; exitCode?: number; cause?: unknown } = {}) {
+    super(message, opts.cause === undefined ? undefined : { cause: opts.cause });
+    this.name = "GapwatchError";
+    this.code = code;
+    this.where = opts.where;
+    this.exitCode = opts.exitCode ?? exitCodeFor(code);
+  }
+}
+
+/** Bad user input: exit code 2. */
+export class InputError extends GapwatchError {
+  constructor(code: string, message: string, where?: string) {
+    super(code, message, { where, exitCode: EXIT.badInput });
+    this.name = "InputError";
+  }
+}
+
+export function exitCodeFor(code: string): number {
+  return BAD_INPUT_PREFIXES.some((p) => code.startsWith(p)) ? EXIT.badInput : EXIT.internal;
+}
+
+/** One line for a terminal: `error [model.probabilitySum] file.json $.transitions[3]: ...`. Pure. */
+export function formatError(err: unknown): string {
+  if (err instanceof GapwatchError) {
+    const where = err.where ? ` ${err.where}:` : "";
+    return `error [${err.code}]${where} ${err.message}`.replace(/\s*\n\s*/g, " ");
+  }
+  const msg = err instanceof Error ? err.message : String(err);
+  return `internal error: ${msg}`.replace(/\s*\n\s*/g, " ");
+}

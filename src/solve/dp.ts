@@ -1,0 +1,253 @@
+/**
+ * Exact dynamic programming on a FiniteModel: iterative policy evaluation, value iteration, policy
+ * iteration. Rewards are per outcome (designer reward of a variant, or `model.intent`). Pure; no I/O.
+ *
+ * Conventions: V = 0 on terminal states; sweeps are synchronous (two arrays, "Jacobi") unless
+ * `inPlace` is set; a solver stops after the first sweep whose largest change is below `tol`, and
+ * that sweep counts. Greedy ties go to the lowest action index.
+ */
+import type { FiniteModel } from "../model/types.js";
+
+/** A stochastic policy: nStates * nActions probabilities, rows summing to 1. */
+export type Policy = Float64Array;
+
+export interface SolveOptions {
+  gamma?: number;
+  /** Stop after the first sweep with max |delta| < tol. Default 1e-10. */
+  tol?: number;
+  maxIters?: number;
+  /** Gauss-Seidel (in-place) sweeps in state order instead of synchronous ones. */
+  inPlace?: boolean;
+}
+
+export interface Evaluation {
+  values: Float64Array;
+  iters: number;
+  converged: boolean;
+}
+
+export interface Solution extends Evaluation {
+  /** Greedy action per state (lowest index on ties); -1 on terminal states. */
+  policy: Int32Array;
+  /** Action values, nStates * nActions. */
+  q: Float64Array;
+}
+
+const DEFAULT_TOL = 1e-10;
+
+function defaultMaxIters(gamma: number): number {
+  return gamma < 1 ? Math.max(10_000, Math.ceil(Math.log(1e-12) / Math.log(gamma)) * 4) : 1_000_000;
+}
+
+/** Expected immediate reward per (s, a) and the outcome structure, precomputed once per solve. */
+function expectedReward(model: FiniteModel, reward: Float64Array): Float64Array {
+  const nSA = model.nStates * model.nActions;
+  const r = new Float64Array(nSA);
+  const { saStart, prob } = model;
+  for (let k = 0; k < nSA; k++) {
+    const lo = saStart[k];
+    const hi = saStart[k + 1];
+    if (hi - lo === 1) {
+      r[k] = reward[lo];
+      continue;
+    }
+    let acc = 0;
+    for (let o = lo; o < hi; o++) acc += prob[o] * reward[o];
+    r[k] = acc;
+  }
+  return r;
+}
+
+/** Q(s, a) = r(s, a) + gamma * sum_o p_o V(next_o). Single-outcome pairs skip the multiply by 1. */
+function backup(model: FiniteModel, r: Float64Array, gamma: number, V: Float64Array, k: number): number {
+  const lo = model.saStart[k];
+  const hi = model.saStart[k + 1];
+  if (hi - lo === 1) return r[k] + gamma * V[model.next[lo]];
+  let ev = 0;
+  for (let o = lo; o < hi; o++) ev += model.prob[o] * V[model.next[o]];
+  return r[k] + gamma * ev;
+}
+
+/** Iterative policy evaluation of a stochastic policy (Sutton & Barto 2018, section 4.1). */
+export function evaluatePolicy(model: FiniteModel, reward: Float64Array, policy: Policy, opts: SolveOptions = {}): Evaluation {
+  const gamma = opts.gamma ?? model.gamma;
+  const tol = opts.tol ?? DEFAULT_TOL;
+  const maxIters = opts.maxIters ?? defaultMaxIters(gamma);
+  const nS = model.nStates;
+  const nA = model.nActions;
+  const r = expectedReward(model, reward);
+  let V = new Float64Array(nS);
+  let W = opts.inPlace ? V : new Float64Array(nS);
+  let iters = 0;
+  let converged = false;
+  while (iters < maxIters) {
+    let delta = 0;
+    for (let s = 0; s < nS; s++) {
+      if (model.terminal[s]) {
+        W[s] = 0;
+        continue;
+      }
+      let v = 0;
+      for (let a = 0; a < nA; a++) {
+        const pa = policy[s * nA + a];
+        if (pa !== 0) v += pa * backup(model, r, gamma, V, s * nA + a);
+      }
+      const d = Math.abs(v - V[s]);
+      if (d > delta) delta = d;
+      W[s] = v;
+    }
+    iters++;
+    if (!opts.inPlace) {
+      const t = V;
+      V = W;
+      W = t;
+    }
+    if (delta < tol) {
+      converged = true;
+      break;
+    }
+  }
+  return { values: V, iters, converged };
+}
+
+/** Value iteration (Sutton & Barto 2018, section 4.4), synchronous sweeps by default. */
+export function valueIteration(model: FiniteModel, reward: Float64Array, opts: SolveOptions = {}): Solution {
+  const gamma = opts.gamma ?? model.gamma;
+  const tol = opts.tol ?? DEFAULT_TOL;
+  const maxIters = opts.maxIters ?? defaultMaxIters(gamma);
+  const nS = model.nStates;
+  const nA = model.nActions;
+  const r = expectedReward(model, reward);
+  const { saStart, next, terminal } = model;
+  // Fast path when every pair has a single outcome (deterministic models, the benchmark grid).
+  const deterministic = saStart[nS * nA] === nS * nA;
+  let V = new Float64Array(nS);
+  let W = opts.inPlace ? V : new Float64Array(nS);
+  let iters = 0;
+  let converged = false;
+  while (iters < maxIters) {
+    let delta = 0;
+    for (let s = 0; s < nS; s++) {
+      if (terminal[s]) {
+        W[s] = 0;
+        continue;
+      }
+      const k0 = s * nA;
+      let best: number;
+      if (deterministic) {
+        best = r[k0] + gamma * V[next[k0]];
+        for (let a = 1; a < nA; a++) {
+          const q = r[k0 + a] + gamma * V[next[k0 + a]];
+          if (q > best) best = q;
+        }
+      } else {
+        best = backup(model, r, gamma, V, k0);
+        for (let a = 1; a < nA; a++) {
+          const q = backup(model, r, gamma, V, k0 + a);
+          if (q > best) best = q;
+        }
+      }
+      const d = Math.abs(best - V[s]);
+      if (d > delta) delta = d;
+      W[s] = best;
+    }
+    iters++;
+    if (!opts.inPlace) {
+      const t = V;
+      V = W;
+      W = t;
+    }
+    if (delta < tol) {
+      converged = true;
+      break;
+    }
+  }
+  const q = actionValues(model, reward, V, gamma);
+  return { values: V, iters, converged, policy: greedyActions(model, q), q };
+}
+
+/** Q = r + gamma * P V for every (s, a); zeros on terminal states. */
+export function actionValues(model: FiniteModel, reward: Float64Array, V: Float64Array, gamma = model.gamma): Float64Array {
+  const nA = model.nActions;
+  const r = expectedReward(model, reward);
+  const q = new Float64Array(model.nStates * nA);
+  for (let s = 0; s < model.nStates; s++) {
+    if (model.terminal[s]) continue;
+    for (let a = 0; a < nA; a++) q[s * nA + a] = backup(model, r, gamma, V, s * nA + a);
+  }
+  return q;
+}
+
+/** Greedy action per state, lowest index on ties (exact comparison); -1 on terminal states. */
+export function greedyActions(model: FiniteModel, q: Float64Array, tieTol = 0): Int32Array {
+  const nA = model.nActions;
+  const pi = new Int32Array(model.nStates);
+  for (let s = 0; s < model.nStates; s++) {
+    if (model.terminal[s]) {
+      pi[s] = -1;
+      continue;
+    }
+    let best = 0;
+    for (let a = 1; a < nA; a++) if (q[s * nA + a] > q[s * nA + best] + tieTol) best = a;
+    pi[s] = best;
+  }
+  return pi;
+}
+
+/** Policy iteration (Sutton & Barto 2018, section 4.3) from the all-zeros policy. */
+export function policyIteration(model: FiniteModel, reward: Float64Array, opts: SolveOptions & { maxPolicyIters?: number } = {}): Solution & { policyIters: number } {
+  const gamma = opts.gamma ?? model.gamma;
+  let actions = new Int32Array(model.nStates);
+  for (let s = 0; s < model.nStates; s++) actions[s] = model.terminal[s] ? -1 : 0;
+  let policyIters = 0;
+  let totalIters = 0;
+  const maxPolicyIters = opts.maxPolicyIters ?? 1000;
+  for (;;) {
+    const ev = evaluatePolicy(model, reward, deterministicPolicy(model, actions), { ...opts, gamma, tol: opts.tol ?? 1e-12 });
+    totalIters += ev.iters;
+    const q = actionValues(model, reward, ev.values, gamma);
+    // Improve, keeping the current action unless another is better by more than a rounding margin.
+    const improved = new Int32Array(model.nStates);
+    let stable = true;
+    const nA = model.nActions;
+    for (let s = 0; s < model.nStates; s++) {
+      if (model.terminal[s]) {
+        improved[s] = -1;
+        continue;
+      }
+      let best = actions[s];
+      for (let a = 0; a < nA; a++) if (q[s * nA + a] > q[s * nA + best] + 1e-9 * (1 + Math.abs(q[s * nA + best]))) best = a;
+      improved[s] = best;
+      if (best !== actions[s]) stable = false;
+    }
+    policyIters++;
+    actions = improved;
+    if (stable || policyIters >= maxPolicyIters) {
+      return { values: ev.values, iters: totalIters, converged: stable, policy: actions, q, policyIters };
+    }
+  }
+}
+
+/** One-hot policy from an action per state (terminal rows: uniform, never used). */
+export function deterministicPolicy(model: FiniteModel, actions: Int32Array): Policy {
+  const nA = model.nActions;
+  const p = new Float64Array(model.nStates * nA);
+  for (let s = 0; s < model.nStates; s++) {
+    const a = actions[s];
+    if (a >= 0) p[s * nA + a] = 1;
+    else for (let b = 0; b < nA; b++) p[s * nA + b] = 1 / nA;
+  }
+  return p;
+}
+
+/** The uniform-random policy. */
+export function uniformPolicy(model: FiniteModel): Policy {
+  return new Float64Array(model.nStates * model.nActions).fill(1 / model.nActions);
+}
+
+/** Expected return from the start distribution: sum_s start(s) V(s). */
+export function startValue(model: FiniteModel, values: Float64Array): number {
+  let acc = 0;
+  for (let s = 0; s < model.nStates; s++) if (model.start[s] > 0) acc += model.start[s] * values[s];
+  return acc;
+}

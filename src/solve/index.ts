@@ -1,0 +1,2 @@
+export * from "./dp.js";
+export * from "./compare.js";
