@@ -1,0 +1,180 @@
+/**
+ * Tabular Q-learning (Watkins 1989; Sutton & Barto 2018, section 6.5, eq. 6.8):
+ *
+ *   choose a ~ ε-greedy(Q(s, ·)), observe r, s'
+ *   target = r                          if s' is terminal
+ *          = r + γ · max_b Q(s', b)      otherwise (also when the episode is truncated at the horizon)
+ *   Q(s, a) ← Q(s, a) + α · (target − Q(s, a))
+ *
+ * With constant α = 0.1, γ = 0.99, ε = 0.1 and a Xorshift32 exploration stream this is exactly the loop
+ * of the shared benchmark (bench PROBLEM.md section 5): one draw on an exploit step, two on an explore
+ * step, ties to the lowest action index, operations in the order written, no fused multiply-add.
+ *
+ * Two loops, identical results: a generic one over any `TabularEnv`, and a fast path, taken when the
+ * environment is a `viewEnv` (it exposes `view`) and α, ε are constant, that inlines outcome sampling
+ * over the view's typed arrays.
+ */
+import type { LearnerView, TabularEnv } from "../src/model/learner-view.js";
+import { sampleStart } from "../src/model/learner-view.js";
+import {
+  TWO32,
+  TabularAgent,
+  TabularRateSession,
+  drive,
+  driveAsync,
+  epsilonGreedy,
+  maxRow,
+  resolveTabular,
+  type Agent,
+  type TabularConfig,
+  type TrainOptions,
+  type TrainResult,
+} from "./common.js";
+
+export const NAME = "q-learning";
+
+/** Q-learning settings (α, γ, ε and their schedules; see TabularConfig for one line per field). */
+export interface QLearningConfig extends TabularConfig {
+  /** Use the inlined loop over a model view when possible (results are identical; false forces the generic loop). */
+  fastPath: boolean;
+}
+
+export function resolveQLearning(partial: Partial<QLearningConfig> = {}): QLearningConfig {
+  return { ...resolveTabular(partial, `learner ${NAME}`), fastPath: partial.fastPath ?? true };
+}
+
+export class QLearningSession extends TabularRateSession {
+  readonly agent: Agent;
+  private readonly view: LearnerView | null;
+
+  constructor(env: TabularEnv, config: QLearningConfig, opts: TrainOptions) {
+    super(env, config, opts);
+    this.agent = new TabularAgent(NAME, this.nA, env.actions, () => this.q, config);
+    const v = (env as { view?: LearnerView }).view;
+    const fast = config.fastPath && v !== undefined && this.alphaConst !== undefined && this.epsilonConst !== undefined;
+    this.view = fast && v.nStates <= this.capacity ? v : null;
+  }
+
+  advance(n: number, episodeLimit: number): number {
+    return this.view ? this.advanceView(this.view, n, episodeLimit) : this.advanceGeneric(n, episodeLimit);
+  }
+
+  /** The generic loop: any TabularEnv, any schedules. */
+  private advanceGeneric(n: number, episodeLimit: number): number {
+    const { env, nA, horizon, out, rng, envRng, stats } = this;
+    const gamma = this.config.gamma;
+    for (let i = 0; i < n; i++) {
+      const s = this.s;
+      const base = s * nA;
+      const a = epsilonGreedy(this.q, base, nA, this.epsilonNow() * TWO32, rng);
+      env.step(s, a, envRng, out);
+      const sp = out.next;
+      const r = out.reward;
+      if (sp >= this.capacity) this.grow(sp + 1);
+      const q = this.q;
+      const target = out.terminated ? r : r + gamma * maxRow(q, sp * nA, nA);
+      const sa = base + a;
+      const qsa = q[sa];
+      q[sa] = qsa + this.alphaFor(sa) * (target - qsa);
+      stats.steps++;
+      this.t++;
+      this.ret += r;
+      if (out.terminated || this.t === horizon) {
+        this.endEpisode(out.terminated, sp);
+        if (stats.episodes >= episodeLimit) return i + 1;
+      } else this.s = sp;
+    }
+    return n;
+  }
+
+  /**
+   * The fast path: constant α and ε, the model view's arrays in locals, outcome sampling inlined
+   * (the same draws as `sampleOutcome`: none for single-outcome pairs). No allocation per step.
+   */
+  private advanceView(view: LearnerView, n: number, episodeLimit: number): number {
+    const { nA, horizon, rng, envRng, stats } = this;
+    const q = this.q; // the view's state count fits the table, so it never grows here
+    const saStart = view.saStart;
+    const next = view.next;
+    const cum = view.cumProb;
+    const rew = view.reward;
+    const term = view.terminal;
+    const terminatedAt = stats.terminatedAt;
+    const gamma = this.config.gamma;
+    const alpha = this.alphaConst as number;
+    const threshold = (this.epsilonConst as number) * TWO32;
+    let s = this.s;
+    let t = this.t;
+    let ret = this.ret;
+    let i = 0;
+    for (; i < n; i++) {
+      const base = s * nA;
+      // ε-greedy: u1 < ε·2^32 explores with a = floor(u2·nA / 2^32); else argmax, lowest index on ties.
+      let a = 0;
+      if (rng.uint32() < threshold) {
+        a = Math.floor((rng.uint32() * nA) / TWO32);
+      } else {
+        let m = q[base];
+        for (let b = 1; b < nA; b++) {
+          if (q[base + b] > m) {
+            m = q[base + b];
+            a = b;
+          }
+        }
+      }
+      const sa = base + a;
+      let o = saStart[sa];
+      const hi = saStart[sa + 1] - 1;
+      if (o !== hi) {
+        const u = envRng.float();
+        while (o < hi && !(u < cum[o])) o++;
+      }
+      const sp = next[o];
+      const r = rew[o];
+      const done = term[sp] === 1;
+      let target = r;
+      if (!done) {
+        const nb = sp * nA;
+        let m = q[nb];
+        for (let b = 1; b < nA; b++) if (q[nb + b] > m) m = q[nb + b];
+        target = r + gamma * m;
+      }
+      const qsa = q[sa];
+      q[sa] = qsa + alpha * (target - qsa);
+      t++;
+      ret += r;
+      if (done || t === horizon) {
+        stats.episodes++;
+        if (done) {
+          stats.terminated++;
+          terminatedAt[sp]++;
+        } else stats.truncated++;
+        stats.returnSum += ret;
+        stats.lastReturn = ret;
+        stats.lastLength = t;
+        t = 0;
+        ret = 0;
+        s = sampleStart(view, envRng);
+        if (stats.episodes >= episodeLimit) {
+          i++;
+          break;
+        }
+      } else s = sp;
+    }
+    stats.steps += i;
+    this.s = s;
+    this.t = t;
+    this.ret = ret;
+    return i;
+  }
+}
+
+/** Train Q-learning for `opts.steps` environment steps (see `drive` for checkpoints and stopping). */
+export function trainQLearning(env: TabularEnv, config: Partial<QLearningConfig>, opts: TrainOptions): TrainResult {
+  return drive(new QLearningSession(env, resolveQLearning(config), opts), opts);
+}
+
+/** As `trainQLearning`, yielding to the event loop between chunks (Ctrl-C can set `signal.aborted`). */
+export function trainQLearningAsync(env: TabularEnv, config: Partial<QLearningConfig>, opts: TrainOptions): Promise<TrainResult> {
+  return driveAsync(new QLearningSession(env, resolveQLearning(config), opts), opts);
+}
