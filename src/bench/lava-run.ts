@@ -1,0 +1,63 @@
+/**
+ * Our implementations on the lava benchmark: generic value iteration (src/solve/dp.ts) and tabular
+ * Q-learning (src/bench/ql.ts) over the FiniteModel of lava.ts, returning the CHECK line and the
+ * time of the timed region only (PROBLEM.md section 7):
+ *  - vi: `valueSweeps`, the sweeps of `valueIteration`. The expected-reward table is built before the
+ *    clock starts; the action values and greedy policy that `valueIteration` adds afterwards are
+ *    computed after it stops (same functions, same results).
+ *  - ql: the STEPS loop of `trainTabularQ`. Model building, Q allocation, checksums, rollout are outside.
+ */
+import { learnerView } from "../model/learner-view.js";
+import { Xorshift32 } from "../rng/rng.js";
+import { actionValues, expectedReward, greedyActions, valueSweeps } from "../solve/dp.js";
+import { argmaxRow, greedyRollout, qlCheckLine, viCheckLine } from "./check.js";
+import { KIND_GOAL, KIND_LAVA, LAVA_GAMMA, lavaModel, type LavaProblem } from "./lava.js";
+import { trainTabularQ } from "./ql.js";
+
+export const QL_ALPHA = 0.1;
+export const QL_GAMMA = 0.99;
+export const QL_EPSILON = 0.1;
+export const QL_STEPS = 5_000_000;
+export const QL_SEED = 2654435769;
+export const VI_TOL = 1e-10;
+
+/** Monotonic seconds. */
+export type Clock = () => number;
+export const hrClock: Clock = () => Number(process.hrtime.bigint()) / 1e9;
+
+export interface Measured {
+  check: string;
+  seconds: number;
+  /** Sweeps (vi) or steps (ql). */
+  work: number;
+}
+
+export function runLavaVi(W: number, H: number, clock: Clock = hrClock, problem: LavaProblem = lavaModel(W, H)): Measured & { iters: number } {
+  const { model, reward } = problem;
+  const r = expectedReward(model, reward);
+  const t0 = clock();
+  const ev = valueSweeps(model, reward, { gamma: LAVA_GAMMA, tol: VI_TOL }, r);
+  const seconds = clock() - t0;
+  const policy = greedyActions(model, actionValues(model, reward, ev.values, LAVA_GAMMA));
+  const rollout = greedyRollout(problem, (s) => policy[s]);
+  return { check: viCheckLine({ W, H, iters: ev.iters, values: ev.values, rollout }), seconds, work: ev.iters, iters: ev.iters };
+}
+
+export function runLavaQl(W: number, H: number, steps = QL_STEPS, seed = QL_SEED, clock: Clock = hrClock, problem: LavaProblem = lavaModel(W, H)): Measured {
+  const { model, reward, kind } = problem;
+  const view = learnerView(model, reward);
+  const rng = new Xorshift32(seed);
+  const q = new Float64Array(model.nStates * model.nActions);
+  const t0 = clock();
+  const res = trainTabularQ(view, rng, { steps, alpha: QL_ALPHA, gamma: QL_GAMMA, epsilon: QL_EPSILON, cap: problem.cap }, rng, q);
+  const seconds = clock() - t0;
+  let goals = 0;
+  let hazards = 0;
+  for (let s = 0; s < model.nStates; s++) {
+    if (kind[s] === KIND_GOAL) goals += res.endedIn[s];
+    else if (kind[s] === KIND_LAVA) hazards += res.endedIn[s];
+  }
+  const rollout = greedyRollout(problem, (s) => argmaxRow(res.q, s, model.nActions));
+  const check = qlCheckLine({ W, H, steps, seed, episodes: res.episodes, goals, hazards, timeouts: res.timeouts, q: res.q, rollout });
+  return { check, seconds, work: steps };
+}
