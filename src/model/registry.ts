@@ -10,6 +10,7 @@ import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { envsDir } from "../util/paths.js";
 import { loadModelFile, parseRewardFile } from "./format.js";
+import { loadModuleEnv } from "../sim/load.js";
 import { compileGridScenario } from "./grid.js";
 import { compileTrackScenario } from "./track.js";
 import { defaultVariantName } from "./reward.js";
@@ -95,13 +96,6 @@ export function loadScenario(name: string): FiniteEnv {
   return { model, kind: "scenario", scenario: meta, spec: name };
 }
 
-/** Hook for simulator modules (set by src/sim when it loads); keeps this module free of that import. */
-export type ModuleLoader = (path: string) => Promise<LoadedEnv>;
-let moduleLoader: ModuleLoader | undefined;
-export function registerModuleLoader(loader: ModuleLoader): void {
-  moduleLoader = loader;
-}
-
 /** Resolve `--env` synchronously for built-ins and model files. */
 export function loadEnvSync(spec: string): FiniteEnv {
   if (/\.json$/i.test(spec)) {
@@ -123,14 +117,7 @@ export function loadEnvSync(spec: string): FiniteEnv {
 export async function loadEnv(spec: string): Promise<LoadedEnv> {
   if (/\.(m?[jt]s)$/i.test(spec)) {
     if (!existsSync(resolve(spec))) throw new InputError("env.notFound", `simulator module not found`, spec);
-    if (!moduleLoader) {
-      // Lazy import keeps the registry usable without the simulator layer.
-      const simPath = "../sim/load.js";
-      const sim = (await import(simPath).catch(() => null)) as { loadModuleEnv?: ModuleLoader } | null;
-      if (!sim?.loadModuleEnv) throw new InputError("env.module", "simulator modules are not supported in this build", spec);
-      moduleLoader = sim.loadModuleEnv;
-    }
-    return moduleLoader(resolve(spec));
+    return loadModuleEnv(resolve(spec));
   }
   return loadEnvSync(spec);
 }

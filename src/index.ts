@@ -1,0 +1,16 @@
+/**
+ * gapwatch's public entry point. Everything a CLI command does is callable from here.
+ */
+export { defineEnv, type EnvDefinition, type StepResult, type Outcome, type EnvProperty } from "./sim/define.js";
+export type { FiniteModel, RewardVariant, Layout } from "./model/types.js";
+export { ModelBuilder } from "./model/builder.js";
+export { designerReward, expectedPerStateAction } from "./model/reward.js";
+export { learnerView, viewEnv, type LearnerView, type TabularEnv, type StepOut } from "./model/learner-view.js";
+export { loadEnv, loadEnvSync, loadScenario, resolveReward, builtinScenarioNames, type LoadedEnv, type ScenarioMeta } from "./model/registry.js";
+export { parseModelFile, loadModelFile, parseRewardFile, exportModel } from "./model/format.js";
+export * from "./solve/index.js";
+export { createRng, Xorshift32, type Rng } from "./rng/rng.js";
+export { GapwatchError, InputError, EXIT, formatError } from "./errors.js";
+export { runCli } from "./cli/program.js";
+export { listEnvs } from "./cli/commands/envs.js";
+export { runSolve } from "./cli/commands/solve.js";

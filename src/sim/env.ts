@@ -1,0 +1,67 @@
+/**
+ * A simulator module as a `TabularEnv` for learners: states get integer ids as they are discovered
+ * (by key), the designer reward is the variant's weighted sum of the step's features, and intent is
+ * dropped here (the monitor reads it separately through `moduleRollout`).
+ */
+import { InputError } from "../errors.js";
+import type { StepOut, TabularEnv } from "../model/learner-view.js";
+import type { Rng } from "../rng/rng.js";
+import { checkNumbers, guard } from "./compile.js";
+import { canonicalKey, DEFAULT_MODULE_HORIZON, type EnvDefinition } from "./define.js";
+
+export interface ModuleEnv<S> extends TabularEnv {
+  /** The state behind an id (for the monitor's rollouts). */
+  stateOf(id: number): S;
+  idOf(state: S): number;
+}
+
+export function moduleTabularEnv<S>(def: EnvDefinition<S>, weights: Record<string, number>, source: string): ModuleEnv<S> {
+  const ids = new Map<string, number>();
+  const states: S[] = [];
+  const w = def.features.map((f) => weights[f] ?? 0);
+  let steps = 0;
+  const idOf = (s: S): number => {
+    const k = def.key ? def.key(s) : canonicalKey(s);
+    let id = ids.get(k);
+    if (id === undefined) {
+      id = states.length;
+      ids.set(k, id);
+      states.push(s);
+    }
+    return id;
+  };
+  const obsDim = def.observe ? guard(source, "observe()", () => def.observe!(def.reset(createProbe()))).length : undefined;
+  return {
+    name: def.name,
+    nActions: def.actions.length,
+    actions: def.actions,
+    horizon: def.horizon ?? DEFAULT_MODULE_HORIZON,
+    stateCapacity: () => Math.max(16, states.length),
+    reset: (rng: Rng) => idOf(guard(source, "reset()", () => def.reset(rng))),
+    step(s: number, a: number, rng: Rng, out: StepOut) {
+      steps++;
+      if (a < 0 || a >= def.actions.length || !Number.isInteger(a)) throw new InputError("module.action", `invalid action ${a}`, source);
+      const r = guard(source, `step ${steps} (state ${canonicalKey(states[s])}, action ${def.actions[a]})`, () => def.step(states[s], a, rng));
+      checkNumbers(source, `step ${steps}`, r.features, r.intent, def.features);
+      let reward = 0;
+      for (let f = 0; f < w.length; f++) if (w[f] !== 0) reward += w[f] * (r.features[def.features[f]] ?? 0);
+      out.next = idOf(r.state);
+      out.reward = reward;
+      out.terminated = Boolean(r.terminated);
+    },
+    obsDim,
+    observe: def.observe
+      ? (s: number, out: Float64Array) => {
+          const o = def.observe!(states[s]);
+          for (let i = 0; i < o.length; i++) out[i] = o[i];
+        }
+      : undefined,
+    stateOf: (id: number) => states[id],
+    idOf,
+  };
+}
+
+import { createRng } from "../rng/rng.js";
+function createProbe(): Rng {
+  return createRng("observe-probe");
+}

@@ -1,0 +1,62 @@
+/**
+ * Load a simulator module (`--env ./my-env.ts` or `.js`). TypeScript loads without a build step (tsx).
+ * The default export must come from `defineEnv`; it is validated, then compiled to a finite model when
+ * it allows (see compile.ts).
+ */
+import { pathToFileURL } from "node:url";
+import { InputError } from "../errors.js";
+import type { LoadedEnv } from "../model/registry.js";
+import { compileModule } from "./compile.js";
+import { DEFAULT_MAX_STATES, type EnvDefinition } from "./define.js";
+
+export interface SimulatorHandle {
+  def: EnvDefinition<unknown>;
+  source: string;
+}
+
+let maxStates = DEFAULT_MAX_STATES;
+/** Set the state bound for compiling modules (`--max-states`). */
+export function setMaxStates(n: number): void {
+  maxStates = n;
+}
+
+export async function importModule(file: string): Promise<unknown> {
+  const url = pathToFileURL(file).href;
+  try {
+    if (/\.m?ts$/i.test(file)) {
+      const { tsImport } = await import("tsx/esm/api");
+      return await tsImport(url, import.meta.url);
+    }
+    return await import(url);
+  } catch (e) {
+    throw new InputError("module.load", `cannot load simulator module: ${(e as Error)?.message ?? String(e)}`, file);
+  }
+}
+
+export function validateDefinition(value: unknown, file: string): EnvDefinition<unknown> {
+  const mod = value as { default?: unknown };
+  let def = (mod && typeof mod === "object" && "default" in mod ? mod.default : value) as Record<string, unknown> | undefined;
+  // tsx may wrap a CommonJS-style default twice.
+  if (def && typeof def === "object" && "default" in def && !("step" in def)) def = def.default as Record<string, unknown>;
+  const fail = (key: string, msg: string) => {
+    throw new InputError("module.contract", `${msg}; export default defineEnv({ name, actions, features, reset, step })`, `${file} default.${key}`);
+  };
+  if (!def || typeof def !== "object") fail("", "the module has no default export");
+  const d = def as Record<string, unknown>;
+  if (typeof d.name !== "string" || d.name === "") fail("name", "name must be a non-empty string");
+  if (!Array.isArray(d.actions) || d.actions.length === 0 || !d.actions.every((a) => typeof a === "string")) fail("actions", "actions must be a non-empty list of strings");
+  if (!Array.isArray(d.features) || !d.features.every((a) => typeof a === "string")) fail("features", "features must be a list of strings");
+  if (typeof d.reset !== "function") fail("reset", "reset must be a function (rng) => state");
+  if (typeof d.step !== "function") fail("step", "step must be a function (state, action, rng) => { state, features, intent, terminated }");
+  if (d.horizon !== undefined && !(Number.isInteger(d.horizon) && (d.horizon as number) > 0)) fail("horizon", "horizon must be a positive integer");
+  if (d.gamma !== undefined && !(typeof d.gamma === "number" && d.gamma > 0 && d.gamma <= 1)) fail("gamma", "gamma must be in (0, 1]");
+  for (const k of ["key", "observe", "transitions", "starts"]) if (d[k] !== undefined && typeof d[k] !== "function") fail(k, `${k} must be a function`);
+  return d as unknown as EnvDefinition<unknown>;
+}
+
+export async function loadModuleEnv(file: string): Promise<LoadedEnv> {
+  const def = validateDefinition(await importModule(file), file);
+  const model = compileModule(def, { maxStates, source: file }) ?? undefined;
+  const simulator: SimulatorHandle = { def, source: file };
+  return { model: model ? { ...model, source: file } : undefined, simulator, kind: "module", spec: file };
+}
