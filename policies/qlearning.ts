@@ -46,6 +46,8 @@ export function resolveQLearning(partial: Partial<QLearningConfig> = {}): QLearn
 export class QLearningSession extends TabularRateSession {
   readonly agent: Agent;
   private readonly view: LearnerView | null;
+  /** True when the view has four actions and one outcome per pair (grids such as the benchmark's). */
+  private readonly deterministic4: boolean;
 
   constructor(env: TabularEnv, config: QLearningConfig, opts: TrainOptions) {
     super(env, config, opts);
@@ -53,10 +55,12 @@ export class QLearningSession extends TabularRateSession {
     const v = (env as { view?: LearnerView }).view;
     const fast = config.fastPath && v !== undefined && this.alphaConst !== undefined && this.epsilonConst !== undefined;
     this.view = fast && v.nStates <= this.capacity ? v : null;
+    this.deterministic4 = this.view !== null && this.nA === 4 && isDeterministic(this.view);
   }
 
   advance(n: number, episodeLimit: number): number {
-    return this.view ? this.advanceView(this.view, n, episodeLimit) : this.advanceGeneric(n, episodeLimit);
+    if (this.view === null) return this.advanceGeneric(n, episodeLimit);
+    return this.deterministic4 ? this.advanceDeterministic4(this.view, n, episodeLimit) : this.advanceView(this.view, n, episodeLimit);
   }
 
   /** The generic loop: any TabularEnv, any schedules. */
@@ -167,6 +171,87 @@ export class QLearningSession extends TabularRateSession {
     this.ret = ret;
     return i;
   }
+
+  /**
+   * The benchmark's case: four actions, one outcome per (s, a), constant α and ε. Same arithmetic and
+   * draws as `advanceView`, with the argmax / max unrolled and no sampling code in the loop (V8 keeps
+   * this loop about 1.5-2x faster than the general one; measured on the 32x32 benchmark grid).
+   */
+  private advanceDeterministic4(view: LearnerView, n: number, episodeLimit: number): number {
+    const { horizon, rng, stats } = this;
+    const q = this.q;
+    const saStart = view.saStart;
+    const next = view.next;
+    const rew = view.reward;
+    const term = view.terminal;
+    const gamma = this.config.gamma;
+    const alpha = this.alphaConst as number;
+    const threshold = (this.epsilonConst as number) * TWO32;
+    let s = this.s;
+    let t = this.t;
+    let ret = this.ret;
+    let i = 0;
+    for (; i < n; i++) {
+      const base = s << 2;
+      let a = 0;
+      if (rng.uint32() < threshold) {
+        a = rng.uint32() >>> 30; // = floor(u2 · 4 / 2^32)
+      } else {
+        let m = q[base];
+        if (q[base + 1] > m) {
+          m = q[base + 1];
+          a = 1;
+        }
+        if (q[base + 2] > m) {
+          m = q[base + 2];
+          a = 2;
+        }
+        if (q[base + 3] > m) a = 3;
+      }
+      const sa = base + a;
+      const o = saStart[sa];
+      const sp = next[o];
+      const r = rew[o];
+      const done = term[sp] === 1;
+      let target = r;
+      if (!done) {
+        const nb = sp << 2;
+        let m = q[nb];
+        if (q[nb + 1] > m) m = q[nb + 1];
+        if (q[nb + 2] > m) m = q[nb + 2];
+        if (q[nb + 3] > m) m = q[nb + 3];
+        target = r + gamma * m;
+      }
+      const qsa = q[sa];
+      q[sa] = qsa + alpha * (target - qsa);
+      t++;
+      ret += r;
+      if (done || t === horizon) {
+        this.s = sp;
+        this.t = t;
+        this.ret = ret;
+        this.endEpisode(done, sp);
+        s = this.s;
+        t = 0;
+        ret = 0;
+        if (stats.episodes >= episodeLimit) {
+          i++;
+          break;
+        }
+      } else s = sp;
+    }
+    stats.steps += i;
+    this.s = s;
+    this.t = t;
+    this.ret = ret;
+    return i;
+  }
+}
+
+/** True when every (s, a) of the view has exactly one outcome (no environment draws at all). */
+export function isDeterministic(view: LearnerView): boolean {
+  const k = view.nStates * view.nActions;
+  return view.saStart[k] === k;
 }
 
 /** Train Q-learning for `opts.steps` environment steps (see `drive` for checkpoints and stopping). */
