@@ -1,0 +1,116 @@
+import { describe, expect, it } from "vitest";
+import { memoryIO } from "../../src/cli/io.js";
+import { runCli } from "../../src/cli/program.js";
+import { builtinScenarioNames, readScenarioMeta } from "../../src/model/registry.js";
+
+async function cli(...argv: string[]) {
+  const io = memoryIO();
+  const code = await runCli(argv, io);
+  return { code, out: io.stdout, err: io.stderr };
+}
+
+describe("gapwatch envs", () => {
+  it("lists the four built-in scenarios as one JSON document", async () => {
+    const r = await cli("envs", "--json");
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.out);
+    expect(doc.envs.map((e: { name: string }) => e.name).sort()).toEqual(builtinScenarioNames());
+    expect(doc.envs.length).toBeGreaterThanOrEqual(4);
+    for (const e of doc.envs) {
+      expect(Object.keys(e).sort()).toEqual(["actions", "description", "family", "features", "name", "rewards", "states"]);
+      expect(e.states).toBeGreaterThan(0);
+    }
+    const families = new Set(doc.envs.map((e: { family: string }) => e.family));
+    expect(families).toEqual(new Set(["grid", "track"]));
+  });
+});
+
+describe("gapwatch solve", () => {
+  // The project's acceptance rule (issue "Foundation"): gaming variants give up >= 30% of the achievable
+  // intent range above random, sound ones <= 2%, computed exactly.
+  for (const name of builtinScenarioNames()) {
+    const meta = readScenarioMeta(name);
+    for (const v of meta.gaming) {
+      it(`${name}/${v} (gaming) regretNorm >= 0.30 through the CLI`, async () => {
+        const r = await cli("solve", "--env", name, "--reward", v, "--json");
+        expect(r.code).toBe(0);
+        const doc = JSON.parse(r.out);
+        expect(doc.regretNorm).toBeGreaterThanOrEqual(0.3);
+        expect(doc.designerOptimal.values).toHaveLength(doc.states);
+        expect(doc.intentOptimal.policy).toHaveLength(doc.states);
+        expect(doc.regret).toBeCloseTo(doc.intentOptimal.intent - doc.designerOptimal.intent, 12);
+      });
+    }
+    for (const v of meta.sound) {
+      it(`${name}/${v} (sound) regretNorm <= 0.02 through the CLI`, async () => {
+        const doc = JSON.parse((await cli("solve", "--env", name, "--reward", v, "--json")).out);
+        expect(doc.regretNorm).toBeLessThanOrEqual(0.02);
+      });
+    }
+  }
+
+  it("draws the route on the map in human output", async () => {
+    const r = await cli("solve", "--env", "greenhouse-rounds");
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/designer-optimal route:/);
+    expect(r.out).toMatch(/[↑→↓←]/);
+    expect(r.out).toMatch(/evidence, not certification/);
+  });
+
+  it("solves a hand-written model file of Sutton & Barto's 4x4 gridworld", async () => {
+    // Sutton & Barto 2018, Example 4.1: v*(s) = -(steps to the nearest terminal corner) under reward -1, gamma 1.
+    const doc = JSON.parse((await cli("solve", "--env", "tests/fixtures/models/sb-4x4.json", "--json")).out);
+    const vstar = doc.designerOptimal.values as number[];
+    expect(vstar.length).toBeGreaterThanOrEqual(15);
+    expect(Math.min(...vstar)).toBeCloseTo(-3, 9);
+  });
+});
+
+describe("bad input", () => {
+  const bad = ["bad-json", "bad-format", "bad-probability-sum", "bad-missing-transition", "bad-unknown-key"];
+  for (const f of bad) {
+    it(`${f}.json: one line on stderr, exit 2, nothing on stdout`, async () => {
+      const r = await cli("solve", "--env", `tests/fixtures/models/${f}.json`, "--json");
+      expect(r.code).toBe(2);
+      expect(r.out).toBe("");
+      expect(r.err.trimEnd().split("\n")).toHaveLength(1);
+      expect(r.err).toContain(`${f}.json`);
+      expect(r.err).not.toMatch(/\n\s+at /);
+    });
+  }
+  it("an unknown scenario names the choices", async () => {
+    const r = await cli("solve", "--env", "nowhere");
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/unknown environment "nowhere"/);
+  });
+  it("an unknown reward variant names the known ones", async () => {
+    const r = await cli("solve", "--env", "ridge-survey", "--reward", "nope");
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/known: /);
+  });
+  it("an unknown option gets a hint and exit 2", async () => {
+    const r = await cli("solve", "--env", "ridge-survey", "--rewrd", "x");
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/--reward/);
+  });
+});
+
+describe("gapwatch export", () => {
+  it("exports every scenario as a model file that solves to the same regret", async () => {
+    const { mkdtempSync, writeFileSync } = await import("node:fs");
+    const { tmpdir } = await import("node:os");
+    const { join } = await import("node:path");
+    const dir = mkdtempSync(join(tmpdir(), "gw-export-"));
+    for (const name of builtinScenarioNames()) {
+      const ex = await cli("export", "--env", name);
+      expect(ex.code).toBe(0);
+      const file = join(dir, `${name}.json`);
+      writeFileSync(file, ex.out);
+      const meta = readScenarioMeta(name);
+      const v = meta.gaming[0];
+      const a = JSON.parse((await cli("solve", "--env", name, "--reward", v, "--json")).out);
+      const b = JSON.parse((await cli("solve", "--env", file, "--reward", v, "--json")).out);
+      expect(b.regret).toBeCloseTo(a.regret, 9);
+    }
+  });
+});
