@@ -7,7 +7,7 @@ export { ModelBuilder } from "./model/builder.js";
 export { designerReward, expectedPerStateAction } from "./model/reward.js";
 export { learnerView, viewEnv, type LearnerView, type TabularEnv, type StepOut } from "./model/learner-view.js";
 export { loadEnv, loadEnvSync, loadScenario, resolveReward, builtinScenarioNames, type LoadedEnv, type ScenarioMeta } from "./model/registry.js";
-export { parseModelFile, loadModelFile, parseRewardFile, exportModel } from "./model/format.js";
+export { parseModelFile, loadModelFile, parseRewardFile, exportModel, formatModelDocument, DEFAULT_HORIZON, MODEL_FORMAT, REWARD_FORMAT, type ModelDocument } from "./model/format.js";
 export * from "./solve/index.js";
 export { createRng, Xorshift32, type Rng } from "./rng/rng.js";
 export { GapwatchError, InputError, EXIT, formatError } from "./errors.js";

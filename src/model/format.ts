@@ -157,34 +157,40 @@ export function jsonPath(path: Path): string {
   return out;
 }
 
+/** Edit distance counting an adjacent transposition as one edit (optimal string alignment). */
 function editDistance(a: string, b: string): number {
   const m = a.length;
   const n = b.length;
-  let prev = Array.from({ length: n + 1 }, (_, j) => j);
+  const d: number[][] = Array.from({ length: m + 1 }, (_, i) => Array.from({ length: n + 1 }, (_, j) => (i === 0 ? j : j === 0 ? i : 0)));
   for (let i = 1; i <= m; i++) {
-    const cur = [i];
     for (let j = 1; j <= n; j++) {
-      cur[j] = Math.min(prev[j] + 1, cur[j - 1] + 1, prev[j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
+      d[i][j] = Math.min(d[i - 1][j] + 1, d[i][j - 1] + 1, d[i - 1][j - 1] + (a[i - 1] === b[j - 1] ? 0 : 1));
+      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1]) d[i][j] = Math.min(d[i][j], d[i - 2][j - 2] + 1);
     }
-    prev = cur;
   }
-  return prev[n];
+  return d[m][n];
 }
 
-/** The closest candidate to `word` when it is a near miss (case-insensitive, or a few edits away). */
+/**
+ * The closest candidate to `word` when it is a near miss: same up to case, a few edits away (about one
+ * per three characters), or else the longest candidate that `word` starts with ("prob" -> "p").
+ */
 export function didYouMean(word: string, candidates: readonly string[]): string | undefined {
   let best: string | undefined;
   let bestD = Infinity;
   const w = word.toLowerCase();
   for (const c of candidates) {
-    const d = c.toLowerCase() === w ? 0 : editDistance(w, c.toLowerCase());
+    const d = editDistance(w, c.toLowerCase());
     if (d < bestD) {
       bestD = d;
       best = c;
     }
   }
   const limit = Math.max(1, Math.min(3, Math.floor(word.length / 3)));
-  return best !== undefined && bestD <= limit ? best : undefined;
+  if (best !== undefined && bestD <= limit) return best;
+  let prefix: string | undefined;
+  for (const c of candidates) if (c.length > 0 && w.startsWith(c.toLowerCase()) && (prefix === undefined || c.length > prefix.length)) prefix = c;
+  return prefix;
 }
 
 function hint(word: string, candidates: readonly string[]): string {
@@ -282,9 +288,13 @@ export function locateJsonError(text: string): Located | null {
         i++;
         return;
       }
+      let comma = -1;
       for (;;) {
         ws();
-        if (text[i] !== '"') err(text[i] === "}" ? "trailing comma before '}'" : `expected a property name in double quotes, found ${show(peek())}`);
+        if (text[i] !== '"') {
+          if (text[i] === "}" && comma >= 0) err("trailing comma before '}'; remove it", comma);
+          err(`expected a property name in double quotes, found ${show(peek())}`);
+        }
         str();
         ws();
         if (text[i] !== ":") err(`expected ':' after a property name, found ${show(peek())}`);
@@ -292,7 +302,7 @@ export function locateJsonError(text: string): Located | null {
         value(depth + 1);
         ws();
         if (text[i] === ",") {
-          i++;
+          comma = i++;
           continue;
         }
         if (text[i] === "}") {
@@ -309,13 +319,14 @@ export function locateJsonError(text: string): Located | null {
         i++;
         return;
       }
+      let comma = -1;
       for (;;) {
         ws();
-        if (text[i] === "]") err("trailing comma before ']'");
+        if (text[i] === "]" && comma >= 0) err("trailing comma before ']'; remove it", comma);
         value(depth + 1);
         ws();
         if (text[i] === ",") {
-          i++;
+          comma = i++;
           continue;
         }
         if (text[i] === "]") {
