@@ -5,14 +5,15 @@
  *  - vi: `valueSweeps`, the sweeps of `valueIteration`. The expected-reward table is built before the
  *    clock starts; the action values and greedy policy that `valueIteration` adds afterwards are
  *    computed after it stops (same functions, same results).
- *  - ql: the STEPS loop of `trainTabularQ`. Model building, Q allocation, checksums, rollout are outside.
+ *  - ql: one call of `trainQLearning` (policies/qlearning.ts) for STEPS steps: the step loop plus the
+ *    learner's session set-up (allocating its S x 4 table and counters, O(S), negligible at 32x32).
+ *    Model building, the learner view, checksums and the rollout are outside.
  */
-import { learnerView } from "../model/learner-view.js";
 import { Xorshift32 } from "../rng/rng.js";
 import { actionValues, expectedReward, greedyActions, valueSweeps } from "../solve/dp.js";
 import { argmaxRow, greedyRollout, qlCheckLine, viCheckLine } from "./check.js";
 import { KIND_GOAL, KIND_LAVA, LAVA_GAMMA, lavaModel, type LavaProblem } from "./lava.js";
-import { trainTabularQ } from "./ql.js";
+import { benchQEnv, trainBenchQ } from "./ql.js";
 
 export const QL_ALPHA = 0.1;
 export const QL_GAMMA = 0.99;
@@ -45,11 +46,10 @@ export function runLavaVi(W: number, H: number, clock: Clock = hrClock, problem:
 
 export function runLavaQl(W: number, H: number, steps = QL_STEPS, seed = QL_SEED, clock: Clock = hrClock, problem: LavaProblem = lavaModel(W, H)): Measured {
   const { model, reward, kind } = problem;
-  const view = learnerView(model, reward);
+  const env = benchQEnv(model, reward);
   const rng = new Xorshift32(seed);
-  const q = new Float64Array(model.nStates * model.nActions);
   const t0 = clock();
-  const res = trainTabularQ(view, rng, { steps, alpha: QL_ALPHA, gamma: QL_GAMMA, epsilon: QL_EPSILON, cap: problem.cap }, rng, q);
+  const res = trainBenchQ(env, rng, { steps, alpha: QL_ALPHA, gamma: QL_GAMMA, epsilon: QL_EPSILON });
   const seconds = clock() - t0;
   let goals = 0;
   let hazards = 0;
