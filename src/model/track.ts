@@ -104,7 +104,7 @@ export interface TrackSpec {
 }
 
 function fail(key: string, message: string, source: string): never {
-  throw new InputError(`track.${key.replace(/\[.*$/, "")}`, message, `${source} $.${key}`);
+  throw new InputError(`track.${key.replace(/[[.].*$/, "")}`, message, `${source} $.${key}`);
 }
 
 function isInt(x: unknown): x is number {
