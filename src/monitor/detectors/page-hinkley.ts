@@ -87,6 +87,22 @@ export class PageHinkley {
   get mean(): number {
     return this.runningMean;
   }
+  /** Upward cumulative sum m_T. */
+  get sumUp(): number {
+    return this.sumInc;
+  }
+  /** Running minimum M_T of the upward sum (+Infinity before the first observation). */
+  get minUp(): number {
+    return this.minInc;
+  }
+  /** Downward cumulative sum m'_T. */
+  get sumDown(): number {
+    return this.sumDec;
+  }
+  /** Running maximum M'_T of the downward sum (-Infinity before the first observation). */
+  get maxDown(): number {
+    return this.maxDec;
+  }
 
   update(x: number): PageHinkleyStep {
     const { delta, lambda, alpha, minInstances, direction } = this.params;
