@@ -1,0 +1,141 @@
+/**
+ * Invariants of the exact solvers (src/solve/dp.ts) on random small MDPs (fast-check).
+ * Sources: Bellman optimality and the policy improvement theorem (Sutton & Barto 2018, sections 3.6,
+ * 4.2-4.4; Puterman 1994, Theorem 6.2.2 "v* >= v_pi for every policy", from memory).
+ */
+import fc from "fast-check";
+import { describe, expect, it } from "vitest";
+import { ModelBuilder } from "../../src/model/builder.js";
+import type { FiniteModel } from "../../src/model/types.js";
+import { deterministicPolicy, evaluatePolicy, policyIteration, valueIteration } from "../../src/solve/dp.js";
+
+interface Mdp {
+  model: FiniteModel;
+  reward: Float64Array;
+  gamma: number;
+}
+
+/**
+ * Random MDP: 2..6 states (state 0 never terminal), 1..4 actions, 1..3 outcomes per pair; half of
+ * them deterministic (first outcome only), so the deterministic fast paths (incl. the unrolled
+ * 4-action sweep) are exercised as well as the general one.
+ */
+const mdpArb: fc.Arbitrary<Mdp> = fc
+  .record({ nS: fc.integer({ min: 2, max: 6 }), nA: fc.integer({ min: 1, max: 4 }), det: fc.boolean(), gamma: fc.double({ min: 0.5, max: 0.95, noNaN: true }) })
+  .chain(({ nS, nA, det, gamma }) =>
+    fc.record({
+      nS: fc.constant(nS),
+      nA: fc.constant(nA),
+      det: fc.constant(det),
+      gamma: fc.constant(gamma),
+      terminal: fc.array(fc.boolean(), { minLength: nS, maxLength: nS }),
+      pairs: fc.array(
+        fc.array(
+          fc.record({
+            next: fc.integer({ min: 0, max: nS - 1 }),
+            weight: fc.integer({ min: 1, max: 5 }),
+            reward: fc.double({ min: -1, max: 1, noNaN: true }),
+          }),
+          { minLength: 1, maxLength: 3 },
+        ),
+        { minLength: nS * nA, maxLength: nS * nA },
+      ),
+    }),
+  )
+  .map(({ nS, nA, det, gamma, terminal, pairs }) => {
+    const b = new ModelBuilder({ name: "random", nStates: nS, actions: Array.from({ length: nA }, (_, a) => `a${a}`), features: ["r"], gamma, horizon: 100 });
+    for (let s = 1; s < nS; s++) if (terminal[s]) b.setTerminal(s);
+    for (let k = 0; k < nS * nA; k++) {
+      const outs = det ? pairs[k].slice(0, 1) : pairs[k];
+      const total = outs.reduce((acc, o) => acc + o.weight, 0);
+      for (const o of outs) b.addOutcome(Math.floor(k / nA), k % nA, o.next, o.weight / total, [o.reward]);
+    }
+    b.setStart(0, 1);
+    const model = b.build();
+    return { model, reward: Float64Array.from(model.featureValues), gamma };
+  });
+
+const TOL = 1e-12;
+const close = (a: Float64Array, b: Float64Array, eps: number) => a.every((x, i) => Math.abs(x - b[i]) <= eps);
+
+describe("exact solvers on random finite MDPs", () => {
+  it("policy iteration and value iteration agree on v* (Sutton & Barto 2018, sections 4.3-4.4)", () => {
+    fc.assert(
+      fc.property(mdpArb, ({ model, reward }) => {
+        const vi = valueIteration(model, reward, { tol: TOL });
+        const pi = policyIteration(model, reward, { tol: TOL });
+        expect(vi.converged && pi.converged).toBe(true);
+        expect(close(vi.values, pi.values, 1e-8)).toBe(true);
+      }),
+      { numRuns: 150 },
+    );
+  });
+
+  it("v* dominates the value of every sampled deterministic policy (Puterman 1994, Thm 6.2.2, from memory)", () => {
+    fc.assert(
+      fc.property(mdpArb, fc.array(fc.nat(), { minLength: 6, maxLength: 6 }), ({ model, reward }, choice) => {
+        const vstar = valueIteration(model, reward, { tol: TOL }).values;
+        const actions = Int32Array.from({ length: model.nStates }, (_, s) => (model.terminal[s] ? -1 : choice[s] % model.nActions));
+        const v = evaluatePolicy(model, reward, deterministicPolicy(model, actions), { tol: TOL }).values;
+        for (let s = 0; s < model.nStates; s++) expect(v[s]).toBeLessThanOrEqual(vstar[s] + 1e-8);
+      }),
+      { numRuns: 150 },
+    );
+  });
+
+  it("evaluating the greedy policy of value iteration gives value iteration's values (Sutton & Barto 2018, section 4.4)", () => {
+    fc.assert(
+      fc.property(mdpArb, ({ model, reward }) => {
+        const vi = valueIteration(model, reward, { tol: TOL });
+        const ev = evaluatePolicy(model, reward, deterministicPolicy(model, vi.policy), { tol: TOL });
+        expect(close(ev.values, vi.values, 1e-8)).toBe(true);
+      }),
+      { numRuns: 150 },
+    );
+  });
+
+  it("in-place (Gauss-Seidel) and synchronous sweeps agree at convergence (Sutton & Barto 2018, section 4.1)", () => {
+    fc.assert(
+      fc.property(mdpArb, ({ model, reward }) => {
+        const sync = valueIteration(model, reward, { tol: TOL });
+        const inPlace = valueIteration(model, reward, { tol: TOL, inPlace: true });
+        expect(close(sync.values, inPlace.values, 1e-8)).toBe(true);
+        const uniform = new Float64Array(model.nStates * model.nActions).fill(1 / model.nActions);
+        const e1 = evaluatePolicy(model, reward, uniform, { tol: TOL });
+        const e2 = evaluatePolicy(model, reward, uniform, { tol: TOL, inPlace: true });
+        expect(close(e1.values, e2.values, 1e-8)).toBe(true);
+      }),
+      { numRuns: 150 },
+    );
+  });
+
+  it("the deterministic fast path equals the general path (same model with each outcome split in two halves)", () => {
+    // Splitting an outcome p into p/2 + p/2 to the same next state leaves the MDP unchanged
+    // (Sutton & Barto 2018, eq. 3.2: p(s', r | s, a) is all that matters).
+    fc.assert(
+      fc.property(mdpArb, ({ model, reward, gamma }) => {
+        const nA = model.nActions;
+        const b = new ModelBuilder({ name: "split", nStates: model.nStates, actions: model.actions, features: ["r"], gamma, horizon: 100 });
+        for (let s = 0; s < model.nStates; s++) {
+          if (model.terminal[s]) {
+            b.setTerminal(s);
+            continue;
+          }
+          for (let a = 0; a < nA; a++) {
+            const k = s * nA + a;
+            for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) {
+              b.addOutcome(s, a, model.next[o], model.prob[o] / 2, [reward[o]]);
+              b.addOutcome(s, a, model.next[o], model.prob[o] / 2, [reward[o]]);
+            }
+          }
+        }
+        b.setStart(0, 1);
+        const split = b.build();
+        const v1 = valueIteration(model, reward, { tol: TOL }).values;
+        const v2 = valueIteration(split, Float64Array.from(split.featureValues), { tol: TOL }).values;
+        expect(close(v1, v2, 1e-8)).toBe(true);
+      }),
+      { numRuns: 100 },
+    );
+  });
+});
