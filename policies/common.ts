@@ -4,7 +4,7 @@
  * options / result types, and the driver that runs a learner's step loop in chunks between checkpoints.
  *
  * Learners see only a `TabularEnv` (src/model/learner-view.ts). Nothing under policies/ may import the
- * model types' intent, the solvers, the monitor, the audit or the pressure code; a test checks it.
+ * model types' held-out score, the solvers, the monitor, the audit or the pressure code; a test checks it.
  */
 import type { Rng } from "../src/rng/rng.js";
 import type { TabularEnv } from "../src/model/learner-view.js";
