@@ -409,12 +409,18 @@ function howardComponent(sub: Sub, maxIters: number): LocalCycle | null {
         const c0 = pos[u];
         let sum = 0;
         for (let i = c0; i < sp; i++) sum += weight[pol[stack[i]]];
-        const mu = sum / (sp - c0);
-        x[u] = 0;
-        eta[u] = mu;
-        done[u] = 1;
-        for (let i = sp - 1; i > c0; i--) {
-          const w = stack[i];
+        const L = sp - c0;
+        const mu = sum / L;
+        // Handle: the smallest vertex of the cycle, so an unchanged cycle keeps the same potentials
+        // between rounds (what the termination argument of Howard's method relies on).
+        let ih = 0;
+        for (let i = 1; i < L; i++) if (stack[c0 + i] < stack[c0 + ih]) ih = i;
+        const h = stack[c0 + ih];
+        x[h] = 0;
+        eta[h] = mu;
+        done[h] = 1;
+        for (let j = 1; j < L; j++) {
+          const w = stack[c0 + ((ih - j + L) % L)];
           eta[w] = mu;
           x[w] = weight[pol[w]] - mu + x[to[pol[w]]];
           done[w] = 1;

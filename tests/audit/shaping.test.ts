@@ -310,6 +310,19 @@ describe("a positive bonus around a 2-cycle (the loop the paper warns about)", (
     expect(intent(b.policy)).toBe(0);
   });
 
+  it("gamma = 1: a closed loop that never reaches a terminal gets Phi up to a constant (freeComponents = 1)", () => {
+    // States 0 <-> 1 loop forever, 2 is a terminal nobody reaches. Phi = (3, 5) gives F(0->1) = 2, F(1->0) = -2.
+    const b = new ModelBuilder({ name: "closed", nStates: 3, actions: ["go"], features: ["f"], gamma: 1, horizon: 5 });
+    b.addOutcome(0, 0, 1, 1, [2]).addOutcome(1, 0, 0, 1, [-2]).setTerminal(2).setStart(0, 1);
+    const m = b.build();
+    const chk = checkPotentialShaping(m, designerReward(m, { name: "f", weights: { f: 1 } }));
+    expect(chk.potentialBased).toBe(true);
+    if (chk.potentialBased) {
+      expect(chk.freeComponents).toBe(1);
+      expect(chk.phi[1] - chk.phi[0]).toBe(2);
+    }
+  });
+
   it("the same bonus written as a potential (Phi(A) = 0, Phi(B) = 1) is accepted at gamma = 1", () => {
     // F(A->B) = 1, F(B->A) = -1, F(.->Goal) = -Phi(s): the cycle sums to 0.
     const m = twoCycle(1);
