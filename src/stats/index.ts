@@ -7,3 +7,4 @@ export * from "./wilson.js";
 export * from "./rank.js";
 export * from "./ttest.js";
 export * from "./normal.js";
+export * from "./student.js";

@@ -4,7 +4,8 @@
  * - Kendall tau-b: (P - Q) / sqrt((P + Q + T)(P + Q + U)), P/Q concordant/discordant pairs, T pairs tied
  *   only in x, U pairs tied only in y (pairs tied in both count in neither);
  * - Kendall tau-c (Stuart): 2(P - Q) / (n^2 (m - 1) / m), m = min(#distinct x, #distinct y);
- * - the asymptotic two-sided p-value of tau-b with scipy's tie-corrected variance.
+ * - asymptotic two-sided p-values: tau-b with scipy's tie-corrected normal variance; rho through
+ *   t = rho * sqrt((n - 2) / (1 - rho^2)) with n - 2 degrees of freedom (scipy `spearmanr`).
  * A constant input gives NaN (the correlation is undefined), as scipy does.
  *
  * `RunningRankCorrelation` follows a growing paired series (for instance designer return vs intent
@@ -13,6 +14,7 @@
  */
 import { InputError } from "../errors.js";
 import { normalTwoSidedP } from "./normal.js";
+import { studentTwoSidedP } from "./student.js";
 import type { Sample } from "./summary.js";
 
 function checkPaired(x: Sample, y: Sample, what: string): void {
@@ -74,6 +76,16 @@ export function pearson(x: Sample, y: Sample): number {
 export function spearman(x: Sample, y: Sample): number {
   checkPaired(x, y, "spearman");
   return pearson(averageRanks(x), averageRanks(y));
+}
+
+/** Spearman rho with its asymptotic two-sided p-value (t distribution, n - 2 df, as scipy). */
+export function spearmanTest(x: Sample, y: Sample): { rho: number; t: number; df: number; p: number } {
+  const rho = spearman(x, y);
+  const df = x.length - 2;
+  if (Number.isNaN(rho) || df < 1) return { rho, t: NaN, df, p: NaN };
+  if (Math.abs(rho) === 1) return { rho, t: rho * Infinity, df, p: 0 };
+  const t = rho * Math.sqrt(df / (1 - rho * rho));
+  return { rho, t, df, p: studentTwoSidedP(t, df) };
 }
 
 /** Pair counts behind Kendall's tau. */

@@ -4,9 +4,10 @@
  *   df = n1 + n2 - 2;
  * - Welch (unequal variances): se = sqrt(s1^2/n1 + s2^2/n2), t = (m1-m2)/se, Welch-Satterthwaite
  *   df = se^4 / ((s1^2/n1)^2/(n1-1) + (s2^2/n2)^2/(n2-1)).
- * p-values are not computed here (no t CDF in this module).
+ * Two-sided p-values from the Student t distribution (student.ts), df may be fractional.
  */
 import { InputError } from "../errors.js";
+import { studentTwoSidedP } from "./student.js";
 import { mean, sampleSd, type Sample } from "./summary.js";
 
 export interface GroupSummary {
@@ -24,6 +25,8 @@ export interface TStatistic {
   readonly df: number;
   /** Standard error of the difference of means. */
   readonly se: number;
+  /** Two-sided p-value P(|T_df| > |t|). */
+  readonly p: number;
   /** Pooled standard deviation (pooled method only). */
   readonly sp?: number;
 }
@@ -45,7 +48,8 @@ export function welchT(a: GroupSummary, b: GroupSummary): TStatistic {
   const vb = (b.sd * b.sd) / b.n;
   const se = Math.sqrt(va + vb);
   const df = ((va + vb) * (va + vb)) / ((va * va) / (a.n - 1) + (vb * vb) / (b.n - 1));
-  return { method: "welch", t: (a.mean - b.mean) / se, df, se };
+  const t = (a.mean - b.mean) / se;
+  return { method: "welch", t, df, se, p: studentTwoSidedP(t, df) };
 }
 
 export function pooledT(a: GroupSummary, b: GroupSummary): TStatistic {
@@ -54,7 +58,8 @@ export function pooledT(a: GroupSummary, b: GroupSummary): TStatistic {
   const df = a.n + b.n - 2;
   const sp = Math.sqrt(((a.n - 1) * a.sd * a.sd + (b.n - 1) * b.sd * b.sd) / df);
   const se = sp * Math.sqrt(1 / a.n + 1 / b.n);
-  return { method: "pooled", t: (a.mean - b.mean) / se, df, se, sp };
+  const t = (a.mean - b.mean) / se;
+  return { method: "pooled", t, df, se, p: studentTwoSidedP(t, df), sp };
 }
 
 /** t statistic of two raw samples by `method` (default "welch"). */

@@ -86,6 +86,18 @@ describe("probability of improvement (rliable probability_of_improvement)", () =
     expect(probabilityOfImprovementCI(X, Y, createRng(2), { reps: 1000 })).toEqual(ci);
   });
 
+  it("task bootstrap keeps task m of X paired with task m of Y", () => {
+    // Hand-computed: task 0 has P = 1, task 1 has P = 0. Resampling tasks jointly gives replicate
+    // means 0, 0.5, 1 w.p. 1/4, 1/2, 1/4, so the 40 % interval is [0.5, 0.5]. Drawing tasks
+    // separately for X and Y would mix columns and give [0.25, 0.75].
+    const x = scoreMatrix([[1, 0], [1, 0]]);
+    const y = scoreMatrix([[0, 1], [0, 1]]);
+    const ci = probabilityOfImprovementCI(x, y, createRng(3), { reps: 4000, confidence: 0.4, taskBootstrap: true });
+    expect(ci).toEqual({ point: 0.5, lower: 0.5, upper: 0.5 });
+    const wide = probabilityOfImprovementCI(x, y, createRng(3), { reps: 4000, taskBootstrap: true });
+    expect([wide.lower, wide.upper]).toEqual([0, 1]);
+  });
+
   it("mismatched task counts are a typed error", () => {
     expect(() => probabilityOfImprovement(X, scoreMatrix([[1, 2, 3]]))).toThrow(InputError);
   });

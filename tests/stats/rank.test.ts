@@ -9,6 +9,7 @@ import {
   kendallTauC,
   kendallTest,
   spearman,
+  spearmanTest,
 } from "../../src/stats/rank.js";
 
 describe("Spearman rho (REFERENCE_VALUES.md section 5)", () => {
@@ -17,6 +18,8 @@ describe("Spearman rho (REFERENCE_VALUES.md section 5)", () => {
     expect(Array.from(averageRanks([5, 6, 7, 8, 7]))).toEqual([1, 2, 3.5, 5, 3.5]);
     expect(spearman([1, 2, 3, 4, 5], [5, 6, 7, 8, 7])).toBeCloseTo(0.8207826816681233, 14);
     expect(spearman([1, 2, 3, 4, 5], [5, 6, 7, 8, 7])).toBeCloseTo(8 / Math.sqrt(95), 14);
+    // asymptotic two-sided p (t distribution, n - 2 df): 0.0885870053135438..., allow 1e-9 (section 5)
+    expect(Math.abs(spearmanTest([1, 2, 3, 4, 5], [5, 6, 7, 8, 7]).p - 0.0885870053135438)).toBeLessThan(1e-9);
   });
 
   it("without ties: Wikipedia IQ vs TV hours, rho = -29/165", () => {

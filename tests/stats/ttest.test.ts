@@ -12,6 +12,8 @@ describe("two-sample t statistics (NIST e-Handbook 1.3.5.3, AUTO83B; REFERENCE_V
     expect(r.df).toBe(326);
     expect(Math.abs(r.t - -12.62059)).toBeLessThan(5e-5);
     expect(Math.abs((r.sp ?? NaN) - 6.3426)).toBeLessThan(5e-5);
+    // two-sided p = 5.273e-30 (section 6, Boost example output)
+    expect(r.p / 5.273e-30).toBeCloseTo(1, 3);
   });
 
   it("Welch: t = -12.94627, df = 136.87499, SE = 0.798410", () => {
@@ -20,6 +22,8 @@ describe("two-sample t statistics (NIST e-Handbook 1.3.5.3, AUTO83B; REFERENCE_V
     expect(r.t).toBeCloseTo(-12.946267565658848, 9);
     expect(r.df).toBeCloseTo(136.8749900936937, 9);
     expect(Math.abs(r.se - 0.79841)).toBeLessThan(5e-6);
+    // two-sided p = 1.571e-25 (section 6)
+    expect(r.p / 1.571e-25).toBeCloseTo(1, 3);
   });
 
   it("raw samples: equal-size equal-variance groups give the same t for both methods (hand-derived)", () => {
