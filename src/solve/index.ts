@@ -1,2 +1,3 @@
 export * from "./dp.js";
 export * from "./compare.js";
+export * from "./soft.js";
