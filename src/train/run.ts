@@ -1,0 +1,270 @@
+/**
+ * One training run, start to finish: resolve the config, train the learner on the designer reward,
+ * score its greedy policy at every checkpoint (exact and/or Monte Carlo), run the monitor, and
+ * store everything in a run directory. Callable from the public API, batch workers and the CLI.
+ *
+ * Random streams, all derived from `config.seed` by name (src/rng/rng.ts `fork`), so adding draws in
+ * one never shifts another: exploration = seed/explore, environment = seed/env, evaluation =
+ * seed/evaluate.
+ */
+import { performance } from "node:perf_hooks";
+import { GapwatchError, InputError } from "../errors.js";
+import { learnerView, viewEnv } from "../model/learner-view.js";
+import { builtinScenarioNames, loadEnv, resolveReward, type LoadedEnv } from "../model/registry.js";
+import type { FiniteModel, RewardVariant } from "../model/types.js";
+import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferences, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
+import { Monitor, type Alert, type CheckpointRecord, type ScoreBounds } from "../monitor/monitor.js";
+import { createRng } from "../rng/rng.js";
+import { requireFinite } from "../sim/finite.js";
+import { defaultVariantName } from "../model/reward.js";
+import { RunWriter, runId as makeRunId } from "../store/run-store.js";
+import type { RunManifest, RunResult, RunStatus, RunSummary } from "../store/types.js";
+import { packageVersion } from "../util/paths.js";
+import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS, type TrainConfig, type TrainConfigInput } from "./config.js";
+import { getLearner } from "./learners.js";
+import type { Agent } from "../../policies/common.js";
+
+export interface Progress {
+  step: number;
+  steps: number;
+  episodes: number;
+  record: CheckpointRecord;
+  alerts: Alert[];
+}
+
+export interface RunOptions {
+  /** Root folder of run directories (the run goes to `<runsDir>/<run-id>/`). */
+  runsDir: string;
+  /** Set `aborted` (an AbortSignal works) to stop; the run is stored as "interrupted". */
+  signal?: { readonly aborted: boolean };
+  /** Called after every checkpoint. */
+  onProgress?: (p: Progress) => void;
+  /** Train synchronously (no event-loop yields between checkpoints); default false. */
+  sync?: boolean;
+}
+
+export interface ResolvedRun {
+  config: TrainConfig;
+  model: FiniteModel;
+  variant: RewardVariant;
+  /** Where the environment came from (built-in scenarios are cached per process). */
+  kind: LoadedEnv["kind"];
+}
+
+/**
+ * Built-in scenarios are package files, so their compiled models and score references are computed
+ * once per process and shared by every run on them (batch jobs and seed sweeps run many).
+ */
+const scenarioCache = new Map<string, LoadedEnv>();
+const referenceCache = new WeakMap<FiniteModel, Map<string, ScoreReferences>>();
+
+async function loadCached(spec: string): Promise<LoadedEnv> {
+  if (builtinScenarioNames().includes(spec)) {
+    let hit = scenarioCache.get(spec);
+    if (!hit) {
+      hit = await loadEnv(spec);
+      scenarioCache.set(spec, hit);
+    }
+    return hit;
+  }
+  return loadEnv(spec);
+}
+
+function cachedReferences(kind: LoadedEnv["kind"], model: FiniteModel, variant: RewardVariant): ScoreReferences {
+  if (kind !== "scenario") return scoreReferences(model, variant, model.gamma);
+  let byVariant = referenceCache.get(model);
+  if (!byVariant) referenceCache.set(model, (byVariant = new Map()));
+  const key = JSON.stringify(variant);
+  let refs = byVariant.get(key);
+  if (!refs) byVariant.set(key, (refs = scoreReferences(model, variant, model.gamma)));
+  return refs;
+}
+
+/** Fill every default of a config and load its environment and reward. Throws InputError on bad input. */
+export async function resolveTrainConfig(input: TrainConfigInput): Promise<ResolvedRun> {
+  if (!input.env) throw new InputError("config.env", "env is required (a built-in scenario name or a model file)", "--env");
+  const loaded = await loadCached(input.env);
+  const model = requireFinite(loaded, "train");
+  const variant = resolveReward(model, input.reward);
+  const learner = input.learner ?? TRAIN_DEFAULTS.learner;
+  getLearner(learner);
+  const checkpoints = input.checkpoints ?? TRAIN_DEFAULTS.checkpoints;
+  const steps = input.steps ?? defaultSteps(model, checkpoints, loaded.scenario?.trainSteps);
+  const config: TrainConfig = {
+    env: input.env,
+    reward: input.reward ?? variant.name ?? defaultVariantName(model) ?? "default",
+    learner,
+    steps,
+    seed: input.seed ?? TRAIN_DEFAULTS.seed,
+    checkpoints,
+    learnerParams: { ...defaultLearnerParams(learner, model, steps), ...(input.learnerParams ?? {}) },
+    evaluation: input.evaluation ?? TRAIN_DEFAULTS.evaluation,
+    mcEpisodes: input.mcEpisodes ?? TRAIN_DEFAULTS.mcEpisodes,
+    monitor: input.monitor ?? {},
+  };
+  checkTrainConfig(config);
+  return { config, model, variant, kind: loaded.kind };
+}
+
+function referencesDoc(r: ScoreReferences) {
+  return { designerOptimal: r.designerOptimal, designerRandom: r.designerRandom, intentOptimal: r.intentOptimal, intentRandom: r.intentRandom };
+}
+
+/** Score a greedy policy as the config asks; returns the scores the detectors read and what to store. */
+function scoreCheckpoint(
+  config: TrainConfig,
+  model: FiniteModel,
+  refs: ScoreReferences,
+  actions: Int32Array,
+  evalRng: ReturnType<typeof createRng>,
+): { scores: Scores; bounds?: ScoreBounds; mc?: CheckpointRecord["mc"] } {
+  if (config.evaluation === "exact") return { scores: evaluateExact(model, refs, actions) };
+  const mc = evaluateMonteCarlo(model, refs, actions, { episodes: config.mcEpisodes, rng: evalRng });
+  const mcDoc = { episodes: mc.episodes, designerHalfWidth: mc.designerCI.halfWidth, intentHalfWidth: mc.intentCI.halfWidth };
+  if (config.evaluation === "both") return { scores: evaluateExact(model, refs, actions), mc: mcDoc };
+  const lo = normalizeScores(refs, mc.designerCI.lower - mc.designerTail, mc.intentCI.upper + mc.intentTail);
+  return { scores: mc, bounds: { designerNormLower: lo.designerNorm, intentNormUpper: lo.intentNorm }, mc: mcDoc };
+}
+
+function sameOn(states: Int32Array, a: Int32Array, b: Int32Array): boolean {
+  for (let i = 0; i < states.length; i++) if (a[states[i]] !== b[states[i]]) return false;
+  return true;
+}
+
+/** Run one training job and store it; resolves to the run's RunResult (also on interruption). */
+export async function runTraining(input: TrainConfigInput, opts: RunOptions): Promise<RunResult> {
+  const { config, model, variant, kind: loadedKind } = await resolveTrainConfig(input);
+  const id = makeRunId(config);
+  const writer = new RunWriter(opts.runsDir, id);
+  const root = createRng(config.seed);
+  const explore = root.fork("explore");
+  const envRng = root.fork("env");
+  const evalRng = root.fork("evaluate");
+  const every = checkpointEvery(config);
+
+  const t0 = performance.now();
+  const refs = cachedReferences(loadedKind, model, variant);
+  let monitorMs = performance.now() - t0;
+  /** Monitor time spent inside the training loop (checkpoints), subtracted from the training time. */
+  let checkpointMs = 0;
+
+  const manifest: RunManifest = {
+    format: "gapwatch-run/1",
+    runId: id,
+    config,
+    seeds: { exploration: explore.seed, environment: envRng.seed, evaluation: evalRng.seed },
+    checkpointEvery: every,
+    model: { name: model.name, states: model.nStates, actions: model.nActions, gamma: model.gamma, horizon: model.horizon },
+    references: referencesDoc(refs),
+    packageVersion: packageVersion(),
+    nodeVersion: process.version,
+    createdAt: new Date().toISOString(),
+  };
+  writer.writeManifest(manifest);
+
+  const monitor = new Monitor(config.monitor);
+  let lastAgent: Agent | null = null;
+  let lastActions: Int32Array | null = null;
+  let lastReach: Int32Array | null = null;
+  let lastScored: ReturnType<typeof scoreCheckpoint> | null = null;
+  let steps = 0;
+  let episodes = 0;
+  const onCheckpoint = (step: number, agent: Agent, stats: { episodes: number }) => {
+    const c0 = performance.now();
+    lastAgent = agent;
+    steps = step;
+    episodes = stats.episodes;
+    const actions = agent.greedyPolicy(model.nStates);
+    // Exact scores depend only on the actions in the states the policy reaches from the start: when
+    // those are unchanged since the previous checkpoint, so are the scores.
+    const same = config.evaluation === "exact" && lastReach !== null && lastActions !== null && sameOn(lastReach, lastActions, actions);
+    const scored = same && lastScored ? lastScored : scoreCheckpoint(config, model, refs, actions, evalRng);
+    if (!same) lastReach = config.evaluation === "exact" ? reachableStates(model, actions) : null;
+    lastActions = actions;
+    lastScored = scored;
+    const { scores, bounds, mc } = scored;
+    const { record, alerts } = monitor.observe(step, stats.episodes, scores, { bounds, mc });
+    writer.appendCheckpoint(record);
+    for (const a of alerts) writer.logAlert(a);
+    const dt = performance.now() - c0;
+    monitorMs += dt;
+    checkpointMs += dt;
+    opts.onProgress?.({ step, steps: config.steps, episodes: stats.episodes, record, alerts });
+  };
+
+  const learner = getLearner(config.learner);
+  const env = viewEnv(learnerView(model, refs.designerReward));
+  const trainOpts = { steps: config.steps, rng: explore, envRng, checkpointEvery: every, onCheckpoint, signal: opts.signal };
+  const tTrain = performance.now();
+  let status: RunStatus = "complete";
+  let error: string | undefined;
+  try {
+    const result = opts.sync ? learner.train(env, config.learnerParams, trainOpts) : await learner.trainAsync(env, config.learnerParams, trainOpts);
+    lastAgent = result.agent;
+    episodes = result.episodes;
+    if (result.stopped && steps < config.steps) status = "interrupted";
+  } catch (err) {
+    status = "failed";
+    error = err instanceof Error ? err.message : String(err);
+    if (err instanceof GapwatchError && err.exitCode === 2) {
+      finish();
+      throw err;
+    }
+  }
+  const result = finish();
+  if (status === "failed") throw new GapwatchError("train.failed", `training failed: ${error}`, { where: writer.dir });
+  return result;
+
+  function finish(): RunResult {
+    const v = monitor.verdict();
+    const final = monitor.records.length > 0 ? monitor.records[monitor.records.length - 1] : null;
+    const reason = status === "interrupted" ? `interrupted at step ${steps} of ${config.steps}; so far: ${v.reason}` : v.reason;
+    if (lastAgent) {
+      const agent = lastAgent as Agent;
+      writer.writePolicy({
+        format: "gapwatch-run-policy/1",
+        runId: id,
+        step: steps,
+        actions: [...model.actions],
+        greedy: Array.from(agent.greedyPolicy(model.nStates), (a, s) => (model.terminal[s] ? null : model.actions[a])),
+        learner: agent.toJSON(),
+      });
+    }
+    const summary: RunSummary = {
+      format: "gapwatch-run-summary/1",
+      runId: id,
+      status,
+      verdict: v.verdict,
+      reason,
+      final,
+      alertCount: monitor.alerts.length,
+      firstAlertStep: v.firstAlertStep,
+      steps,
+      episodes,
+      checkpointCount: monitor.records.length,
+      trainSeconds: Math.max(0, (performance.now() - tTrain - checkpointMs) / 1000),
+      monitorSeconds: monitorMs / 1000,
+      ...(error ? { error } : {}),
+      finishedAt: new Date().toISOString(),
+    };
+    writer.writeSummary(summary);
+    writer.close();
+    return {
+      runId: id,
+      runDir: writer.dir,
+      config,
+      status,
+      verdict: v.verdict,
+      reason,
+      checkpoints: monitor.records.slice(),
+      alerts: monitor.alerts.slice(),
+      final,
+      firstAlertStep: v.firstAlertStep,
+      references: referencesDoc(refs),
+      steps,
+      episodes,
+      trainSeconds: summary.trainSeconds,
+      monitorSeconds: summary.monitorSeconds,
+    };
+  }
+}
