@@ -1,0 +1,121 @@
+/**
+ * shaping: are the variant's shaping terms potential-based (Ng, Harada & Russell 1999), so that they
+ * cannot change which policy is optimal? Uses ../shaping.ts on the exact per-outcome term.
+ *  - The variant's `shaping` block: F = designer reward with shaping - designer reward without it.
+ *    Potential-based: info. Not (possible only through an inconsistent potential): warning, with the
+ *    witness (a violated outcome and the chains that disagree / a cycle on which F sums to non-zero).
+ *  - Each weighted feature term w_f * f: if it is potential-based on its own it is reported as pure
+ *    shaping (info). If it is not, and the maximum-mean loop of that term alone (reachable choice
+ *    graph, as in the loop check) pays a positive amount per step while earning no intent, it is a
+ *    "shaping-like" bonus that repeats: warning, with the loop. (Ordinary task terms - a goal paid once -
+ *    are not potential-based either; they are not reported.)
+ */
+import type { AuditContext } from "../context.js";
+import { actionNames, fmt, labelsOf } from "../context.js";
+import { maxMeanCycle } from "../cycles.js";
+import type { Finding } from "../findings.js";
+import { checkPotentialShaping, type ShapingCheck } from "../shaping.js";
+import { designerReward } from "../../model/reward.js";
+
+function summarizeCheck(model: AuditContext["model"], c: ShapingCheck): Record<string, unknown> {
+  if (c.potentialBased) return { potentialBased: true, maxResidual: c.maxResidual, tol: c.tol };
+  return {
+    potentialBased: false,
+    residual: c.residual,
+    violated: { state: model.stateLabels[c.edge.state], action: model.actions[c.edge.action], next: model.stateLabels[c.edge.next], value: c.edge.f },
+    witness: c.witness.kind,
+    ...(c.loop ? { loop: { states: labelsOf(model, c.loop.states), sumPerLap: c.loop.sum, meanPerStep: c.loop.mean } } : {}),
+  };
+}
+
+export function shapingCheck(ctx: AuditContext): Finding[] {
+  const { model, variant, gamma } = ctx;
+  const findings: Finding[] = [];
+  if (variant.shaping) {
+    const plain = designerReward(model, { ...variant, shaping: undefined }, gamma);
+    const F = new Float64Array(plain.length);
+    for (let o = 0; o < F.length; o++) F[o] = ctx.rd[o] - plain[o];
+    const c = checkPotentialShaping(model, F, { gamma });
+    const pot = typeof variant.shaping.potential === "string" ? `"${variant.shaping.potential}"` : "given per state";
+    findings.push(
+      c.potentialBased
+        ? {
+            check: "shaping",
+            severity: "info",
+            message: `the shaping term (potential ${pot}, scale ${variant.shaping.scale}) is potential-based: it cannot change which policy is optimal`,
+            evidence: summarizeCheck(model, c),
+          }
+        : {
+            check: "shaping",
+            severity: "warning",
+            message: `the shaping term (potential ${pot}) is not potential-based (residual ${fmt(c.residual)} at ${model.stateLabels[c.edge.state]}): it can change which policy is optimal`,
+            evidence: summarizeCheck(model, c),
+          },
+    );
+  }
+  // Feature terms.
+  const nF = model.features.length;
+  const nO = model.next.length;
+  const T = new Float64Array(nO);
+  for (let f = 0; f < nF; f++) {
+    const name = model.features[f];
+    const w = variant.weights[name] ?? 0;
+    if (w === 0) continue;
+    for (let o = 0; o < nO; o++) T[o] = w * model.featureValues[o * nF + f];
+    const c = checkPotentialShaping(model, T, { gamma });
+    if (c.potentialBased) {
+      findings.push({ check: "shaping", severity: "info", message: `the term ${name} (weight ${w}) is potential-based shaping on its own`, evidence: { feature: name, weight: w, ...summarizeCheck(model, c) } });
+      continue;
+    }
+    const loop = termLoop(ctx, T);
+    if (loop && loop.mean > 1e-9 && loop.intentMean <= 1e-9) {
+      findings.push({
+        check: "shaping",
+        severity: "warning",
+        message: `the term ${name} (weight ${w}) is not potential-based and pays ${fmt(loop.mean)} per step on a repeatable ${loop.states.length}-step loop that earns no intent: a bonus that can be farmed`,
+        evidence: { feature: name, weight: w, loop: { states: loop.states, actions: loop.actions, stateIds: loop.stateIds, termPerStep: loop.mean, intentPerStep: loop.intentMean } },
+      });
+    }
+  }
+  return findings;
+}
+
+function termLoop(ctx: AuditContext, T: Float64Array) {
+  const { model, reachable } = ctx;
+  const { nStates: nS, nActions: nA, saStart, next, prob, terminal } = model;
+  const thr = ctx.opts.loopMinProb - 1e-12;
+  const start = new Int32Array(nS + 1);
+  for (let s = 0; s < nS; s++) {
+    let c = 0;
+    if (!terminal[s] && reachable[s]) for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) if (prob[o] >= thr) c++;
+    start[s + 1] = start[s] + c;
+  }
+  const to = new Int32Array(start[nS]);
+  const weight = new Float64Array(start[nS]);
+  const outcome = new Int32Array(start[nS]);
+  const action = new Int32Array(start[nS]);
+  let j = 0;
+  for (let s = 0; s < nS; s++) {
+    if (terminal[s] || !reachable[s]) continue;
+    for (let a = 0; a < nA; a++)
+      for (let o = saStart[s * nA + a]; o < saStart[s * nA + a + 1]; o++) {
+        if (prob[o] < thr) continue;
+        to[j] = next[o];
+        weight[j] = T[o];
+        outcome[j] = o;
+        action[j] = a;
+        j++;
+      }
+  }
+  const c = maxMeanCycle({ n: nS, start, to, weight });
+  if (!c) return null;
+  let im = 0;
+  for (const e of c.edges) im += model.intent[outcome[e]];
+  return {
+    mean: c.mean,
+    intentMean: im / c.edges.length,
+    stateIds: c.vertices,
+    states: labelsOf(model, c.vertices),
+    actions: actionNames(model, c.edges.map((e) => action[e])),
+  };
+}

@@ -1,0 +1,194 @@
+/**
+ * What every audit check needs, computed once per (model, variant): the designer reward, the exact
+ * designer-optimal and intent-optimal solutions, per-state values of the policies the checks compare,
+ * the states reachable from the start distribution, and "what doing the task pays per step".
+ *
+ * Task rate (the yardstick of the loop and idling checks). "Doing the task" is the intent-optimal
+ * policy pi_I. Its designer rate is the discounted average designer reward per step while it runs:
+ *
+ *     taskRate = V_d^{pi_I}(start) / D^{pi_I}(start),   D^pi(s) = E_pi[ sum_{t < T} gamma^t | s_0 = s ]
+ *
+ * where T is the (possibly infinite) step at which the episode enters a terminal state, so D is the
+ * expected discounted number of steps. In a continuing task (no terminals) D = 1 / (1 - gamma) and
+ * taskRate = (1 - gamma) V_d^{pi_I}; in an episodic task it is the reward per (discounted) step of the
+ * episode the task takes. A loop ridden forever earns its mean reward per step at the same scale, so the
+ * two numbers compare like for like. The intent rate of the task is V_i^{pi_I}(start) / D^{pi_I}(start).
+ *
+ * Pure; no I/O.
+ */
+import { designerReward } from "../model/reward.js";
+import type { FiniteModel, RewardVariant } from "../model/types.js";
+import { solveVariant, type SolveReport } from "../solve/compare.js";
+import { deterministicPolicy, evaluatePolicy, startValue, uniformPolicy, type Policy } from "../solve/dp.js";
+
+export interface AuditOptions {
+  /** Discount (default: the model's). */
+  gamma?: number;
+  /** Largest acceptable failure probability of the designer-optimal route (risk check). Default 0.01. */
+  maxRisk?: number;
+  /** regretNorm at or above which the regret check is critical. Default 0.3. */
+  regretCritical?: number;
+  /** regretNorm at or above which the regret check is a warning. Default 0.05. */
+  regretWarning?: number;
+  /** Difference in normalized regret between groups that is flagged. Default 0.2. */
+  groupGap?: number;
+  /**
+   * Outcomes kept as edges of the choice graph of the loop check: probability >= this. Default 0.5:
+   * the most likely outcome of each action ("what the agent aims for"); loops using an edge with
+   * probability < 1 report the chance of completing a lap as planned.
+   */
+  loopMinProb?: number;
+  /** Catastrophic states (0/1 per state). Default: detected, see `catastrophicStates`. */
+  catastrophic?: Uint8Array;
+  /** Run the weight-sensitivity check (several exact solves per feature). Default true. */
+  sensitivity?: boolean;
+  /** Features the sensitivity check sweeps. Default: weighted features, plus unweighted ones when regret is flagged. */
+  sensitivityFeatures?: string[];
+}
+
+export const AUDIT_DEFAULTS = {
+  maxRisk: 0.01,
+  regretCritical: 0.3,
+  regretWarning: 0.05,
+  groupGap: 0.2,
+  loopMinProb: 0.5,
+} as const;
+
+export interface AuditContext {
+  model: FiniteModel;
+  variant: RewardVariant;
+  gamma: number;
+  /** Designer reward per outcome. */
+  rd: Float64Array;
+  solve: SolveReport;
+  /** One-hot policies of the two optima. */
+  dPolicy: Policy;
+  iPolicy: Policy;
+  /** Intent values per state of the designer-optimal policy and of uniform random behaviour. */
+  intentOfD: Float64Array;
+  intentOfRandom: Float64Array;
+  /** Designer values per state of the intent-optimal policy. */
+  designerOfI: Float64Array;
+  /** Expected discounted steps per state under the intent-optimal and designer-optimal policies. */
+  stepsOfI: Float64Array;
+  stepsOfD: Float64Array;
+  /** 1 where a state is reachable from the start distribution under some actions. */
+  reachable: Uint8Array;
+  task: { designerRate: number; intentRate: number; steps: number };
+  opts: Required<Pick<AuditOptions, "maxRisk" | "regretCritical" | "regretWarning" | "groupGap" | "loopMinProb">> & AuditOptions;
+}
+
+/** States reachable from the start distribution through positive-probability outcomes. */
+export function reachableStates(model: FiniteModel): Uint8Array {
+  const { nStates: nS, nActions: nA, saStart, next, prob, terminal } = model;
+  const seen = new Uint8Array(nS);
+  const stack = new Int32Array(nS);
+  let sp = 0;
+  for (let s = 0; s < nS; s++) if (model.start[s] > 0) ((seen[s] = 1), (stack[sp++] = s));
+  while (sp > 0) {
+    const s = stack[--sp];
+    if (terminal[s]) continue;
+    for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) {
+      if (!(prob[o] > 0)) continue;
+      const t = next[o];
+      if (!seen[t]) ((seen[t] = 1), (stack[sp++] = t));
+    }
+  }
+  return seen;
+}
+
+/** Expected discounted number of steps before termination, per state, under `policy`. */
+export function discountedSteps(model: FiniteModel, policy: Policy, gamma: number): Float64Array {
+  const ones = new Float64Array(model.next.length).fill(1);
+  return evaluatePolicy(model, ones, policy, { gamma, tol: 1e-10 }).values;
+}
+
+export function prepareAudit(model: FiniteModel, variant: RewardVariant, options: AuditOptions = {}): AuditContext {
+  const gamma = options.gamma ?? model.gamma;
+  const opts = { ...AUDIT_DEFAULTS, ...stripUndefined(options) };
+  const rd = designerReward(model, variant, gamma);
+  const solve = solveVariant(model, variant, { gamma });
+  const dPolicy = deterministicPolicy(model, solve.designerOptimal.policy);
+  const iPolicy = deterministicPolicy(model, solve.intentOptimal.policy);
+  const o = { gamma, tol: 1e-10 };
+  const intentOfD = evaluatePolicy(model, model.intent, dPolicy, o).values;
+  const intentOfRandom = evaluatePolicy(model, model.intent, uniformPolicy(model), o).values;
+  const designerOfI = evaluatePolicy(model, rd, iPolicy, o).values;
+  const stepsOfI = discountedSteps(model, iPolicy, gamma);
+  const stepsOfD = discountedSteps(model, dPolicy, gamma);
+  const steps = startValue(model, stepsOfI);
+  const task = {
+    designerRate: steps > 0 ? startValue(model, designerOfI) / steps : 0,
+    intentRate: steps > 0 ? solve.intentOptimal.intent / steps : 0,
+    steps,
+  };
+  return { model, variant, gamma, rd, solve, dPolicy, iPolicy, intentOfD, intentOfRandom, designerOfI, stepsOfI, stepsOfD, reachable: reachableStates(model), task, opts };
+}
+
+function stripUndefined<T extends object>(o: T): Partial<T> {
+  return Object.fromEntries(Object.entries(o).filter(([, v]) => v !== undefined)) as Partial<T>;
+}
+
+/** The most likely start state (lowest index on ties). */
+export function likelyStart(model: FiniteModel): number {
+  let s = 0;
+  for (let i = 1; i < model.nStates; i++) if (model.start[i] > model.start[s]) s = i;
+  return s;
+}
+
+/** Most likely outcome of (s, a) (lowest index on ties). */
+export function likelyOutcome(model: FiniteModel, s: number, a: number): number {
+  const k = s * model.nActions + a;
+  let best = model.saStart[k];
+  for (let o = best + 1; o < model.saStart[k + 1]; o++) if (model.prob[o] > model.prob[best]) best = o;
+  return best;
+}
+
+export interface PathTrace {
+  states: number[];
+  actions: number[];
+  outcomes: number[];
+  /** Index into `states` where the path starts repeating (a recurrent loop), or -1 if it ended. */
+  loopStart: number;
+}
+
+/**
+ * The most likely path of a deterministic policy from state `s0`: follow the most likely outcome until
+ * a terminal, the step limit, or a repeated state (then `loopStart` marks the first visit of it).
+ */
+export function tracePolicy(model: FiniteModel, actions: Int32Array, s0: number, maxSteps = model.horizon): PathTrace {
+  const states = [s0];
+  const acts: number[] = [];
+  const outs: number[] = [];
+  const firstAt = new Map<number, number>([[s0, 0]]);
+  let s = s0;
+  for (let t = 0; t < maxSteps && !model.terminal[s]; t++) {
+    const a = actions[s];
+    if (a < 0) break;
+    const o = likelyOutcome(model, s, a);
+    acts.push(a);
+    outs.push(o);
+    s = model.next[o];
+    const seen = firstAt.get(s);
+    if (seen !== undefined) return { states, actions: acts, outcomes: outs, loopStart: seen };
+    firstAt.set(s, states.length);
+    states.push(s);
+  }
+  return { states, actions: acts, outcomes: outs, loopStart: -1 };
+}
+
+/** Names for evidence. */
+export function labelsOf(model: FiniteModel, states: readonly number[]): string[] {
+  return states.map((s) => model.stateLabels[s] ?? String(s));
+}
+export function actionNames(model: FiniteModel, actions: readonly number[]): string[] {
+  return actions.map((a) => model.actions[a] ?? String(a));
+}
+
+/** Round for messages. */
+export function fmt(x: number, digits = 3): string {
+  if (!Number.isFinite(x)) return String(x);
+  const a = Math.abs(x);
+  if (a !== 0 && (a < 1e-3 || a >= 1e5)) return x.toExponential(2);
+  return x.toFixed(digits);
+}
