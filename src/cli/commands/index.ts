@@ -3,5 +3,8 @@ import type { CommandModule } from "../context.js";
 import { registerEnvs } from "./envs.js";
 import { registerExport } from "./export.js";
 import { registerSolve } from "./solve.js";
+import { registerCompare } from "./compare.js";
+import { registerWorker } from "./worker.js";
+import { registerRuns } from "./runs.js";
 
-export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport];
+export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCompare, registerWorker, registerRuns];

@@ -1,0 +1,178 @@
+/**
+ * `gapwatch compare` as a function: plan the sweep, run it on the local thread pool or through Redis,
+ * store and index every run, aggregate, and write the comparison directory
+ * `<runsDir>/compare-<hash>/` with comparison.json (the statistics document + the resolved config +
+ * the run directories) and comparison.csv (one row per run). The hash covers the resolved sweep
+ * config (env, rewards, learners, seeds, steps, bootstrap seed and replicates) and the job ids, so the
+ * same sweep always lands in the same folder.
+ *
+ * Both backends produce the same run directories (same run ids, same checkpoints.jsonl bytes) and
+ * the same statistics: a run depends only on its config, and the aggregation only on the runs.
+ */
+import { mkdirSync } from "node:fs";
+import { join, resolve } from "node:path";
+import { InputError } from "../errors.js";
+import { canonicalJson } from "../store/run-store.js";
+import { COMPARISON_FILE, openIndex } from "../store/index-db.js";
+import { writeFileAtomic, writeJsonAtomic } from "../store/atomic.js";
+import type { RunResult } from "../store/types.js";
+import { getLearner } from "../train/learners.js";
+import { aggregateComparison, comparisonCsv, type ComparisonStats, type RunRecord } from "./aggregate.js";
+import { failureOf, writeShippedRun } from "./execute.js";
+import { planSweep, sha256, type SweepSpec } from "./plan.js";
+import { defaultWorkers, PoolError, WorkerPool } from "./pool.js";
+import { parseQueueUrl, runOnQueue } from "./queue.js";
+import type { BatchJob, BatchProgress, RunOutcome } from "./types.js";
+
+export interface CompareConfig extends SweepSpec {
+  runsDir: string;
+  /** Local thread pool size (default os.availableParallelism()). Ignored with `queue`. */
+  workers?: number;
+  /** redis://host:port/db: run the jobs on `gapwatch worker` processes instead. */
+  queue?: string;
+  bootstrapSeed: number;
+  reps?: number;
+  /** Queue attempts per job and backoff (Redis only). */
+  attempts?: number;
+  backoffMs?: number;
+}
+
+export interface CompareHooks {
+  onProgress?: (p: BatchProgress) => void;
+}
+
+export interface ComparisonDocument extends ComparisonStats {
+  format: "gapwatch-comparison/1";
+  id: string;
+  config: {
+    env: string;
+    rewards: string[];
+    learners: string[];
+    seeds: number[];
+    steps: number | null;
+    bootstrapSeed: number;
+    bootstrapReps: number;
+    backend: "local" | "redis";
+  };
+  runDirs: { reward: string; learner: string; seed: number; runId: string; runDir: string }[];
+  createdAt: string;
+}
+
+export interface CompareResult {
+  /** The statistics document printed with --json. */
+  stats: ComparisonStats;
+  doc: ComparisonDocument;
+  dir: string;
+  records: RunRecord[];
+  csv: string;
+  outcomes: RunOutcome[];
+}
+
+export function recordOf(o: RunOutcome): RunRecord {
+  const base = { reward: o.cell.reward, learner: o.cell.learner, seed: o.cell.seed };
+  if (!o.ok) return { ...base, ok: false, error: o.error };
+  const r = o.result;
+  const ok = r.status === "complete";
+  return {
+    ...base,
+    ok,
+    runId: r.runId,
+    runDir: r.runDir,
+    verdict: r.verdict,
+    ...(r.final ? { designer: r.final.designerNorm, intent: r.final.intentNorm } : {}),
+    alerts: r.alerts.length,
+    ...(ok ? {} : { error: { code: `run.${r.status}`, message: r.reason, where: r.runDir } }),
+  };
+}
+
+/** Run every job on a local thread pool; each completed run is indexed as it arrives. */
+export async function runLocalBatch(jobs: BatchJob[], runsDir: string, workers: number, onOutcome: (o: RunOutcome) => void): Promise<RunOutcome[]> {
+  const pool = new WorkerPool(Math.max(1, Math.min(workers, jobs.length)));
+  try {
+    return await Promise.all(
+      jobs.map(async (job): Promise<RunOutcome> => {
+        let o: RunOutcome;
+        try {
+          const result = await pool.runLocal(job, runsDir);
+          o = { jobId: job.jobId, cell: job.cell, ok: true, result };
+        } catch (err) {
+          o = { jobId: job.jobId, cell: job.cell, ok: false, error: err instanceof PoolError ? err.failure : failureOf(err) };
+        }
+        onOutcome(o);
+        return o;
+      }),
+    );
+  } finally {
+    await pool.close();
+  }
+}
+
+export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): Promise<CompareResult> {
+  for (const l of cfg.learners) getLearner(l);
+  if (cfg.rewards.length === 0) throw new InputError("compare.rewards", "--rewards needs at least one variant", "--rewards");
+  const runsDir = resolve(cfg.runsDir);
+  const target = cfg.queue ? parseQueueUrl(cfg.queue) : undefined;
+  const jobs = planSweep(cfg, { ship: Boolean(target) });
+  const index = openIndex(runsDir);
+  let done = 0;
+  let failed = 0;
+  const onOutcome = (o: RunOutcome) => {
+    done++;
+    if (!o.ok || o.result.status !== "complete") failed++;
+    if (o.ok) index.recordRun(o.result);
+    hooks.onProgress?.({ done, total: jobs.length, failed, outcome: o });
+  };
+  let outcomes: RunOutcome[];
+  try {
+    outcomes = target
+      ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, onOutcome, store: (s) => writeShippedRun(runsDir, s) })
+      : await runLocalBatch(jobs, runsDir, cfg.workers ?? defaultWorkers(), onOutcome);
+    const records = outcomes.map(recordOf);
+    const stats = aggregateComparison(records, {
+      env: cfg.env,
+      rewards: cfg.rewards,
+      learners: cfg.learners,
+      seeds: cfg.seeds,
+      bootstrapSeed: cfg.bootstrapSeed,
+      reps: cfg.reps,
+    });
+    const config: ComparisonDocument["config"] = {
+      env: cfg.env,
+      rewards: cfg.rewards,
+      learners: cfg.learners,
+      seeds: cfg.seeds,
+      steps: cfg.steps ?? null,
+      bootstrapSeed: cfg.bootstrapSeed,
+      bootstrapReps: cfg.reps ?? 2000,
+      backend: target ? "redis" : "local",
+    };
+    const { backend: _b, ...hashed } = config;
+    const id = "compare-" + sha256(canonicalJson({ ...hashed, jobs: jobs.map((j) => j.jobId) })).slice(0, 12);
+    const dir = join(runsDir, id);
+    mkdirSync(dir, { recursive: true });
+    const runDirs = outcomes
+      .filter((o): o is RunOutcome & { ok: true; result: RunResult } => o.ok)
+      .map((o) => ({ ...o.cell, runId: o.result.runId, runDir: o.result.runDir }));
+    const doc: ComparisonDocument = { format: "gapwatch-comparison/1", id, ...stats, config, runDirs, createdAt: new Date().toISOString() };
+    const csv = comparisonCsv(cfg.env, records);
+    writeJsonAtomic(join(dir, COMPARISON_FILE), doc);
+    writeFileAtomic(join(dir, "comparison.csv"), csv);
+    index.recordComparison(doc, dir);
+    return { stats, doc, dir, records, csv, outcomes };
+  } finally {
+    index.close();
+  }
+}
+
+/** A one-line progress bar with ETA (pure; the CLI redraws it on a TTY stderr). */
+export function progressLine(done: number, total: number, failed: number, elapsedMs: number, width = 24): string {
+  const frac = total > 0 ? done / total : 1;
+  const fill = Math.round(frac * width);
+  const bar = "#".repeat(fill) + ".".repeat(width - fill);
+  let eta = "--:--";
+  if (done > 0 && done < total) {
+    const s = Math.round(((elapsedMs / done) * (total - done)) / 1000);
+    eta = `${Math.floor(s / 60)}:${String(s % 60).padStart(2, "0")}`;
+  } else if (done >= total) eta = "0:00";
+  return `[${bar}] ${done}/${total} runs${failed ? `, ${failed} failed` : ""}  ETA ${eta}`;
+}

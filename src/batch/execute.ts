@@ -1,0 +1,109 @@
+/**
+ * Running one batch job, in whatever thread or process holds it.
+ *
+ * - `executeLocal`: `runTraining` straight into the coordinator's runs directory (local pool).
+ * - `executeRemote`: for a worker on any machine. Files the job carries are written to a private
+ *   scratch folder, the run is trained into a scratch runs directory, and its files are read back and
+ *   shipped in the job's return value; the scratch folder is then deleted. The coordinator writes the
+ *   run directory (`writeShippedRun`), so workers need no shared disk. When a carried file had to be
+ *   materialized under another path, the run is relabelled with the spec the user gave (run id,
+ *   manifest config, summary, policy and alert lines), so the run id and every file equal those of a
+ *   local run of the same config; checkpoints.jsonl holds no path and is shipped byte for byte.
+ */
+import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { basename, join, resolve } from "node:path";
+import { GapwatchError } from "../errors.js";
+import { readRun, runId as makeRunId, RUN_FILES } from "../store/run-store.js";
+import { writeFileAtomic } from "../store/atomic.js";
+import type { RunResult } from "../store/types.js";
+import { runTraining } from "../train/run.js";
+import type { BatchJob, RunFailure, ShippedRun } from "./types.js";
+import { sha256 } from "./plan.js";
+
+export function failureOf(err: unknown): RunFailure {
+  if (err instanceof GapwatchError) return { code: err.code, message: err.message, where: err.where, exitCode: err.exitCode };
+  const e = err as Error;
+  return { code: "internal", message: e?.message ?? String(err), exitCode: 1 };
+}
+
+export async function executeLocal(job: BatchJob, runsDir: string): Promise<RunResult> {
+  return runTraining(job.input, { runsDir, sync: true });
+}
+
+/** Replace the run id (and the config's env / reward spec) inside a shipped run's files. */
+function relabel(files: Record<string, string>, from: string, to: string, config: RunResult["config"]): Record<string, string> {
+  const out: Record<string, string> = { ...files };
+  const json = (name: string, edit: (doc: Record<string, unknown>) => void) => {
+    if (out[name] === undefined) return;
+    const doc = JSON.parse(out[name]) as Record<string, unknown>;
+    edit(doc);
+    out[name] = JSON.stringify(doc, null, 2) + "\n";
+  };
+  json(RUN_FILES.manifest, (d) => {
+    d.runId = to;
+    d.config = config;
+  });
+  json(RUN_FILES.summary, (d) => {
+    if (d.runId === from) d.runId = to;
+  });
+  json(RUN_FILES.policy, (d) => {
+    if (d.runId === from) d.runId = to;
+  });
+  if (out[RUN_FILES.alerts] !== undefined) {
+    out[RUN_FILES.alerts] = out[RUN_FILES.alerts]
+      .split("\n")
+      .map((line) => {
+        if (!line.trim()) return line;
+        const doc = JSON.parse(line) as Record<string, unknown>;
+        if (doc.runId === from) doc.runId = to;
+        return JSON.stringify(doc);
+      })
+      .join("\n");
+  }
+  return out;
+}
+
+export async function executeRemote(job: BatchJob): Promise<ShippedRun> {
+  const scratch = mkdtempSync(join(tmpdir(), "gapwatch-job-"));
+  try {
+    const input = { ...job.input };
+    const original = { env: job.input.env, reward: job.input.reward };
+    let moved = false;
+    for (const [spec, text] of Object.entries(job.files ?? {})) {
+      const dir = join(scratch, "inputs", sha256(text).slice(0, 16));
+      mkdirSync(dir, { recursive: true });
+      const file = join(dir, basename(spec));
+      writeFileAtomic(file, text);
+      if (input.env === spec) input.env = file;
+      if (input.reward === spec) input.reward = file;
+      moved = true;
+    }
+    const runsDir = join(scratch, "runs");
+    const result = await runTraining(input, { runsDir, sync: true });
+    const files: Record<string, string> = {};
+    for (const name of readdirSync(result.runDir)) {
+      if (name.startsWith(".")) continue;
+      files[name] = readFileSync(join(result.runDir, name), "utf8");
+    }
+    if (!moved) return { runId: result.runId, files };
+    const config = { ...result.config, env: original.env, ...(original.reward !== undefined && result.config.reward === input.reward ? { reward: original.reward } : {}) };
+    const id = makeRunId(config);
+    return { runId: id, files: relabel(files, result.runId, id, config) };
+  } finally {
+    rmSync(scratch, { recursive: true, force: true });
+  }
+}
+
+/** Coordinator side: write a shipped run into `<runsDir>/<runId>/` (each file atomically). */
+export function writeShippedRun(runsDir: string, shipped: ShippedRun): RunResult {
+  if (!/^[A-Za-z0-9_.-]+$/.test(shipped.runId)) throw new GapwatchError("batch.runId", `a worker shipped a bad run id "${shipped.runId}"`, { where: "job return value" });
+  const dir = join(resolve(runsDir), shipped.runId);
+  mkdirSync(dir, { recursive: true });
+  for (const f of Object.values(RUN_FILES)) if (shipped.files[f] === undefined) rmSync(join(dir, f), { force: true });
+  for (const [name, text] of Object.entries(shipped.files)) {
+    if (name !== basename(name) || name.startsWith(".")) continue;
+    writeFileAtomic(join(dir, name), text);
+  }
+  return readRun(dir);
+}

@@ -1,0 +1,90 @@
+/**
+ * The sweep matrix: rewards x learners x seeds, every variant on the same seed list (a paired design),
+ * one `BatchJob` per cell, in a fixed order (reward, then learner, then seed). Pure apart from reading
+ * the input files a job has to carry (`shipFiles`).
+ */
+import { createHash } from "node:crypto";
+import { existsSync, readFileSync } from "node:fs";
+import { resolve } from "node:path";
+import { InputError } from "../errors.js";
+import { canonicalJson } from "../store/run-store.js";
+import type { TrainConfigInput } from "../train/config.js";
+import type { BatchJob } from "./types.js";
+
+export interface SweepSpec {
+  env: string;
+  rewards: string[];
+  learners: string[];
+  seeds: number[];
+  steps?: number;
+  /** Extra TrainConfigInput keys applied to every run (checkpoints, monitor, ...). */
+  base?: Omit<TrainConfigInput, "env" | "reward" | "learner" | "seed" | "steps">;
+}
+
+export function sha256(text: string): string {
+  return createHash("sha256").update(text).digest("hex");
+}
+
+/** Parse "1,2,3" / "1-5" ranges into a seed list; duplicates are an error (they would pair a run with itself). */
+export function parseSeedList(text: string, where = "--seed-list"): number[] {
+  const out: number[] = [];
+  for (const part of text.split(",").map((s) => s.trim()).filter(Boolean)) {
+    const m = /^(\d+)(?:-(\d+))?$/.exec(part);
+    if (!m) throw new InputError("compare.seeds", `"${part}" is not a seed or a range a-b of non-negative integers`, where);
+    const a = Number(m[1]);
+    const b = m[2] === undefined ? a : Number(m[2]);
+    if (b < a || !Number.isSafeInteger(b)) throw new InputError("compare.seeds", `bad range "${part}"`, where);
+    for (let s = a; s <= b; s++) out.push(s);
+  }
+  if (out.length === 0) throw new InputError("compare.seeds", "the seed list is empty; give e.g. 1,2,3 or 1-10", where);
+  const dup = out.find((s, i) => out.indexOf(s) !== i);
+  if (dup !== undefined) throw new InputError("compare.seeds", `seed ${dup} appears twice; every seed once`, where);
+  return out;
+}
+
+/** Split a comma list, trimmed, non-empty, no duplicates. */
+export function parseList(text: string, flag: string): string[] {
+  const out = text.split(",").map((s) => s.trim()).filter(Boolean);
+  if (out.length === 0) throw new InputError("compare.list", `${flag} needs at least one name`, flag);
+  const dup = out.find((s, i) => out.indexOf(s) !== i);
+  if (dup !== undefined) throw new InputError("compare.list", `"${dup}" is listed twice in ${flag}`, flag);
+  return out;
+}
+
+const isDataFile = (spec: string) => /\.json$/i.test(spec);
+
+/** The text of every .json file a job names (model file env, reward files), keyed by its spec string. */
+export function shipFiles(input: TrainConfigInput): Record<string, string> {
+  const files: Record<string, string> = {};
+  for (const spec of [input.env, input.reward]) {
+    if (spec === undefined || !isDataFile(spec)) continue;
+    const file = resolve(spec);
+    if (!existsSync(file)) throw new InputError("env.notFound", "file not found", spec);
+    files[spec] = readFileSync(file, "utf8");
+  }
+  return files;
+}
+
+/** Deterministic job id: the same run config (and the same file contents) always gives the same id. */
+export function jobIdOf(input: TrainConfigInput, files: Record<string, string> = {}): string {
+  const fileHashes = Object.fromEntries(Object.entries(files).map(([k, v]) => [k, sha256(v)]));
+  return "run-" + sha256(canonicalJson({ input, files: fileHashes })).slice(0, 32);
+}
+
+/** One job per (reward, learner, seed). `ship` reads the input files into the jobs (Redis backend). */
+export function planSweep(spec: SweepSpec, opts: { ship?: boolean } = {}): BatchJob[] {
+  const jobs: BatchJob[] = [];
+  const cache = new Map<string, Record<string, string>>();
+  for (const reward of spec.rewards) {
+    for (const learner of spec.learners) {
+      for (const seed of spec.seeds) {
+        const input: TrainConfigInput = { ...(spec.base ?? {}), env: spec.env, reward, learner, seed, ...(spec.steps !== undefined ? { steps: spec.steps } : {}) };
+        const key = `${reward}`;
+        let files = cache.get(key);
+        if (!files) cache.set(key, (files = shipFiles(input)));
+        jobs.push({ jobId: jobIdOf(input, files), input, ...(opts.ship && Object.keys(files).length ? { files } : {}), cell: { reward, learner, seed } });
+      }
+    }
+  }
+  return jobs;
+}

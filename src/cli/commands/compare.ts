@@ -1,0 +1,120 @@
+/**
+ * `gapwatch compare`: every reward variant over the same seeds (and learners), locally on a thread
+ * pool or on `gapwatch worker` processes through Redis; a ranking by intent IQM with bootstrap
+ * intervals, alert rates, verdict counts and pairwise probabilities of improvement.
+ * Exit codes: 0 done (failed runs are reported, not fatal), 2 bad input or every run failed.
+ */
+import type { Command } from "commander";
+import { resolve } from "node:path";
+import { EXIT, GapwatchError, InputError } from "../../errors.js";
+import { comparisonCsv } from "../../batch/aggregate.js";
+import { progressLine, runCompare, type CompareResult } from "../../batch/compare.js";
+import { parseList, parseSeedList } from "../../batch/plan.js";
+import { defaultWorkers } from "../../batch/pool.js";
+import { writeFileAtomic } from "../../store/atomic.js";
+import { action, intOption, type CliContext } from "../context.js";
+import { emit, paint, table, useColor } from "../io.js";
+
+interface CompareCliOptions {
+  env: string;
+  rewards: string;
+  learners?: string;
+  seeds?: string;
+  seedList?: string;
+  steps?: string;
+  workers?: string;
+  queue?: string;
+  attempts?: string;
+  bootstrapSeed?: string;
+  bootstrapReps?: string;
+  runsDir?: string;
+  csv?: string;
+  json?: boolean;
+}
+
+const f2 = (x: number | null) => (x === null ? "-" : x.toFixed(2));
+const ci = (c: [number, number] | null) => (c === null ? "-" : `[${c[0].toFixed(2)}, ${c[1].toFixed(2)}]`);
+
+/** The ranking table and pair lines. Pure. */
+export function compareText(r: CompareResult, color: boolean): string {
+  const s = r.stats;
+  const byName = new Map(s.variants.map((v) => [v.reward, v]));
+  let t = `${paint(color, "bold", s.env)}  ${r.doc.config.rewards.length} variants x ${r.doc.config.learners.length} learner(s) x ${r.doc.config.seeds.length} seeds  (${r.doc.config.backend})\n\n`;
+  const rows = s.ranking.map((name, i) => {
+    const v = byName.get(name)!;
+    const verdicts = `${v.verdicts.aligned}/${v.verdicts.decoupled}/${v.verdicts.inconclusive}`;
+    const alert = v.alertRate.p === null ? "-" : `${(100 * v.alertRate.p).toFixed(0)}% ${ci(v.alertRate.ci)}`;
+    const gaming = v.verdicts.decoupled > 0 ? paint(color, "red", name) : paint(color, "green", name);
+    return [String(i + 1), gaming, String(v.runs) + (v.failed ? ` (+${v.failed} failed)` : ""), f2(v.intent.iqm), ci(v.intent.ci), f2(v.intent.mean), f2(v.intent.median), f2(v.designer.iqm), ci(v.designer.ci), verdicts, alert];
+  });
+  t += table(["#", "reward", "runs", "intent IQM", "95% CI", "mean", "median", "designer IQM", "95% CI", "ali/dec/inc", "alert rate (Wilson 95%)"], rows, { color });
+  if (s.pairs.length) {
+    t += `\nprobability of improvement on intent, P(a > b), 95% bootstrap CI:\n`;
+    for (const p of s.pairs) t += `  ${p.a} > ${p.b}: ${f2(p.probabilityOfImprovement)} ${ci(p.ci)}\n`;
+  }
+  if (s.failed.length) {
+    t += `\n${paint(color, "red", `${s.failed.length} run(s) failed`)}:\n`;
+    for (const f of s.failed.slice(0, 10)) t += `  ${f.reward} ${f.learner} seed ${f.seed}: ${f.code}: ${f.message}${f.where ? ` (${f.where})` : ""}\n`;
+    if (s.failed.length > 10) t += `  ... ${s.failed.length - 10} more in comparison.json\n`;
+  }
+  t += `\nScores are final normalized scores (0 = uniform random, 1 = optimal); IQM = interquartile mean over all runs, CI = stratified bootstrap.\n`;
+  t += `comparison: ${r.dir}\n`;
+  return t;
+}
+
+export function registerCompare(program: Command, ctx: CliContext): void {
+  program
+    .command("compare")
+    .description("train every reward variant on the same seeds, locally or on many machines; rank by intent with bootstrap intervals")
+    .requiredOption("--env <env>", "built-in scenario name or model file (.json)")
+    .requiredOption("--rewards <list>", "comma-separated reward variant names or reward files")
+    .option("--learners <list>", "comma-separated learners (default q-learning)")
+    .option("--seeds <n>", "seeds 1..n (default 10)")
+    .option("--seed-list <list>", "explicit seeds, e.g. 1,2,3 or 1-20")
+    .option("--steps <n>", "environment steps per run (default: the scenario's)")
+    .option("--workers <w>", `local worker threads (default: cores, here ${defaultWorkers()})`)
+    .option("--queue <url>", "run on `gapwatch worker` processes through Redis, e.g. redis://127.0.0.1:6379/0")
+    .option("--attempts <n>", "attempts per job on the queue before it is reported failed (default 3)")
+    .option("--bootstrap-seed <s>", "seed of the bootstrap resampling (default 0)")
+    .option("--bootstrap-reps <n>", "bootstrap replicates (default 2000)")
+    .option("--runs-dir <dir>", "where run directories go (default ./runs)")
+    .option("--csv <file>", "also write the per-run CSV here")
+    .option("--json", "print one JSON document")
+    .action(
+      action(ctx, async (opts: CompareCliOptions) => {
+        if (opts.seeds !== undefined && opts.seedList !== undefined) throw new InputError("cli.conflict", "give --seeds or --seed-list, not both", "--seed-list");
+        const seeds = opts.seedList !== undefined ? parseSeedList(opts.seedList) : Array.from({ length: intOption(opts.seeds, "--seeds", { def: 10 }) }, (_, i) => i + 1);
+        const runsDir = resolve(ctx.io.cwd, opts.runsDir ?? "runs");
+        const showBar = ctx.io.stderrIsTTY && !opts.json;
+        const t0 = Date.now();
+        const result = await runCompare(
+          {
+            env: opts.env,
+            rewards: parseList(opts.rewards, "--rewards"),
+            learners: opts.learners ? parseList(opts.learners, "--learners") : ["q-learning"],
+            seeds,
+            steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
+            runsDir,
+            workers: intOption(opts.workers, "--workers", { def: defaultWorkers() }),
+            queue: opts.queue,
+            attempts: opts.attempts === undefined ? undefined : intOption(opts.attempts, "--attempts"),
+            bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
+            reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: 2000 }),
+          },
+          {
+            onProgress: (p) => {
+              if (showBar) ctx.io.err(`\r${progressLine(p.done, p.total, p.failed, Date.now() - t0)}${p.done === p.total ? "\n" : ""}`);
+            },
+          },
+        );
+        if (opts.csv) writeFileAtomic(resolve(ctx.io.cwd, opts.csv), comparisonCsv(opts.env, result.records));
+        if (result.doc.runDirs.length === 0 && result.stats.failed.length > 0) {
+          const f = result.stats.failed[0];
+          throw new GapwatchError(f.code, `every run failed; first: ${f.message}`, { where: f.where, exitCode: EXIT.badInput });
+        }
+        emit(ctx.io, Boolean(opts.json), result.stats, () => compareText(result, useColor(ctx.io)));
+        if (opts.json) ctx.io.err(`comparison: ${result.dir}\n`);
+        return EXIT.ok;
+      }),
+    );
+}
