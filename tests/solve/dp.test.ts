@@ -6,7 +6,7 @@
 import { describe, expect, it } from "vitest";
 import { ModelBuilder } from "../../src/model/builder.js";
 import type { FiniteModel } from "../../src/model/types.js";
-import { actionValues, evaluatePolicy, greedyActions, policyIteration, uniformPolicy, valueIteration, valueSweeps } from "../../src/solve/dp.js";
+import { actionValues, evaluatePolicy, greedyActions, policyIteration, sweepPlan, uniformPolicy, valueIteration, valueSweeps } from "../../src/solve/dp.js";
 
 /** A model whose single feature "r" is the reward, so `model.featureValues` is the per-outcome reward. */
 interface Built {
@@ -138,27 +138,31 @@ describe("Sutton & Barto 2018, Example 4.1 (4x4 gridworld, equiprobable policy)"
   });
 });
 
-describe("Sutton & Barto 2018, Example 4.3 (gambler's problem, p_h = 0.4)", () => {
-  // States 0..100 (0 and 100 terminal); action a = stake, a in 0..50. Stakes above min(s, 100-s)
-  // are not legal; they are modelled as the largest legal stake so they add no new choice.
-  function gambler(ph: number): Built {
-    const nA = 51;
-    const b = new ModelBuilder({ name: "gambler", nStates: 101, actions: Array.from({ length: nA }, (_, a) => `stake${a}`), features: ["r"], gamma: 1, horizon: 10_000 });
-    b.setTerminal(0).setTerminal(100).setStart(50, 1);
-    for (let s = 1; s < 100; s++) {
-      for (let a = 0; a < nA; a++) {
-        const stake = Math.min(a, s, 100 - s);
-        if (stake === 0) {
-          b.addOutcome(s, a, s, 1, [0]);
-          continue;
-        }
-        b.addOutcome(s, a, s + stake, ph, [s + stake === 100 ? 1 : 0]);
-        b.addOutcome(s, a, s - stake, 1 - ph, [0]);
+/**
+ * Sutton & Barto 2018, Example 4.3. States 0..100 (0 and 100 terminal); action a = stake, a in 0..50.
+ * Stakes above min(s, 100-s) are not legal; they are modelled as the largest legal stake so they add
+ * no new choice. Reward +1 on reaching 100, gamma 1.
+ */
+function gamblerModel(ph: number): Built {
+  const nA = 51;
+  const b = new ModelBuilder({ name: "gambler", nStates: 101, actions: Array.from({ length: nA }, (_, a) => `stake${a}`), features: ["r"], gamma: 1, horizon: 10_000 });
+  b.setTerminal(0).setTerminal(100).setStart(50, 1);
+  for (let s = 1; s < 100; s++) {
+    for (let a = 0; a < nA; a++) {
+      const stake = Math.min(a, s, 100 - s);
+      if (stake === 0) {
+        b.addOutcome(s, a, s, 1, [0]);
+        continue;
       }
+      b.addOutcome(s, a, s + stake, ph, [s + stake === 100 ? 1 : 0]);
+      b.addOutcome(s, a, s - stake, 1 - ph, [0]);
     }
-    return finish(b);
   }
-  const { model, reward } = gambler(0.4);
+  return finish(b);
+}
+
+describe("Sutton & Barto 2018, Example 4.3 (gambler's problem, p_h = 0.4)", () => {
+  const { model, reward } = gamblerModel(0.4);
   const table: [number, number][] = [
     [1, 0.0020656248],
     [2, 0.0051640619],
@@ -280,12 +284,19 @@ describe("Sutton & Barto 2018, Example 6.5 (windy gridworld)", () => {
 });
 
 describe("valueSweeps is the sweep part of valueIteration", () => {
-  it("same values and sweep count, with or without a precomputed expected-reward table", () => {
-    // Sutton & Barto 2018, Example 4.1 again (v* = -distance), as a consistency check of the split
-    const { model, reward } = example41();
-    const a = valueSweeps(model, reward);
-    const b = valueIteration(model, reward);
-    expect(a.iters).toBe(b.iters);
-    expect(Array.from(a.values)).toEqual(Array.from(b.values));
+  it("same values and sweep count, with a plan built beforehand, synchronous and in place", () => {
+    // Sutton & Barto 2018, Example 4.1 (v* = -distance) and Example 4.3 (stochastic: general path)
+    for (const { model, reward } of [example41(), gamblerModel(0.4)]) {
+      for (const inPlace of [false, true]) {
+        const a = valueSweeps(model, reward, { inPlace }, sweepPlan(model, reward));
+        const b = valueIteration(model, reward, { inPlace });
+        expect(a.iters).toBe(b.iters);
+        expect(Array.from(a.values)).toEqual(Array.from(b.values));
+      }
+    }
+    const plan = sweepPlan(example41().model, example41().reward);
+    expect(Array.from(plan.live)).toEqual([1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14]);
+    expect(plan.liveNext).not.toBeNull();
+    expect(sweepPlan(gamblerModel(0.4).model, gamblerModel(0.4).reward).liveNext).toBeNull();
   });
 });
