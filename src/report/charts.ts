@@ -1,0 +1,315 @@
+/**
+ * Charts of the HTML report: Vega-Lite specifications (pure functions of report data) and one
+ * renderer that compiles a spec with vega-lite and renders it to an SVG string with vega's headless
+ * view (`renderer: "none"`), at report time, in Node. The page then needs no script to show them.
+ *
+ * Vega escapes the text it writes into the SVG (axis labels, legends, titles, aria labels), so
+ * user-provided names reach the page as text, never as markup; tests/report check this too.
+ */
+import * as vega from "vega";
+import { compile, type TopLevelSpec } from "vega-lite";
+import { DIVERGING, ROLE } from "./palette.js";
+import { esc } from "./escape.js";
+
+/** Shared look: our fonts, muted axes, no chart border. */
+const CONFIG = {
+  font: 'system-ui, -apple-system, "Segoe UI", Roboto, "DejaVu Sans", sans-serif',
+  background: "#ffffff",
+  view: { stroke: null },
+  axis: { labelColor: ROLE.muted, titleColor: ROLE.ink, gridColor: ROLE.grid, domainColor: "#9aa3b2", tickColor: "#9aa3b2", labelFontSize: 11, titleFontSize: 12, titleFontWeight: 600 },
+  legend: { labelColor: ROLE.ink, titleColor: ROLE.ink, labelFontSize: 11, titleFontSize: 11, orient: "top" },
+  header: { labelColor: ROLE.ink, labelFontSize: 12, labelFontWeight: 600, titleFontSize: 0 },
+  title: { color: ROLE.ink, fontSize: 13, fontWeight: 600, anchor: "start" },
+} as const;
+
+const SCORE_COLOR = { domain: ["designer", "intent"], range: [ROLE.designer, ROLE.intent] };
+const SCORE_DASH = { domain: ["designer", "intent"], range: [[1, 0], [6, 3]] };
+
+export interface CurvePoint {
+  step: number;
+  designer: number;
+  intent: number;
+  designerNorm: number;
+  intentNorm: number;
+}
+
+export interface AlertMark {
+  /** 1-based label shown on the chart and in the alert list. */
+  label: string;
+  step: number;
+  kind: string;
+}
+
+const finite = (x: unknown): x is number => typeof x === "number" && Number.isFinite(x);
+
+/** Long-form rows {step, score, value} for one pair of series. */
+function longRows(points: CurvePoint[], raw: boolean) {
+  const rows: { step: number; score: string; value: number }[] = [];
+  for (const p of points) {
+    const d = raw ? p.designer : p.designerNorm;
+    const i = raw ? p.intent : p.intentNorm;
+    if (finite(d)) rows.push({ step: p.step, score: "designer", value: d });
+    if (finite(i)) rows.push({ step: p.step, score: "intent", value: i });
+  }
+  return rows;
+}
+
+/** Alert rules grouped by step, so two alerts at one checkpoint share a rule and a joint label. */
+function alertRules(alerts: AlertMark[]) {
+  const by = new Map<number, string[]>();
+  for (const a of alerts) by.set(a.step, [...(by.get(a.step) ?? []), a.label]);
+  return [...by.entries()].map(([step, labels]) => ({ step, label: labels.join(",") }));
+}
+
+function alertLayers(alerts: AlertMark[]) {
+  if (alerts.length === 0) return [];
+  const values = alertRules(alerts);
+  return [
+    { data: { values }, mark: { type: "rule", color: ROLE.alert, strokeWidth: 1.5, strokeDash: [2, 2] }, encoding: { x: { field: "step", type: "quantitative" } } },
+    {
+      data: { values },
+      mark: { type: "text", color: ROLE.alert, dy: -4, fontWeight: 700, fontSize: 11, baseline: "bottom", align: "left", dx: 3, y: 0 },
+      encoding: { x: { field: "step", type: "quantitative" }, text: { field: "label", type: "nominal" } },
+    },
+  ];
+}
+
+/** Designer vs intent over checkpoints, normalized (0 = uniform random, 1 = optimal), with alert rules. */
+export function curvesSpec(points: CurvePoint[], alerts: AlertMark[], opts: { width?: number } = {}): TopLevelSpec {
+  const rows = longRows(points, false);
+  const lo = Math.min(0, ...rows.map((r) => r.value));
+  const hi = Math.max(1, ...rows.map((r) => r.value));
+  return {
+    config: CONFIG,
+    width: opts.width ?? 640,
+    height: 240,
+    layer: [
+      { data: { values: [{ y: 0 }, { y: 1 }] }, mark: { type: "rule", color: "#c4cad4", strokeDash: [1, 3] }, encoding: { y: { field: "y", type: "quantitative" } } },
+      {
+        data: { values: rows },
+        mark: { type: "line", point: { filled: true, size: 22 }, strokeWidth: 2.2, interpolate: "linear" },
+        encoding: {
+          x: { field: "step", type: "quantitative", title: "training step" },
+          y: { field: "value", type: "quantitative", title: "normalized score", scale: { domain: [lo, hi], nice: false } },
+          color: { field: "score", type: "nominal", scale: SCORE_COLOR, title: null },
+          strokeDash: { field: "score", type: "nominal", scale: SCORE_DASH, legend: null },
+        },
+      },
+      ...alertLayers(alerts),
+    ],
+  } as unknown as TopLevelSpec;
+}
+
+/** Raw scores, one panel per score (their units differ), with the optimal and random reference lines. */
+export function rawCurvesSpec(points: CurvePoint[], refs: { designerOptimal: number; designerRandom: number; intentOptimal: number; intentRandom: number } | null, alerts: AlertMark[]): TopLevelSpec {
+  const panel = (score: "designer" | "intent") => {
+    const rows = longRows(points, true).filter((r) => r.score === score);
+    const ref = refs
+      ? [
+          { value: score === "designer" ? refs.designerOptimal : refs.intentOptimal, what: "optimal" },
+          { value: score === "designer" ? refs.designerRandom : refs.intentRandom, what: "uniform random" },
+        ].filter((r) => finite(r.value))
+      : [];
+    return {
+      width: 300,
+      height: 180,
+      title: score === "designer" ? "designer return (raw)" : "intent score (raw)",
+      layer: [
+        ...(ref.length
+          ? [
+              { data: { values: ref }, mark: { type: "rule", color: "#8c95a5", strokeDash: [1, 3] }, encoding: { y: { field: "value", type: "quantitative" } } },
+              {
+                data: { values: ref },
+                mark: { type: "text", color: ROLE.muted, align: "right", baseline: "bottom", dy: -2, fontSize: 10, x: "width" },
+                encoding: { y: { field: "value", type: "quantitative" }, text: { field: "what", type: "nominal" } },
+              },
+            ]
+          : []),
+        {
+          data: { values: rows },
+          mark: { type: "line", point: { filled: true, size: 18 }, strokeWidth: 2, color: score === "designer" ? ROLE.designer : ROLE.intent, strokeDash: score === "designer" ? [1, 0] : [6, 3] },
+          encoding: {
+            x: { field: "step", type: "quantitative", title: "training step" },
+            y: { field: "value", type: "quantitative", title: score === "designer" ? "discounted designer return" : "discounted intent", scale: { zero: false } },
+          },
+        },
+        ...alertLayers(alerts),
+      ],
+    };
+  };
+  return { config: CONFIG, hconcat: [panel("designer"), panel("intent")], resolve: { scale: { y: "independent" } } } as unknown as TopLevelSpec;
+}
+
+export interface VariantInterval {
+  variant: string;
+  score: "designer" | "intent";
+  point: number;
+  lower: number;
+  upper: number;
+}
+
+/** Interquartile mean per variant with bootstrap interval, designer and intent side by side. */
+export function intervalsSpec(rows: VariantInterval[], order: string[]): TopLevelSpec {
+  const values = rows.filter((r) => finite(r.point));
+  return {
+    config: CONFIG,
+    width: 520,
+    height: { step: 26 },
+    data: { values },
+    encoding: {
+      y: { field: "variant", type: "nominal", sort: order, title: null, axis: { labelLimit: 220 } },
+      yOffset: { field: "score", type: "nominal", scale: { domain: ["designer", "intent"], paddingInner: 0.2 } },
+      color: { field: "score", type: "nominal", scale: SCORE_COLOR, title: null },
+    },
+    layer: [
+      { mark: { type: "rule", strokeWidth: 2.5 }, encoding: { x: { field: "lower", type: "quantitative", title: "interquartile mean, normalized (bootstrap interval)", scale: { zero: false } }, x2: { field: "upper" } } },
+      { mark: { type: "point", filled: true, size: 60 }, encoding: { x: { field: "point", type: "quantitative" }, shape: { field: "score", type: "nominal", scale: { domain: ["designer", "intent"], range: ["circle", "diamond"] }, legend: null } } },
+    ],
+  } as unknown as TopLevelSpec;
+}
+
+export interface RateRow {
+  variant: string;
+  p: number;
+  lower: number;
+  upper: number;
+}
+
+/** Share of runs that raised an alert, per variant, with its interval. */
+export function alertRateSpec(rows: RateRow[], order: string[]): TopLevelSpec {
+  return {
+    config: CONFIG,
+    width: 520,
+    height: { step: 20 },
+    data: { values: rows.filter((r) => finite(r.p)) },
+    encoding: { y: { field: "variant", type: "nominal", sort: order, title: null, axis: { labelLimit: 220 } } },
+    layer: [
+      { mark: { type: "bar", color: ROLE.alert, opacity: 0.35, height: { band: 0.7 } }, encoding: { x: { field: "p", type: "quantitative", title: "share of runs with an alert", scale: { domain: [0, 1] }, axis: { format: "%" } } } },
+      { mark: { type: "rule", color: ROLE.alert, strokeWidth: 2 }, encoding: { x: { field: "lower", type: "quantitative" }, x2: { field: "upper" } } },
+      { mark: { type: "tick", color: ROLE.alert, thickness: 2 }, encoding: { x: { field: "p", type: "quantitative" } } },
+    ],
+  } as unknown as TopLevelSpec;
+}
+
+export interface PairCell {
+  a: string;
+  b: string;
+  p: number;
+  derived: boolean;
+}
+
+/** Pairwise probability of improvement, row over column, on a diverging ramp centred at 0.5. */
+export function pairsSpec(cells: PairCell[], order: string[]): TopLevelSpec {
+  const n = order.length;
+  const cell = Math.max(18, Math.min(48, Math.floor(520 / Math.max(1, n))));
+  return {
+    config: CONFIG,
+    width: cell * n,
+    height: cell * n,
+    data: { values: cells.filter((c) => finite(c.p)).map((c) => ({ ...c, text: c.p.toFixed(2) })) },
+    encoding: {
+      x: { field: "b", type: "nominal", sort: order, title: "column variant", axis: { labelAngle: -40, labelLimit: 140, orient: "top" } },
+      y: { field: "a", type: "nominal", sort: order, title: "row variant", axis: { labelLimit: 180 } },
+    },
+    layer: [
+      {
+        mark: { type: "rect", stroke: "#ffffff", strokeWidth: 1 },
+        encoding: { color: { field: "p", type: "quantitative", title: "P(row improves on column)", scale: { domain: [0, 0.5, 1], range: DIVERGING }, legend: { orient: "right", gradientLength: 120 } } },
+      },
+      ...(n <= 12
+        ? [{ mark: { type: "text", fontSize: 10, color: ROLE.ink }, encoding: { text: { field: "text", type: "nominal" } } }]
+        : []),
+    ],
+  } as unknown as TopLevelSpec;
+}
+
+export interface MultiRow {
+  variant: string;
+  run: string;
+  step: number;
+  score: "designer" | "intent";
+  value: number;
+}
+
+/** Small multiples: every variant's runs (normalized designer and intent), one panel per variant. */
+export function smallMultiplesSpec(rows: MultiRow[], order: string[]): TopLevelSpec {
+  return {
+    config: CONFIG,
+    data: { values: rows.filter((r) => finite(r.value)) },
+    facet: { field: "variant", type: "nominal", sort: order, title: null, header: { labelLimit: 160 } },
+    columns: Math.min(4, Math.max(1, order.length)),
+    spec: {
+      width: 150,
+      height: 90,
+      mark: { type: "line", strokeWidth: 1.3, opacity: 0.8 },
+      encoding: {
+        x: { field: "step", type: "quantitative", title: null, axis: { tickCount: 3, labelFontSize: 9 } },
+        y: { field: "value", type: "quantitative", title: null, scale: { domain: [0, 1], clamp: true }, axis: { tickCount: 3, labelFontSize: 9 } },
+        color: { field: "score", type: "nominal", scale: SCORE_COLOR, title: null },
+        strokeDash: { field: "score", type: "nominal", scale: SCORE_DASH, legend: null },
+        detail: { field: "run", type: "nominal" },
+      },
+    },
+  } as unknown as TopLevelSpec;
+}
+
+export interface PressurePoint {
+  strength: number;
+  kl?: number;
+  designer: number;
+  intent: number;
+}
+
+/** Scores as optimization pressure grows, with the peak and the onset of decoupling marked. */
+export function pressureSpec(points: PressurePoint[], marks: { label: string; strength: number }[]): TopLevelSpec {
+  const rows: { strength: number; score: string; value: number }[] = [];
+  for (const p of points) {
+    if (!finite(p.strength)) continue;
+    if (finite(p.designer)) rows.push({ strength: p.strength, score: "designer", value: p.designer });
+    if (finite(p.intent)) rows.push({ strength: p.strength, score: "intent", value: p.intent });
+  }
+  const positive = points.every((p) => !finite(p.strength) || p.strength > 0);
+  const spread = positive && points.length > 2 ? Math.max(...points.map((p) => p.strength)) / Math.min(...points.map((p) => p.strength)) : 1;
+  const xScale = spread > 50 ? { type: "log" } : {};
+  const m = marks.filter((x) => finite(x.strength));
+  return {
+    config: CONFIG,
+    width: 640,
+    height: 220,
+    layer: [
+      {
+        data: { values: rows },
+        mark: { type: "line", point: { filled: true, size: 22 }, strokeWidth: 2.2 },
+        encoding: {
+          x: { field: "strength", type: "quantitative", title: "optimization pressure (strength)", scale: xScale },
+          y: { field: "value", type: "quantitative", title: "score", scale: { zero: false } },
+          color: { field: "score", type: "nominal", scale: SCORE_COLOR, title: null },
+          strokeDash: { field: "score", type: "nominal", scale: SCORE_DASH, legend: null },
+        },
+      },
+      ...(m.length
+        ? [
+            { data: { values: m }, mark: { type: "rule", color: ROLE.muted, strokeDash: [3, 3] }, encoding: { x: { field: "strength", type: "quantitative" } } },
+            { data: { values: m }, mark: { type: "text", color: ROLE.ink, align: "left", dx: 3, baseline: "top", y: 0, fontSize: 11 }, encoding: { x: { field: "strength", type: "quantitative" }, text: { field: "label", type: "nominal" } } },
+          ]
+        : []),
+    ],
+  } as unknown as TopLevelSpec;
+}
+
+/** Compile a Vega-Lite spec and render it to an SVG string headlessly. */
+export async function renderSvg(spec: TopLevelSpec): Promise<string> {
+  const compiled = compile(spec).spec;
+  const view = new vega.View(vega.parse(compiled), { renderer: "none" });
+  try {
+    return await view.toSVG();
+  } finally {
+    view.finalize();
+  }
+}
+
+/** A rendered chart in its figure, marked `data-chart` so tests and readers can find it. */
+export async function chartFigure(name: string, spec: TopLevelSpec, caption: string): Promise<string> {
+  const svg = await renderSvg(spec);
+  return `<figure class="chart" data-chart="${esc(name)}">${svg}<figcaption>${caption}</figcaption></figure>`;
+}

@@ -1,0 +1,60 @@
+/**
+ * Writing a report file: read a run or comparison directory (and audit.json / pressure.json beside
+ * it or given), load the environment when there is something to draw on its map, render, and write
+ * the HTML atomically. `<dir>/report.html` by default.
+ */
+import { join, resolve } from "node:path";
+import { loadEnv } from "../model/registry.js";
+import type { FiniteModel } from "../model/types.js";
+import { writeFileAtomic } from "../store/atomic.js";
+import { renderComparisonReport } from "./comparison-report.js";
+import { dirKind, loadComparisonReport, loadRunReport, type AuditDoc, type PressureDoc } from "./data.js";
+import { renderRunReport } from "./run-report.js";
+
+export const REPORT_FILE = "report.html";
+
+export interface WriteReportOptions {
+  /** Output file (default `<dir>/report.html`). */
+  out?: string;
+  /** An audit document or the path of audit.json to include (default: `<dir>/audit.json` if present; null: none). */
+  audit?: string | AuditDoc | null;
+  /** A pressure document or the path of pressure.json (default: `<dir>/pressure.json` if present; null: none). */
+  pressure?: string | PressureDoc | null;
+  /** The environment's model, for drawings (default: loaded from the run's config when needed; null: no drawings). */
+  model?: FiniteModel | null;
+  /** Fixed time stamp for the footer (default: now). */
+  generatedAt?: string;
+}
+
+/** The environment of a run, or null when it cannot be loaded here (moved file, no finite model). */
+async function tryModel(spec: string | undefined): Promise<FiniteModel | null> {
+  if (!spec) return null;
+  try {
+    return (await loadEnv(spec)).model ?? null;
+  } catch {
+    return null;
+  }
+}
+
+/** Render the report of `dir` to HTML (no file written). */
+export async function renderReportFor(dir: string, opts: WriteReportOptions = {}): Promise<string> {
+  const kind = dirKind(dir);
+  const generatedAt = opts.generatedAt;
+  if (kind === "run") {
+    const data = loadRunReport(dir, opts);
+    const needModel = Boolean(data.policy || data.audit);
+    const model = opts.model !== undefined ? opts.model : needModel ? await tryModel(data.audit?.env ?? data.run.config.env) : null;
+    return renderRunReport({ ...data, model, generatedAt });
+  }
+  const data = loadComparisonReport(dir, opts);
+  const model = opts.model !== undefined ? opts.model : data.audit ? await tryModel(data.audit.env ?? data.comparison.env ?? data.runs[0]?.config.env) : null;
+  return renderComparisonReport({ ...data, model, generatedAt });
+}
+
+/** Write the report of a run or comparison directory; resolves to the written file's absolute path. */
+export async function writeReport(dir: string, opts: WriteReportOptions = {}): Promise<string> {
+  const html = await renderReportFor(dir, opts);
+  const out = resolve(opts.out ?? join(dir, REPORT_FILE));
+  writeFileAtomic(out, html);
+  return out;
+}
