@@ -1,0 +1,100 @@
+/**
+ * Optimization-pressure curves: designer return and intent of KL-regularized soft-optimal policies of
+ * increasing strength (src/solve/soft.ts), from the reference policy itself (beta = 0) to near-greedy.
+ *
+ * Strength is reported as the inverse temperature beta and as the KL divergence of the soft policy
+ * from the reference, accumulated along the policy's own trajectories (discounted, from the start
+ * distribution; `klFromReference(...).start`).
+ *
+ * Default betas: 0, then 24 values log-spaced from 0.1 / R to 1e4 / R, where R is the designer value
+ * scale max_s |V*_d(s)| + max_o |r_d(o)| (at least 1e-9): at beta = 0.1 / R the policy is within a few
+ * percent of the reference; at 1e4 / R an action that is worse by 1e-3 R has odds e^-10: near-greedy.
+ *
+ * peak: the first point of maximum intent. onset: the strength of the first point i from which intent
+ * falls by more than `tolerance` — some later point j has intent_j < intent_i - tolerance and a higher
+ * designer return, and no point between i and j has more intent than i — or null when there is none.
+ * Default tolerance: 1% of the model's intent range, 0.01 * (V_I* - V_I(uniform random)) (at least 1e-9).
+ *
+ * Pure; no I/O.
+ */
+import { designerReward } from "../model/reward.js";
+import type { FiniteModel, RewardVariant } from "../model/types.js";
+import { evaluatePolicy, startValue, uniformPolicy, valueIteration, type Policy } from "../solve/dp.js";
+import { softValueIteration } from "../solve/soft.js";
+import { InputError } from "../errors.js";
+
+export interface PressurePoint {
+  strength: number;
+  kl: number;
+  designer: number;
+  intent: number;
+}
+
+export interface PressureCurve {
+  points: PressurePoint[];
+  peak: { strength: number; intent: number };
+  onset: number | null;
+}
+
+export interface PressureOptions {
+  reference?: Policy;
+  betas?: number[];
+  gamma?: number;
+  /** Intent drop that counts as a fall (default: 1% of the intent range, see the module comment). */
+  tolerance?: number;
+  /** Number of log-spaced betas after beta = 0 (default 24). */
+  count?: number;
+  /** Solver tolerance (default 1e-9). */
+  tol?: number;
+}
+
+export function defaultBetas(model: FiniteModel, rd: Float64Array, gamma: number, count = 24): number[] {
+  const v = valueIteration(model, rd, { gamma, tol: 1e-8 }).values;
+  let R = 0;
+  for (let s = 0; s < v.length; s++) R = Math.max(R, Math.abs(v[s]));
+  let rm = 0;
+  for (let o = 0; o < rd.length; o++) rm = Math.max(rm, Math.abs(rd[o]));
+  R = Math.max(R + rm, 1e-9);
+  const lo = Math.log10(0.1 / R);
+  const hi = Math.log10(1e4 / R);
+  const out = [0];
+  for (let i = 0; i < count; i++) out.push(10 ** (lo + ((hi - lo) * i) / Math.max(1, count - 1)));
+  return out;
+}
+
+/** The onset index per the module comment, or -1. */
+export function onsetIndex(points: readonly PressurePoint[], tolerance: number): number {
+  for (let i = 0; i < points.length; i++) {
+    for (let j = i + 1; j < points.length; j++) {
+      if (points[j].intent > points[i].intent) break;
+      if (points[j].intent < points[i].intent - tolerance && points[j].designer > points[i].designer) return i;
+    }
+  }
+  return -1;
+}
+
+export function pressureCurve(model: FiniteModel, variant: RewardVariant, opts: PressureOptions = {}): PressureCurve {
+  const gamma = opts.gamma ?? model.gamma;
+  const tol = opts.tol ?? 1e-9;
+  const rd = designerReward(model, variant, gamma);
+  const reference = opts.reference ?? uniformPolicy(model);
+  const betas = opts.betas ?? defaultBetas(model, rd, gamma, opts.count);
+  for (const b of betas) if (!(b >= 0)) throw new InputError("input.beta", `strengths must be >= 0, got ${b}`, "pressure betas");
+  const points: PressurePoint[] = [];
+  for (const beta of betas) {
+    const sol = softValueIteration(model, rd, { beta, reference, gamma, tol });
+    const designer = startValue(model, evaluatePolicy(model, rd, sol.policy, { gamma, tol }).values);
+    const intent = startValue(model, evaluatePolicy(model, model.intent, sol.policy, { gamma, tol }).values);
+    points.push({ strength: beta, kl: sol.kl.start, designer, intent });
+  }
+  let tolerance = opts.tolerance;
+  if (tolerance === undefined) {
+    const best = startValue(model, valueIteration(model, model.intent, { gamma, tol }).values);
+    const rnd = startValue(model, evaluatePolicy(model, model.intent, uniformPolicy(model), { gamma, tol }).values);
+    tolerance = Math.max(1e-9, 0.01 * Math.abs(best - rnd));
+  }
+  let p = 0;
+  for (let i = 1; i < points.length; i++) if (points[i].intent > points[p].intent) p = i;
+  const on = onsetIndex(points, tolerance);
+  return { points, peak: { strength: points[p]?.strength ?? 0, intent: points[p]?.intent ?? NaN }, onset: on < 0 ? null : points[on].strength };
+}
