@@ -16,6 +16,9 @@ export default defineEnv<Tank>({
   gamma: 0.95,
   reset: () => ({ level: 0, sealed: false }),
   step: (s, a) => {
+    if (!Number.isInteger(a) || a < 0 || a > 2) throw new Error(`invalid action ${a}`);
+    // Sealed is terminal: it stays sealed, with nothing more to count.
+    if (s.sealed) return { state: s, features: {}, intent: 0, terminated: true };
     const level = Math.max(0, Math.min(6, s.level + (a === 1 ? 1 : a === 2 ? -1 : 0)));
     const full = level === 4 && a === 0;
     return {

@@ -52,6 +52,11 @@ function outcomesOf<S>(def: EnvDefinition<S>, state: S, a: number, source: strin
 
 /** Enumerate and compile; returns null when the module opts out (`finite: false`). */
 export function compileModule<S>(def: EnvDefinition<S>, opts: CompileOptions): FiniteModel | null {
+  return compileModuleStates(def, opts)?.model ?? null;
+}
+
+/** As `compileModule`, also returning the module state behind each model state id. */
+export function compileModuleStates<S>(def: EnvDefinition<S>, opts: CompileOptions): { model: FiniteModel; states: S[] } | null {
   if (def.finite === false) return null;
   const source = opts.source;
   const key = (s: S) => guard(source, "key()", () => (def.key ? def.key(s) : canonicalKey(s)));
@@ -122,5 +127,5 @@ export function compileModule<S>(def: EnvDefinition<S>, opts: CompileOptions): F
     b.setObservations(first.map((_, d) => `obs${d}`), values);
   }
   if (def.rewards) b.setVariants(Object.fromEntries(Object.entries(def.rewards).map(([name, r]) => [name, { name, env: def.name, weights: r.weights }])));
-  return b.build();
+  return { model: b.build(), states };
 }

@@ -1,4 +1,6 @@
 export * from "./define.js";
-export { compileModule } from "./compile.js";
+export { compileModule, compileModuleStates } from "./compile.js";
 export { moduleTabularEnv, type ModuleEnv } from "./env.js";
 export { loadModuleEnv, setMaxStates, type SimulatorHandle } from "./load.js";
+export { Episode, isValidAction, type EpisodeStep, type EpisodeOptions } from "./episode.js";
+export { modelSimulator } from "./model-sim.js";

@@ -6,12 +6,14 @@
 import { pathToFileURL } from "node:url";
 import { InputError } from "../errors.js";
 import type { LoadedEnv } from "../model/registry.js";
-import { compileModule } from "./compile.js";
+import { compileModuleStates } from "./compile.js";
 import { DEFAULT_MAX_STATES, type EnvDefinition } from "./define.js";
 
 export interface SimulatorHandle {
   def: EnvDefinition<unknown>;
   source: string;
+  /** When compiled: the module state behind each model state id. */
+  states?: unknown[];
 }
 
 let maxStates = DEFAULT_MAX_STATES;
@@ -56,7 +58,8 @@ export function validateDefinition(value: unknown, file: string): EnvDefinition<
 
 export async function loadModuleEnv(file: string): Promise<LoadedEnv> {
   const def = validateDefinition(await importModule(file), file);
-  const model = compileModule(def, { maxStates, source: file }) ?? undefined;
-  const simulator: SimulatorHandle = { def, source: file };
+  const compiled = compileModuleStates(def, { maxStates, source: file });
+  const model = compiled?.model;
+  const simulator: SimulatorHandle = { def, source: file, states: compiled?.states };
   return { model: model ? { ...model, source: file } : undefined, simulator, kind: "module", spec: file };
 }

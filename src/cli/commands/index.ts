@@ -3,6 +3,7 @@ import type { CommandModule } from "../context.js";
 import { registerEnvs } from "./envs.js";
 import { registerExport } from "./export.js";
 import { registerSolve } from "./solve.js";
+import { registerCheck } from "./check.js";
 import { registerCompare } from "./compare.js";
 import { registerWorker } from "./worker.js";
 import { registerRuns } from "./runs.js";

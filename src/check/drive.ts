@@ -1,0 +1,59 @@
+/** Running trajectories of a check subject through the episode wrapper, and comparing outcomes. */
+import type { Rng } from "../rng/rng.js";
+import { createRng } from "../rng/rng.js";
+import { canonicalKey, type EnvDefinition, type StepResult } from "../sim/define.js";
+import { Episode, type EpisodeStep } from "../sim/episode.js";
+import type { CheckSubject } from "./subject.js";
+
+/** A property violation: the message is the counterexample's explanation. */
+export class Violation extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = "Violation";
+  }
+}
+
+export interface Trajectory<S> {
+  start: S;
+  steps: (EpisodeStep<S> & { action: number; from: S })[];
+  episode: Episode<S>;
+  rng: Rng;
+}
+
+export function stateKey<S>(def: EnvDefinition<S>, s: S): string {
+  return def.key ? def.key(s) : canonicalKey(s);
+}
+
+/** Features with zeros dropped, sorted: the same transition gives the same text however it is written. */
+export function featureKey(features: Record<string, number> | undefined): string {
+  const f = features ?? {};
+  return canonicalKey(Object.fromEntries(Object.keys(f).filter((k) => f[k] !== 0).sort().map((k) => [k, f[k]])));
+}
+
+/** The identity of one step's result (state reached, features, intent, termination). */
+export function outcomeKey<S>(def: EnvDefinition<S>, r: Pick<StepResult<S>, "state" | "features" | "intent" | "terminated">): string {
+  return canonicalKey([stateKey(def, r.state), featureKey(r.features), r.intent ?? 0, r.terminated === true]);
+}
+
+/**
+ * Reset with `createRng("check/<seed>")` and play `actions`; stop at the episode's end. With `pad`,
+ * keep playing actions 0, 1, 2, ... cyclically after the list runs out until the episode ends.
+ */
+export function play<S>(subject: CheckSubject<S>, seed: number, actions: readonly number[], opts: { validate?: boolean; pad?: boolean } = {}): Trajectory<S> {
+  const rng = createRng(`check/${seed}`);
+  const episode = new Episode(subject.def, { source: subject.source, validate: opts.validate ?? false });
+  const start = episode.reset(rng);
+  const steps: Trajectory<S>["steps"] = [];
+  const nA = subject.def.actions.length;
+  for (let i = 0; !episode.done; i++) {
+    if (i >= actions.length && !opts.pad) break;
+    const a = i < actions.length ? actions[i] : i % nA;
+    const from = episode.state;
+    steps.push({ ...episode.step(a, rng), action: a, from });
+  }
+  return { start, steps, episode, rng };
+}
+
+export function describeActions(def: EnvDefinition<unknown>, actions: readonly number[]): string {
+  return `[${actions.map((a) => def.actions[a] ?? String(a)).join(", ")}]`;
+}

@@ -1,0 +1,4 @@
+export { runCheck, checkSubject, DEFAULT_CHECK_RUNS, DEFAULT_CHECK_SEED, type CheckOptions, type CheckReport } from "./run.js";
+export { PROPERTIES, propertiesFor, FREQUENCY_ALPHA, FREQUENCY_SAMPLES, type PropertyResult, type PropertySpec } from "./properties.js";
+export { subjectOf, type CheckSubject } from "./subject.js";
+export { chiSquareCdf, chiSquareQuantile, chiSquareSurvival, chiSquareTest, regularizedGammaP, lnGamma } from "./chisq.js";

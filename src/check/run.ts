@@ -1,0 +1,65 @@
+/**
+ * `gapwatch check` as a function: load the environment, run every property (or one), and return
+ * the report document. Pure apart from loading the environment.
+ */
+import { InputError } from "../errors.js";
+import { loadEnv } from "../model/registry.js";
+import { setMaxStates } from "../sim/load.js";
+import { DEFAULT_MAX_STATES } from "../sim/define.js";
+import { propertiesFor, type PropertyResult } from "./properties.js";
+import { subjectOf, type CheckSubject } from "./subject.js";
+
+export interface CheckOptions {
+  runs?: number;
+  seed?: number;
+  /** Run only this property (required with `replay`). */
+  property?: string;
+  /** fast-check path of a counterexample to replay. */
+  replay?: string;
+  maxStates?: number;
+}
+
+export interface CheckReport {
+  env: string;
+  seed: number;
+  runs: number;
+  properties: (PropertyResult & { replay?: string })[];
+  passed: boolean;
+}
+
+export const DEFAULT_CHECK_RUNS = 100;
+export const DEFAULT_CHECK_SEED = 1;
+
+function quote(s: string): string {
+  return /^[\w./:@-]+$/.test(s) ? s : `'${s.replace(/'/g, "'\\''")}'`;
+}
+
+export function checkSubject(subject: CheckSubject, opts: CheckOptions = {}): CheckReport {
+  const runs = opts.runs ?? DEFAULT_CHECK_RUNS;
+  const seed = opts.seed ?? DEFAULT_CHECK_SEED;
+  let props = propertiesFor(subject);
+  if (opts.replay !== undefined && opts.property === undefined) throw new InputError("cli.replay", "--replay needs --property <name> (the property whose counterexample it replays)", "--replay");
+  if (opts.property !== undefined) {
+    const one = props.filter((p) => p.name === opts.property);
+    if (one.length === 0) throw new InputError("cli.property", `unknown property "${opts.property}"; known: ${props.map((p) => p.name).join(", ")}`, "--property");
+    props = one;
+  }
+  const results = props.map((p) => {
+    const r = p.run(subject, { runs, seed, path: opts.replay });
+    const replay =
+      r.status === "failed" && r.path !== undefined
+        ? `gapwatch check --env ${quote(subject.spec)} --runs ${runs} --seed ${seed} --property ${quote(p.name)} --replay ${quote(r.path)}`
+        : undefined;
+    return replay ? { ...r, replay } : r;
+  });
+  return { env: subject.spec, seed, runs, properties: results, passed: results.every((r) => r.status !== "failed") };
+}
+
+export async function runCheck(spec: string, opts: CheckOptions = {}): Promise<CheckReport> {
+  setMaxStates(opts.maxStates ?? DEFAULT_MAX_STATES);
+  try {
+    return checkSubject(subjectOf(await loadEnv(spec), spec), opts);
+  } finally {
+    setMaxStates(DEFAULT_MAX_STATES);
+  }
+}

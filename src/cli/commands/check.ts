@@ -1,0 +1,66 @@
+import type { Command } from "commander";
+import { EXIT } from "../../errors.js";
+import { parseSeed } from "../../rng/rng.js";
+import { DEFAULT_CHECK_RUNS, DEFAULT_CHECK_SEED, runCheck, type CheckReport } from "../../check/run.js";
+import { DEFAULT_MAX_STATES } from "../../sim/define.js";
+import { action, intOption, type CliContext } from "../context.js";
+import { emit, paint, table, useColor } from "../io.js";
+
+/** The JSON document of `gapwatch check`. */
+export function checkDocument(r: CheckReport) {
+  return {
+    env: r.env,
+    seed: r.seed,
+    runs: r.runs,
+    properties: r.properties.map((p) => ({
+      name: p.name,
+      status: p.status,
+      runs: p.runs,
+      ...(p.note ? { note: p.note } : {}),
+      ...(p.counterexample ? { counterexample: p.counterexample } : {}),
+      ...(p.replay ? { replay: p.replay, path: p.path } : {}),
+    })),
+    passed: r.passed,
+  };
+}
+
+export function formatCheck(r: CheckReport, color: boolean): string {
+  const mark = (s: string) => (s === "passed" ? paint(color, "green", "PASS") : s === "failed" ? paint(color, "red", "FAIL") : paint(color, "yellow", "SKIP"));
+  let text = `${paint(color, "bold", r.env)}  seed ${r.seed}  runs ${r.runs}\n\n`;
+  text += table(
+    ["property", "result", "runs", "note"],
+    r.properties.map((p) => [p.name, mark(p.status), p.runs, p.status === "failed" ? "see below" : (p.note ?? "")]),
+    { color },
+  );
+  for (const p of r.properties.filter((x) => x.status === "failed")) {
+    text += `\n${paint(color, "red", `FAIL ${p.name}`)}: ${p.counterexample?.message ?? ""}\n`;
+    text += `  counterexample: ${JSON.stringify(p.counterexample?.input)}\n`;
+    if (p.replay) text += `  replay: ${p.replay}\n`;
+  }
+  const failed = r.properties.filter((p) => p.status === "failed").length;
+  text += failed ? `\n${paint(color, "red", `${failed} propert${failed === 1 ? "y" : "ies"} failed`)}\n` : `\n${paint(color, "green", "all properties passed")}\n`;
+  return text;
+}
+
+export function registerCheck(program: Command, ctx: CliContext): void {
+  program
+    .command("check")
+    .description("property-test an environment: determinism, refusals, finite features and intent, probabilities, step limit, transition frequencies, intent hidden from the learner")
+    .requiredOption("--env <env>", "built-in scenario name, model file (.json) or simulator module (.ts/.js)")
+    .option("--runs <n>", `generated cases per property (default ${DEFAULT_CHECK_RUNS})`)
+    .option("--seed <seed>", `fast-check seed (default ${DEFAULT_CHECK_SEED})`)
+    .option("--property <name>", "run only this property")
+    .option("--replay <path>", "replay a counterexample: the fast-check path printed with a failure (needs --property and the same --seed, --runs)")
+    .option("--max-states <n>", `state bound when compiling a module (default ${DEFAULT_MAX_STATES})`)
+    .option("--json", "print one JSON document")
+    .action(
+      action(ctx, async (opts: { env: string; runs?: string; seed?: string; property?: string; replay?: string; maxStates?: string; json?: boolean }) => {
+        const runs = intOption(opts.runs, "--runs", { min: 1, def: DEFAULT_CHECK_RUNS });
+        const seed = opts.seed === undefined ? DEFAULT_CHECK_SEED : parseSeed(opts.seed);
+        const maxStates = intOption(opts.maxStates, "--max-states", { min: 1, def: DEFAULT_MAX_STATES });
+        const report = await runCheck(opts.env, { runs, seed, property: opts.property, replay: opts.replay, maxStates });
+        emit(ctx.io, Boolean(opts.json), checkDocument(report), () => formatCheck(report, useColor(ctx.io)));
+        return report.passed ? EXIT.ok : EXIT.gate;
+      }),
+    );
+}
