@@ -8,4 +8,4 @@ import { registerCompare } from "./compare.js";
 import { registerWorker } from "./worker.js";
 import { registerRuns } from "./runs.js";
 
-export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCompare, registerWorker, registerRuns];
+export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCheck, registerCompare, registerWorker, registerRuns];
