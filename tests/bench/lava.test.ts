@@ -39,10 +39,6 @@ describe("xorshift32 (PROBLEM.md section 4)", () => {
     const rng = new Xorshift32(2654435769);
     expect(Array.from({ length: 6 }, () => rng.uint32())).toEqual([1359758873, 3761132862, 2075758394, 25405621, 3862129951, 4186559031]);
   });
-  it("explore test u < 429496730 equals u / 2^32 < 0.1 at the boundary", () => {
-    // shared/bench/PROBLEM.md section 5, step 1
-    for (const u of [429496729, 429496730, 429496731]) expect(u < 429496730).toBe(u / 4294967296 < 0.1);
-  });
 });
 
 describe("lava field model (PROBLEM.md sections 1-3)", () => {
@@ -110,9 +106,24 @@ describe("CHECK-line plumbing", () => {
     expect(leftSum(Float64Array.from([1e16, 1, -1e16]))).toBe(0);
   });
   it("parses a peer's output and keys CHECK lines by their inputs", () => {
+    // shared/bench/PROBLEM.md section 7 (output format); peers/bench.py keys CHECK lines the same way
     const txt = `${VECTORS[0][1]}\nTIME ql impl=c train_s=0.000010 steps_per_s=1\n`;
     expect(parseOutput(txt, "t").seconds).toBe(0.00001);
     expect(checkKey(VECTORS[0][1])).toBe("CHECK ql W=3 H=3 steps=1000 seed=12345");
     expect(checkKey(VECTORS[3][1])).toBe("CHECK vi W=3 H=3");
+  });
+});
+
+describe("bench options", () => {
+  it("--quick means one run and no warm-up unless given; unknown entries and options are input errors", async () => {
+    // gapwatch convention (DEVELOPERS.md): bad input is an InputError with a cli.* code
+    const { parseBenchArgs, ENTRIES } = await import("../../src/bench/main.js");
+    expect(ENTRIES.map((e) => e.name)).toEqual(["vi", "ql"]);
+    expect(parseBenchArgs(["--quick"])).toMatchObject({ quick: true, runs: 1, warmup: 0 });
+    expect(parseBenchArgs(["--quick", "--runs", "4"])).toMatchObject({ runs: 4 });
+    expect(parseBenchArgs(["--only", "ql"]).only).toEqual(["ql"]);
+    expect(() => parseBenchArgs(["--only", "nope"])).toThrow(expect.objectContaining({ code: "cli.benchOption" }));
+    expect(() => parseBenchArgs(["--runs", "x"])).toThrow(expect.objectContaining({ code: "cli.benchOption" }));
+    expect(() => parseBenchArgs(["--fast"])).toThrow(expect.objectContaining({ code: "cli.benchOption" }));
   });
 });
