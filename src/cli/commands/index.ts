@@ -7,5 +7,6 @@ import { registerCheck } from "./check.js";
 import { registerCompare } from "./compare.js";
 import { registerWorker } from "./worker.js";
 import { registerRuns } from "./runs.js";
+import { registerReport } from "./report.js";
 
-export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCheck, registerCompare, registerWorker, registerRuns];
+export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCheck, registerCompare, registerWorker, registerRuns, registerReport];
