@@ -49,7 +49,7 @@ export interface MonteCarloScores extends Scores {
   intentCI: Estimate;
   /**
    * Largest possible contribution of the steps cut off by the horizon, per score:
-   * gamma^horizon * max|r| / (1 - gamma) (0 when no rollout was cut). The exact value lies within
+   * gamma^horizon * max|r| / (1 - gamma) (0 when no rollout was cut; Infinity with gamma = 1). The exact value lies within
    * the interval widened by this bound.
    */
   designerTail: number;
@@ -263,10 +263,11 @@ function maxAbs(x: Float64Array): number {
 
 /**
  * Monte Carlo estimate of the same scores: `episodes` rollouts of the deterministic policy from the
- * start distribution, through the model's transition probabilities. Draws: one `rng.float()` per
+ * start distribution, through the model's transition probabilities. `actions = null` rolls out the
+ * uniform-random policy instead (one `rng.int(nActions)` per step). Draws: one `rng.float()` per
  * start when there are several start states, one per step when the pair has several outcomes.
  */
-export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, actions: Int32Array, opts: MonteCarloOptions): MonteCarloScores {
+export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, actions: Int32Array | null, opts: MonteCarloOptions): MonteCarloScores {
   const gamma = refs.gamma;
   const horizon = opts.horizon ?? defaultRolloutHorizon(model, gamma);
   const { rng } = opts;
@@ -300,7 +301,7 @@ export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, ac
     let disc = 1;
     let t = 0;
     while (!terminal[s] && t < horizon) {
-      const k = s * nA + clampAction(actions[s], nA);
+      const k = s * nA + (actions ? clampAction(actions[s], nA) : rng.int(nA));
       let o = saStart[k];
       const hi = saStart[k + 1] - 1;
       if (o !== hi) {
@@ -323,7 +324,7 @@ export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, ac
   const n = opts.episodes;
   const designerCI = estimate(sd, sd2, n);
   const intentCI = estimate(si, si2, n);
-  const tailFactor = cut === 0 || gamma >= 1 ? 0 : gamma ** horizon / (1 - gamma);
+  const tailFactor = cut === 0 ? 0 : gamma >= 1 ? Infinity : gamma ** horizon / (1 - gamma);
   return {
     ...normalized(refs, designerCI.mean, intentCI.mean),
     episodes: n,

@@ -4,9 +4,11 @@ import { registerEnvs } from "./envs.js";
 import { registerExport } from "./export.js";
 import { registerSolve } from "./solve.js";
 import { registerCheck } from "./check.js";
+import { registerTrain } from "./train.js";
+import { registerDemo } from "./demo.js";
 import { registerCompare } from "./compare.js";
 import { registerWorker } from "./worker.js";
 import { registerRuns } from "./runs.js";
 import { registerReport } from "./report.js";
 
-export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCheck, registerCompare, registerWorker, registerRuns, registerReport];
+export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCheck, registerTrain, registerDemo, registerCompare, registerWorker, registerRuns, registerReport];

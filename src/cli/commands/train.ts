@@ -1,0 +1,157 @@
+/**
+ * `gapwatch train`: train a learner on the designer reward while the monitor watches intent.
+ * Exit codes: 0 done, 2 bad input, 3 an alert fired and --fail-on-alert was given, 130 interrupted.
+ */
+import type { Command } from "commander";
+import { EXIT } from "../../errors.js";
+import type { RunResult } from "../../store/types.js";
+import type { EvaluationMode } from "../../train/config.js";
+import { runTraining, type Progress } from "../../train/run.js";
+import { resolve } from "node:path";
+import { action, intOption, type CliContext } from "../context.js";
+import { emit, paint, sparkline, table, useColor, type CliIO } from "../io.js";
+import { parseSeed } from "../../rng/rng.js";
+import { InputError } from "../../errors.js";
+
+export const CAUTION =
+  "A clean result is evidence, not certification: it covers this environment, learner, seed and step budget only.";
+
+/** The JSON document of `gapwatch train`. */
+export function trainDocument(r: RunResult) {
+  return {
+    runDir: r.runDir,
+    env: r.config.env,
+    reward: r.config.reward,
+    learner: r.config.learner,
+    seed: r.config.seed,
+    verdict: r.verdict,
+    status: r.status,
+    reason: r.reason,
+    checkpoints: r.checkpoints.map((c) => ({ step: c.step, designer: c.designer, intent: c.intent, designerNorm: c.designerNorm, intentNorm: c.intentNorm })),
+    alerts: r.alerts.map((a) => ({ step: a.step, kind: a.kind, message: a.message })),
+  };
+}
+
+export function verdictColor(v: RunResult["verdict"]): "green" | "red" | "yellow" {
+  return v === "aligned" ? "green" : v === "decoupled" ? "red" : "yellow";
+}
+
+/** Both normalized series on one shared scale (so their levels compare). */
+export function sparklines(r: RunResult): { designer: string; intent: string } {
+  const d = r.checkpoints.map((c) => c.designerNorm);
+  const i = r.checkpoints.map((c) => c.intentNorm);
+  const lo = Math.min(0, ...d, ...i);
+  const hi = Math.max(1, ...d, ...i);
+  return { designer: sparkline(d, [lo, hi]), intent: sparkline(i, [lo, hi]) };
+}
+
+/** Human summary of a run. Pure. */
+export function trainText(r: RunResult, color: boolean): string {
+  const f = r.final;
+  const sp = sparklines(r);
+  let t = `${paint(color, "bold", r.config.env)}  reward ${paint(color, "bold", r.config.reward)}  learner ${r.config.learner}  seed ${r.config.seed}  steps ${r.steps}  episodes ${r.episodes}\n`;
+  t += `verdict: ${paint(color, verdictColor(r.verdict), r.verdict)}${r.status !== "complete" ? ` (${r.status})` : ""}\n  ${r.reason}\n\n`;
+  if (f) {
+    t += table(
+      ["series", "checkpoints (normalized, 0 = random, 1 = optimal)", "final", "raw"],
+      [
+        ["designer", sp.designer, f.designerNorm.toFixed(2), f.designer.toFixed(4)],
+        ["intent", sp.intent, f.intentNorm.toFixed(2), f.intent.toFixed(4)],
+      ],
+      { color },
+    );
+  }
+  if (r.alerts.length > 0) {
+    t += `\nalerts:\n`;
+    for (const a of r.alerts) t += `  step ${a.step}  ${paint(color, "red", a.kind)}  ${a.message}\n`;
+  } else t += `\nno alerts\n`;
+  t += `\nrun directory: ${r.runDir}\n${paint(color, "dim", CAUTION)}\n`;
+  return t;
+}
+
+/** A one-line progress bar with a live readout, redrawn in place on a TTY stderr. */
+export function progressReporter(io: CliIO, label: string): { update(p: Progress): void; done(): void } {
+  if (!io.stderrIsTTY) return { update() {}, done() {} };
+  const width = 24;
+  let alerts = 0;
+  return {
+    update(p) {
+      alerts += p.alerts.length;
+      const frac = Math.min(1, p.step / p.steps);
+      const filled = Math.round(frac * width);
+      const bar = "#".repeat(filled) + "-".repeat(width - filled);
+      io.err(`\r${label} [${bar}] ${String(Math.round(frac * 100)).padStart(3)}%  designer ${p.record.designerNorm.toFixed(2)}  intent ${p.record.intentNorm.toFixed(2)}  alerts ${alerts}   `);
+    },
+    done() {
+      io.err("\r\u001b[2K");
+    },
+  };
+}
+
+export interface TrainCliOptions {
+  env: string;
+  reward?: string;
+  learner?: string;
+  steps?: string;
+  seed?: string;
+  checkpoints?: string;
+  eval?: string;
+  mcEpisodes?: string;
+  runsDir?: string;
+  failOnAlert?: boolean;
+  json?: boolean;
+}
+
+export function parseEvaluation(v: string | undefined): EvaluationMode | undefined {
+  if (v === undefined) return undefined;
+  if (v === "exact" || v === "mc" || v === "both") return v;
+  throw new InputError("cli.eval", `--eval expects exact, mc or both, got "${v}"`, "--eval");
+}
+
+/** SIGINT handler for the duration of a run: the first Ctrl-C stops training and stores what there is. */
+export function withInterrupt<T>(fn: (signal: { aborted: boolean }) => Promise<T>): Promise<T> {
+  const signal = { aborted: false };
+  const onInt = () => {
+    signal.aborted = true;
+  };
+  process.once("SIGINT", onInt);
+  return fn(signal).finally(() => process.removeListener("SIGINT", onInt));
+}
+
+export function registerTrain(program: Command, ctx: CliContext): void {
+  program
+    .command("train")
+    .description("train a learner on the designer reward while the monitor watches the held-out intent; verdict aligned / decoupled / inconclusive")
+    .requiredOption("--env <env>", "built-in scenario name or model file (.json)")
+    .option("--reward <reward>", "reward variant name or reward file (default: the variant named default, else the first)")
+    .option("--learner <learner>", "q-learning, sarsa, expected-sarsa, double-q (default q-learning)")
+    .option("--steps <n>", "environment steps (default: sized to the model, a few seconds at most)")
+    .option("--seed <s>", "seed of every random stream (default 1)")
+    .option("--checkpoints <k>", "number of checkpoints (default 20)")
+    .option("--eval <mode>", "checkpoint scoring: exact, mc or both (default exact)")
+    .option("--mc-episodes <n>", "rollouts per checkpoint with --eval mc|both (default 300)")
+    .option("--runs-dir <dir>", "where run directories go (default ./runs)")
+    .option("--fail-on-alert", "exit 3 when any alert fired (for CI gating of reward changes)")
+    .option("--json", "print one JSON document")
+    .action(
+      action(ctx, async (opts: TrainCliOptions) => {
+        const input = {
+          env: opts.env,
+          reward: opts.reward,
+          learner: opts.learner,
+          steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
+          seed: opts.seed === undefined ? undefined : parseSeed(opts.seed, "--seed"),
+          checkpoints: opts.checkpoints === undefined ? undefined : intOption(opts.checkpoints, "--checkpoints"),
+          evaluation: parseEvaluation(opts.eval),
+          mcEpisodes: opts.mcEpisodes === undefined ? undefined : intOption(opts.mcEpisodes, "--mc-episodes", { min: 2 }),
+        };
+        const runsDir = resolve(ctx.io.cwd, opts.runsDir ?? "runs");
+        const progress = opts.json ? { update() {}, done() {} } : progressReporter(ctx.io, `${opts.env} ${opts.reward ?? ""}`.trim());
+        const r = await withInterrupt((signal) => runTraining(input, { runsDir, signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()));
+        emit(ctx.io, Boolean(opts.json), trainDocument(r), () => trainText(r, useColor(ctx.io)));
+        if (r.status === "interrupted") return EXIT.interrupted;
+        if (opts.failOnAlert && r.alerts.length > 0) return EXIT.gate;
+        return EXIT.ok;
+      }),
+    );
+}
