@@ -3,6 +3,8 @@ import type { CommandModule } from "../context.js";
 import { registerEnvs } from "./envs.js";
 import { registerExport } from "./export.js";
 import { registerSolve } from "./solve.js";
+import { registerAudit } from "./audit.js";
+import { registerPressure } from "./pressure.js";
 import { registerCheck } from "./check.js";
 import { registerTrain } from "./train.js";
 import { registerDemo } from "./demo.js";
@@ -11,4 +13,4 @@ import { registerWorker } from "./worker.js";
 import { registerRuns } from "./runs.js";
 import { registerReport } from "./report.js";
 
-export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCheck, registerTrain, registerDemo, registerCompare, registerWorker, registerRuns, registerReport];
+export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCheck, registerTrain, registerDemo, registerCompare, registerWorker, registerRuns, registerReport, registerAudit, registerPressure];
