@@ -1,0 +1,86 @@
+import { existsSync, readFileSync, rmSync } from "node:fs";
+import { join } from "node:path";
+import { afterAll, describe, expect, it } from "vitest";
+import { memoryIO } from "../../src/cli/io.js";
+import { runCli } from "../../src/cli/program.js";
+import { tempDir } from "../batch/helpers.js";
+
+async function cli(...argv: string[]) {
+  const io = memoryIO();
+  const code = await runCli(argv, io);
+  return { code, out: io.stdout, err: io.stderr };
+}
+
+const dirs: string[] = [];
+afterAll(() => {
+  for (const d of dirs) rmSync(d, { recursive: true, force: true });
+});
+
+describe("gapwatch compare / runs", () => {
+  it("prints exactly the documented JSON shape, writes comparison.json/.csv and --csv, and lists the runs by filter", async () => {
+    const runsDir = tempDir("cli");
+    dirs.push(runsDir);
+    const csv = join(runsDir, "out.csv");
+    const r = await cli("compare", "--env", "tests/fixtures/batch/corridor.json", "--rewards", "default,dawdle", "--seed-list", "1,2,3", "--steps", "600", "--workers", "2", "--runs-dir", runsDir, "--csv", csv, "--bootstrap-reps", "300", "--json");
+    expect(r.err).toMatch(/comparison: /);
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.out);
+    expect(Object.keys(doc)).toEqual(["env", "variants", "ranking", "pairs", "failed"]);
+    expect(doc.env).toBe("tests/fixtures/batch/corridor.json");
+    for (const v of doc.variants) {
+      expect(Object.keys(v)).toEqual(["reward", "runs", "verdicts", "alertRate", "designer", "intent", "failed"]);
+      expect(Object.keys(v.verdicts)).toEqual(["aligned", "decoupled", "inconclusive"]);
+      expect(Object.keys(v.alertRate)).toEqual(["p", "ci"]);
+      for (const s of [v.designer, v.intent]) expect(Object.keys(s)).toEqual(["mean", "median", "iqm", "ci"]);
+      expect(v.runs).toBe(3);
+    }
+    expect(Object.keys(doc.pairs[0])).toEqual(["a", "b", "probabilityOfImprovement", "ci"]);
+    // "dawdle" pays per step and never for the goal: it games the corridor; "default" reaches the goal.
+    expect(doc.ranking).toEqual(["default", "dawdle"]);
+    expect(doc.pairs[0]).toMatchObject({ a: "default", b: "dawdle", probabilityOfImprovement: 1 });
+    const dir = r.err.match(/comparison: (.*)/)![1].trim();
+    const saved = JSON.parse(readFileSync(join(dir, "comparison.json"), "utf8"));
+    expect(saved.variants).toEqual(doc.variants);
+    expect(saved.config.seeds).toEqual([1, 2, 3]);
+    expect(saved.runDirs).toHaveLength(6);
+    expect(readFileSync(csv, "utf8")).toBe(readFileSync(join(dir, "comparison.csv"), "utf8"));
+    expect(readFileSync(csv, "utf8").split("\n")[0]).toBe("env,reward,learner,seed,verdict,designer,intent,alerts,runDir");
+
+    const listed = JSON.parse((await cli("runs", "--runs-dir", runsDir, "--reward", "dawdle", "--json")).out);
+    expect(listed.runs).toHaveLength(3);
+    expect(listed.runs.every((x: { reward: string }) => x.reward === "dawdle")).toBe(true);
+    const all = JSON.parse((await cli("runs", "--runs-dir", runsDir, "--json")).out);
+    expect(all.runs).toHaveLength(6);
+    expect(all.comparisons).toHaveLength(1);
+    rmSync(join(runsDir, "index.db"));
+    const rebuilt = JSON.parse((await cli("runs", "--runs-dir", runsDir, "--rebuild", "--json")).out);
+    expect(rebuilt.rebuilt).toMatchObject({ runs: 6, comparisons: 1 });
+    expect(rebuilt.runs).toEqual(all.runs);
+    const text = await cli("runs", "--runs-dir", runsDir, "--verdict", "aligned");
+    expect(text.code).toBe(0);
+    expect(text.out).toMatch(/3 run\(s\)/);
+  });
+
+  it("a broken reward file fails its runs (reported) while the other variant completes; bad flags exit 2 with one line", async () => {
+    const runsDir = tempDir("cli-bad");
+    dirs.push(runsDir);
+    const r = await cli("compare", "--env", "tests/fixtures/batch/corridor.json", "--rewards", "default,tests/fixtures/batch/bad-reward.json", "--seeds", "2", "--steps", "300", "--workers", "1", "--runs-dir", runsDir, "--bootstrap-reps", "100", "--json");
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.out);
+    expect(doc.variants[0].runs).toBe(2);
+    expect(doc.variants[1]).toMatchObject({ runs: 0, failed: 2 });
+    expect(doc.failed).toHaveLength(2);
+    expect(doc.failed[0].code).toMatch(/^reward\./);
+    expect(doc.ranking).toEqual(["default", "tests/fixtures/batch/bad-reward.json"]);
+    const bad = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "fast", "--learners", "nope", "--runs-dir", runsDir);
+    expect(bad.code).toBe(2);
+    expect(bad.err.trim().split("\n")).toHaveLength(1);
+    expect(bad.err).toMatch(/unknown learner "nope"/);
+    const q = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "fast", "--queue", "http://x", "--runs-dir", runsDir);
+    expect(q.code).toBe(2);
+    expect(q.err).toMatch(/redis:\/\//);
+    const v = await cli("runs", "--runs-dir", runsDir, "--verdict", "maybe");
+    expect(v.code).toBe(2);
+    expect(existsSync(join(runsDir, "index.db"))).toBe(true);
+  });
+});
