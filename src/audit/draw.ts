@@ -17,13 +17,13 @@ export function drawStates(model: FiniteModel, states: readonly number[], mark =
     }
     return rows.map((r) => r.join("")).join("\n") + "\n";
   }
-  const strip = Array.from({ length: lay.length }, () => "·");
+  // Per position: » moving forward, « backward, the mark when stopped, ⇄ when visited in several ways.
+  const seen = Array.from({ length: lay.length }, () => new Set<number>());
   for (const s of states) {
     const p = lay.posOf[s];
-    if (p < 0) continue;
-    const v = lay.velOf[s];
-    strip[p] = v > 0 ? "»" : v < 0 ? "«" : mark;
+    if (p >= 0) seen[p].add(Math.sign(lay.velOf[s]));
   }
+  const strip = seen.map((set) => (set.size === 0 ? "·" : set.size > 1 ? "⇄" : set.has(1) ? "»" : set.has(-1) ? "«" : mark));
   const gates = Array.from({ length: lay.length }, (_, p) => (lay.gates.includes(p) ? "|" : " "));
   return `gates ${gates.join("")}\nloop  ${strip.join("")}\n`;
 }

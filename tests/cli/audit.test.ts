@@ -1,0 +1,121 @@
+/**
+ * `gapwatch audit` and `gapwatch pressure` in-process: JSON documents of the issue's shape, --fail-on
+ * exit codes, evidence drawn on the map, model files, reference policy files and bad input (exit 2).
+ */
+import { mkdtempSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { describe, expect, it } from "vitest";
+import { runCli } from "../../src/cli/program.js";
+import { memoryIO } from "../../src/cli/io.js";
+import { exportModel, formatModelDocument } from "../../src/model/format.js";
+import { loadScenario } from "../../src/model/registry.js";
+
+async function cli(args: string[]) {
+  const io = memoryIO();
+  const code = await runCli(args, io);
+  return { code, out: io.stdout, err: io.stderr };
+}
+
+describe("gapwatch audit", () => {
+  it("--json prints exactly the documented keys, with loop evidence", async () => {
+    const r = await cli(["audit", "--env", "seed-vault-courier", "--reward", "per-scan", "--no-sensitivity", "--json"]);
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.out);
+    expect(Object.keys(doc).sort()).toEqual(["env", "findings", "loops", "regret", "regretNorm", "reward"]);
+    expect(doc.env).toBe("seed-vault-courier");
+    expect(doc.reward).toBe("per-scan");
+    for (const f of doc.findings) expect(Object.keys(f).sort()).toEqual(["check", "evidence", "message", "severity"]);
+    expect(Object.keys(doc.loops[0]).sort()).toEqual(["actions", "meanDesignerPerStep", "meanIntentPerStep", "states"]);
+    expect(doc.findings[0].severity).toBe("critical");
+  });
+
+  it("--fail-on critical exits 3 on a gaming variant and 0 on a sound one; --fail-on warning is stricter", async () => {
+    expect((await cli(["audit", "--env", "ridge-survey", "--reward", "light-fall", "--fail-on", "critical", "--no-sensitivity"])).code).toBe(3);
+    expect((await cli(["audit", "--env", "ridge-survey", "--reward", "default", "--fail-on", "critical"])).code).toBe(0);
+    expect((await cli(["audit", "--env", "seed-vault-courier", "--reward", "per-scan", "--fail-on", "warning", "--no-sensitivity"])).code).toBe(3);
+  });
+
+  it("--max-risk moves the risk verdict: a tolerance above the route's failure probability clears it", async () => {
+    const strict = JSON.parse((await cli(["audit", "--env", "ridge-survey", "--reward", "light-fall", "--no-sensitivity", "--json"])).out);
+    const risk = strict.findings.find((f: { check: string }) => f.check === "risk-indifference");
+    expect(risk.severity).toBe("critical");
+    const p = risk.evidence.failProbability as number;
+    const loose = JSON.parse((await cli(["audit", "--env", "ridge-survey", "--reward", "light-fall", "--no-sensitivity", "--max-risk", String(Math.min(1, p + 0.01)), "--json"])).out);
+    expect(loose.findings.find((f: { check: string }) => f.check === "risk-indifference").severity).toBe("info");
+  });
+
+  it("human output lists findings by severity and draws the loop on the map, without colour when not a TTY", async () => {
+    const r = await cli(["audit", "--env", "seed-vault-courier", "--reward", "per-scan", "--no-sensitivity"]);
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/^seed-vault-courier {2}reward per-scan {2}2 critical/);
+    expect(r.out.indexOf("CRITICAL")).toBeLessThan(r.out.indexOf("WARNING"));
+    expect(r.out).toContain("#....oo.+.#"); // the two doorway cells of the arch loop
+    expect(r.out).not.toContain("\u001b[");
+  });
+
+  it("draws the rocking loop on the track strip", async () => {
+    const r = await cli(["audit", "--env", "archive-shuttle", "--reward", "axle-count", "--no-sensitivity"]);
+    expect(r.out).toMatch(/gates \|/);
+    // Rocking over the sensor at position 0: positions 31 and 0 are each visited stopped and moving.
+    expect(r.out).toMatch(/loop {2}⇄·{30}⇄\n/);
+  });
+
+  it("audits a model file exported from a scenario", async () => {
+    const m = loadScenario("greenhouse-rounds").model;
+    const dir = mkdtempSync(join(tmpdir(), "gapwatch-cli-audit-"));
+    const file = join(dir, "greenhouse.json");
+    writeFileSync(file, formatModelDocument(exportModel(m)));
+    const r = await cli(["audit", "--env", file, "--reward", "fast", "--fail-on", "critical", "--json"]);
+    expect(r.code).toBe(3);
+    const checks = JSON.parse(r.out).findings.filter((f: { severity: string }) => f.severity === "critical").map((f: { check: string }) => f.check);
+    expect(checks).toContain("regret");
+    expect(checks).toContain("regret-by-group");
+  });
+
+  it("bad input exits 2 with one line", async () => {
+    const a = await cli(["audit", "--env", "seed-vault-courier", "--fail-on", "sometimes"]);
+    expect(a.code).toBe(2);
+    expect(a.err).toMatch(/--fail-on expects critical or warning/);
+    const b = await cli(["audit", "--env", "seed-vault-courier", "--max-risk", "2"]);
+    expect(b.code).toBe(2);
+    const c = await cli(["audit", "--env", "no-such-place"]);
+    expect(c.code).toBe(2);
+    expect(c.err.trim().split("\n")).toHaveLength(1);
+  });
+});
+
+describe("gapwatch pressure", () => {
+  it("--json prints points, peak and onset; a gaming variant has an onset", async () => {
+    const r = await cli(["pressure", "--env", "seed-vault-courier", "--reward", "per-scan", "--json"]);
+    expect(r.code).toBe(0);
+    const doc = JSON.parse(r.out);
+    expect(Object.keys(doc).sort()).toEqual(["onset", "peak", "points"]);
+    expect(doc.points.length).toBe(25);
+    expect(Object.keys(doc.points[0]).sort()).toEqual(["designer", "intent", "kl", "strength"]);
+    expect(typeof doc.onset).toBe("number");
+  });
+
+  it("human output draws sparklines and reports no onset on a sound variant", async () => {
+    const r = await cli(["pressure", "--env", "greenhouse-rounds", "--reward", "default"]);
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/designer [▁▂▃▄▅▆▇█]+/);
+    expect(r.out).toMatch(/intent {3}[▁▂▃▄▅▆▇█]+/);
+    expect(r.out).toContain("no onset of over-optimization");
+  });
+
+  it("--reference reads a policy file; a wrong one exits 2", async () => {
+    const m = loadScenario("greenhouse-rounds").model;
+    const dir = mkdtempSync(join(tmpdir(), "gapwatch-cli-pressure-"));
+    const good = join(dir, "policy.json");
+    writeFileSync(good, JSON.stringify({ policy: Array.from({ length: m.nStates }, (_, s) => (m.terminal[s] ? null : "up")) }));
+    const r = await cli(["pressure", "--env", "greenhouse-rounds", "--reward", "fast", "--reference", good, "--json"]);
+    expect(r.code).toBe(0);
+    expect(JSON.parse(r.out).points[0].kl).toBeCloseTo(0, 12);
+    const bad = join(dir, "bad.json");
+    writeFileSync(bad, JSON.stringify({ policy: ["up"] }));
+    const b = await cli(["pressure", "--env", "greenhouse-rounds", "--reference", bad]);
+    expect(b.code).toBe(2);
+    expect(b.err).toMatch(/expected one per state/);
+  });
+});
