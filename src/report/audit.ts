@@ -137,7 +137,7 @@ export function trackSvg(model: FiniteModel, paths: DrawnPath[]): string | null 
   const lay = model.layout;
   if (!lay || lay.kind !== "track") return null;
   const id = `gw-d${++drawingCounter}`;
-  const size = 300;
+  const size = 360;
   const cx = size / 2;
   const cy = size / 2;
   const R = 112;
@@ -231,14 +231,17 @@ export function renderAuditSection(audit: AuditDoc, model?: FiniteModel | null):
   }</p>`;
   const paths = auditPaths(audit, model);
   const drawing = drawingBlock(model, paths, "audit-evidence");
-  const list = findings
-    .map((f) => {
-      const ev = f.evidence && typeof f.evidence === "object" ? Object.entries(f.evidence) : [];
-      return `<div class="finding" data-finding="${esc(f.check)}" data-severity="${esc(f.severity)}"><span class="pill ${esc(token(f.severity))}">${esc(f.severity)}</span> <b>${esc(f.check)}</b><p class="msg">${esc(
+  const item = (f: (typeof findings)[number]) => {
+    const ev = f.evidence && typeof f.evidence === "object" ? Object.entries(f.evidence) : [];
+    return `<div class="finding" data-finding="${esc(f.check)}" data-severity="${esc(f.severity)}"><span class="pill ${esc(token(f.severity))}">${esc(f.severity)}</span> <b>${esc(f.check)}</b><p class="msg">${esc(
         f.message,
       )}</p>${ev.length ? `<dl class="ev">${ev.map(([k, v]) => `<dt>${esc(k)}</dt><dd class="mono">${esc(evidenceValue(v))}</dd>`).join("")}</dl>` : ""}</div>`;
-    })
-    .join("");
+  };
+  const major = findings.filter((f) => f.severity !== "info");
+  const minor = findings.filter((f) => f.severity === "info");
+  const list =
+    major.map(item).join("") +
+    (minor.length ? `<details${major.length ? "" : " open"}><summary>${minor.length} informational finding${minor.length === 1 ? "" : "s"}</summary>${minor.map(item).join("")}</details>` : "");
   const loops = (audit.loops ?? []).length
     ? `<h3>Loops the reward pays for</h3><table class="data"><thead><tr><th>loop</th><th class="num">designer / step</th><th class="num">intent / step</th><th>states (actions)</th></tr></thead><tbody>${(audit.loops ?? [])
         .map(

@@ -81,8 +81,8 @@ export function curvesSpec(points: CurvePoint[], alerts: AlertMark[], opts: { wi
   const hi = Math.max(1, ...rows.map((r) => r.value));
   return {
     config: CONFIG,
-    width: opts.width ?? 640,
-    height: 240,
+    width: opts.width ?? 800,
+    height: 260,
     layer: [
       { data: { values: [{ y: 0 }, { y: 1 }] }, mark: { type: "rule", color: "#c4cad4", strokeDash: [1, 3] }, encoding: { y: { field: "y", type: "quantitative" } } },
       {
@@ -111,8 +111,8 @@ export function rawCurvesSpec(points: CurvePoint[], refs: { designerOptimal: num
         ].filter((r) => finite(r.value))
       : [];
     return {
-      width: 300,
-      height: 180,
+      width: 360,
+      height: 190,
       title: score === "designer" ? "designer return (raw)" : "intent score (raw)",
       layer: [
         ...(ref.length
@@ -127,7 +127,7 @@ export function rawCurvesSpec(points: CurvePoint[], refs: { designerOptimal: num
           : []),
         {
           data: { values: rows },
-          mark: { type: "line", point: { filled: true, size: 18 }, strokeWidth: 2, color: score === "designer" ? ROLE.designer : ROLE.intent, strokeDash: score === "designer" ? [1, 0] : [6, 3] },
+          mark: { type: "line", point: { filled: true, size: 18, color: score === "designer" ? ROLE.designer : ROLE.intent }, strokeWidth: 2, color: score === "designer" ? ROLE.designer : ROLE.intent, strokeDash: score === "designer" ? [1, 0] : [6, 3] },
           encoding: {
             x: { field: "step", type: "quantitative", title: "training step" },
             y: { field: "value", type: "quantitative", title: score === "designer" ? "discounted designer return" : "discounted intent", scale: { zero: false } },
@@ -151,10 +151,12 @@ export interface VariantInterval {
 /** Interquartile mean per variant with bootstrap interval, designer and intent side by side. */
 export function intervalsSpec(rows: VariantInterval[], order: string[]): TopLevelSpec {
   const values = rows.filter((r) => finite(r.point));
+  const lo = Math.min(0, ...values.map((r) => (finite(r.lower) ? r.lower : r.point)));
+  const hi = Math.max(1, ...values.map((r) => (finite(r.upper) ? r.upper : r.point)));
   return {
     config: CONFIG,
-    width: 520,
-    height: { step: 26 },
+    width: 640,
+    height: { step: 34 },
     data: { values },
     encoding: {
       y: { field: "variant", type: "nominal", sort: order, title: null, axis: { labelLimit: 220 } },
@@ -162,8 +164,8 @@ export function intervalsSpec(rows: VariantInterval[], order: string[]): TopLeve
       color: { field: "score", type: "nominal", scale: SCORE_COLOR, title: null },
     },
     layer: [
-      { mark: { type: "rule", strokeWidth: 2.5 }, encoding: { x: { field: "lower", type: "quantitative", title: "interquartile mean, normalized (bootstrap interval)", scale: { zero: false } }, x2: { field: "upper" } } },
-      { mark: { type: "point", filled: true, size: 60 }, encoding: { x: { field: "point", type: "quantitative" }, shape: { field: "score", type: "nominal", scale: { domain: ["designer", "intent"], range: ["circle", "diamond"] }, legend: null } } },
+      { mark: { type: "rule", strokeWidth: 4, strokeCap: "round", opacity: 0.55 }, encoding: { x: { field: "lower", type: "quantitative", title: "interquartile mean, normalized (bootstrap interval)", scale: { domain: [lo, hi], nice: false } }, x2: { field: "upper" } } },
+      { mark: { type: "point", filled: true, size: 110, opacity: 1 }, encoding: { x: { field: "point", type: "quantitative" }, shape: { field: "score", type: "nominal", scale: { domain: ["designer", "intent"], range: ["circle", "diamond"] }, legend: null } } },
     ],
   } as unknown as TopLevelSpec;
 }
@@ -179,12 +181,12 @@ export interface RateRow {
 export function alertRateSpec(rows: RateRow[], order: string[]): TopLevelSpec {
   return {
     config: CONFIG,
-    width: 520,
-    height: { step: 20 },
+    width: 640,
+    height: { step: 28 },
     data: { values: rows.filter((r) => finite(r.p)) },
     encoding: { y: { field: "variant", type: "nominal", sort: order, title: null, axis: { labelLimit: 220 } } },
     layer: [
-      { mark: { type: "bar", color: ROLE.alert, opacity: 0.35, height: { band: 0.7 } }, encoding: { x: { field: "p", type: "quantitative", title: "share of runs with an alert", scale: { domain: [0, 1] }, axis: { format: "%" } } } },
+      { mark: { type: "bar", color: ROLE.alert, opacity: 0.3, height: { band: 0.6 } }, encoding: { x: { field: "p", type: "quantitative", title: "share of runs with an alert", scale: { domain: [0, 1] }, axis: { format: "%" } } } },
       { mark: { type: "rule", color: ROLE.alert, strokeWidth: 2 }, encoding: { x: { field: "lower", type: "quantitative" }, x2: { field: "upper" } } },
       { mark: { type: "tick", color: ROLE.alert, thickness: 2 }, encoding: { x: { field: "p", type: "quantitative" } } },
     ],
@@ -214,7 +216,7 @@ export function pairsSpec(cells: PairCell[], order: string[]): TopLevelSpec {
     layer: [
       {
         mark: { type: "rect", stroke: "#ffffff", strokeWidth: 1 },
-        encoding: { color: { field: "p", type: "quantitative", title: "P(row improves on column)", scale: { domain: [0, 0.5, 1], range: DIVERGING }, legend: { orient: "right", gradientLength: 120 } } },
+        encoding: { color: { field: "p", type: "quantitative", title: "P(row > column)", scale: { domain: [0, 0.5, 1], range: DIVERGING }, legend: { orient: "right", gradientLength: 120 } } },
       },
       ...(n <= 12
         ? [{ mark: { type: "text", fontSize: 10, color: ROLE.ink }, encoding: { text: { field: "text", type: "nominal" } } }]
@@ -239,8 +241,8 @@ export function smallMultiplesSpec(rows: MultiRow[], order: string[]): TopLevelS
     facet: { field: "variant", type: "nominal", sort: order, title: null, header: { labelLimit: 160 } },
     columns: Math.min(4, Math.max(1, order.length)),
     spec: {
-      width: 150,
-      height: 90,
+      width: 190,
+      height: 110,
       mark: { type: "line", strokeWidth: 1.3, opacity: 0.8 },
       encoding: {
         x: { field: "step", type: "quantitative", title: null, axis: { tickCount: 3, labelFontSize: 9 } },
@@ -260,41 +262,39 @@ export interface PressurePoint {
   intent: number;
 }
 
-/** Scores as optimization pressure grows, with the peak and the onset of decoupling marked. */
+/** Scores as optimization pressure grows, one panel per score (their units differ), peak and onset marked. */
 export function pressureSpec(points: PressurePoint[], marks: { label: string; strength: number }[]): TopLevelSpec {
-  const rows: { strength: number; score: string; value: number }[] = [];
-  for (const p of points) {
-    if (!finite(p.strength)) continue;
-    if (finite(p.designer)) rows.push({ strength: p.strength, score: "designer", value: p.designer });
-    if (finite(p.intent)) rows.push({ strength: p.strength, score: "intent", value: p.intent });
-  }
-  const positive = points.every((p) => !finite(p.strength) || p.strength > 0);
-  const spread = positive && points.length > 2 ? Math.max(...points.map((p) => p.strength)) / Math.min(...points.map((p) => p.strength)) : 1;
-  const xScale = spread > 50 ? { type: "log" } : {};
-  const m = marks.filter((x) => finite(x.strength));
-  return {
-    config: CONFIG,
-    width: 640,
-    height: 220,
+  const pts = points.filter((p) => finite(p.strength));
+  const positive = pts.filter((p) => p.strength > 0).map((p) => p.strength);
+  const spread = positive.length > 1 ? Math.max(...positive) / Math.min(...positive) : 1;
+  // Strengths usually grow geometrically from 0: a symmetric-log axis keeps the small ones apart.
+  const xScale = spread > 50 ? { type: "symlog", constant: Math.min(...positive) } : {};
+  const by = new Map<number, string[]>();
+  for (const m of marks) if (finite(m.strength)) by.set(m.strength, [...(by.get(m.strength) ?? []), m.label]);
+  const m = [...by.entries()].map(([strength, labels]) => ({ strength, label: labels.join(" = ") }));
+  const panel = (score: "designer" | "intent", last: boolean) => ({
+    width: 800,
+    height: 130,
     layer: [
       {
-        data: { values: rows },
-        mark: { type: "line", point: { filled: true, size: 22 }, strokeWidth: 2.2 },
+        data: { values: pts.filter((p) => finite(p[score])).map((p) => ({ strength: p.strength, value: p[score] })) },
+        mark: { type: "line", point: { filled: true, size: 20, color: score === "designer" ? ROLE.designer : ROLE.intent }, strokeWidth: 2.2, color: score === "designer" ? ROLE.designer : ROLE.intent, strokeDash: score === "designer" ? [1, 0] : [6, 3] },
         encoding: {
-          x: { field: "strength", type: "quantitative", title: "optimization pressure (strength)", scale: xScale },
-          y: { field: "value", type: "quantitative", title: "score", scale: { zero: false } },
-          color: { field: "score", type: "nominal", scale: SCORE_COLOR, title: null },
-          strokeDash: { field: "score", type: "nominal", scale: SCORE_DASH, legend: null },
+          x: { field: "strength", type: "quantitative", title: last ? "optimization pressure toward the designer reward (strength)" : null, scale: xScale, axis: last ? { grid: false, tickCount: 8 } : { labels: false, grid: false, tickCount: 8 } },
+          y: { field: "value", type: "quantitative", title: score === "designer" ? "designer return" : "intent", scale: { zero: false } },
         },
       },
       ...(m.length
         ? [
-            { data: { values: m }, mark: { type: "rule", color: ROLE.muted, strokeDash: [3, 3] }, encoding: { x: { field: "strength", type: "quantitative" } } },
-            { data: { values: m }, mark: { type: "text", color: ROLE.ink, align: "left", dx: 3, baseline: "top", y: 0, fontSize: 11 }, encoding: { x: { field: "strength", type: "quantitative" }, text: { field: "label", type: "nominal" } } },
+            { data: { values: m }, mark: { type: "rule", color: ROLE.alert, strokeDash: [3, 3], strokeWidth: 1.5 }, encoding: { x: { field: "strength", type: "quantitative", scale: xScale } } },
+            ...(score === "designer"
+              ? [{ data: { values: m }, mark: { type: "text", color: ROLE.alert, fontWeight: 700, align: "left", dx: 4, baseline: "top", y: 2, fontSize: 11 }, encoding: { x: { field: "strength", type: "quantitative", scale: xScale }, text: { field: "label", type: "nominal" } } }]
+              : []),
           ]
         : []),
     ],
-  } as unknown as TopLevelSpec;
+  });
+  return { config: CONFIG, vconcat: [panel("designer", false), panel("intent", true)], spacing: 8, resolve: { scale: { y: "independent" } } } as unknown as TopLevelSpec;
 }
 
 /** Compile a Vega-Lite spec and render it to an SVG string headlessly. */

@@ -52,7 +52,9 @@ export interface ComparisonDoc {
     intent?: ScoreStats;
   }[];
   ranking?: unknown;
-  pairs?: { a: string; b: string; probabilityOfImprovement: number; ci?: unknown }[];
+  pairs?: { a: string; b: string; probabilityOfImprovement: number | null; ci?: unknown }[];
+  /** Where the runs are: `{reward, learner, seed, runId, runDir}` per run. */
+  runDirs?: unknown;
   [key: string]: unknown;
 }
 
@@ -63,6 +65,8 @@ export interface RunReportData {
   pressure?: PressureDoc | null;
   /** The compiled environment, for drawing audit evidence on its map or track. */
   model?: FiniteModel | null;
+  /** The reward variant's own name when `config.reward` is a reward file (read from the file). */
+  rewardName?: string | null;
   /** policy.json's greedy action name per state (null on terminal states), for drawing the learned route. */
   policy?: (string | null)[] | null;
   /** ISO time stamp shown in the footer (default: now). */
@@ -159,6 +163,13 @@ export function findRunDirs(dir: string, depth = 2): string[] {
 /** Run references a comparison names (`variants[].runs` as ids or paths), resolved against its folder. */
 function namedRunDirs(dir: string, doc: ComparisonDoc): string[] {
   const out: string[] = [];
+  const runDirs = Array.isArray(doc.runDirs) ? (doc.runDirs as unknown[]) : [];
+  for (const r of runDirs) {
+    const d = r && typeof r === "object" ? (r as { runDir?: unknown; runId?: unknown }) : {};
+    const cands = [d.runDir, typeof d.runId === "string" ? join(dir, d.runId) : undefined, typeof d.runId === "string" ? join(dirname(resolve(dir)), d.runId) : undefined];
+    const hit = cands.find((c): c is string => typeof c === "string" && existsSync(join(c, RUN_FILES.manifest)));
+    if (hit) out.push(hit);
+  }
   for (const v of doc.variants ?? []) {
     if (!Array.isArray(v.runs)) continue;
     for (const r of v.runs) {

@@ -53,8 +53,9 @@ export async function renderRunReport(data: RunReportData): Promise<string> {
   const generatedAt = data.generatedAt ?? new Date().toISOString();
   let n = 0;
   const parts: string[] = [];
-  parts.push(`<header><div class="brand">gapwatch · reward review</div><h1>${esc(cfg.reward)} <span style="font-weight:400;color:var(--muted)">on</span> ${esc(cfg.env)}</h1>
-<p class="sub">Training run <span class="mono">${esc(run.runId)}</span> · learner ${esc(cfg.learner)} · seed ${esc(cfg.seed)} · status ${esc(run.status)}</p></header>`);
+  const named = data.rewardName && data.rewardName !== cfg.reward ? data.rewardName : null;
+  parts.push(`<header><div class="brand">gapwatch · reward review</div><h1>${esc(named ?? cfg.reward)} <span style="font-weight:400;color:var(--muted)">on</span> ${esc(cfg.env)}</h1>
+<p class="sub">${named ? `Reward file <span class="mono">${esc(cfg.reward)}</span> · ` : ""}Training run <span class="mono">${esc(run.runId)}</span> · learner ${esc(cfg.learner)} · seed ${esc(cfg.seed)} · status ${esc(run.status)}</p></header>`);
   parts.push(verdictBand(run.verdict, run.reason));
   const f = run.final;
   parts.push(
@@ -86,7 +87,7 @@ export async function renderRunReport(data: RunReportData): Promise<string> {
   parts.push(caution());
   parts.push(footer(data.manifest?.packageVersion, generatedAt));
   return page({
-    title: `gapwatch · ${cfg.reward} on ${cfg.env} · ${run.verdict}`,
+    title: `gapwatch · ${named ?? cfg.reward} on ${cfg.env} · ${run.verdict}`,
     body: parts.join("\n"),
     data: {
       format: "gapwatch-report-data/1",
@@ -94,6 +95,7 @@ export async function renderRunReport(data: RunReportData): Promise<string> {
       runId: run.runId,
       env: cfg.env,
       reward: cfg.reward,
+      rewardName: named,
       verdict: run.verdict,
       reason: run.reason,
       alerts: run.alerts,

@@ -3,7 +3,9 @@
  * it or given), load the environment when there is something to draw on its map, render, and write
  * the HTML atomically. `<dir>/report.html` by default.
  */
+import { existsSync, readFileSync } from "node:fs";
 import { join, resolve } from "node:path";
+import { parseRewardFile } from "../model/format.js";
 import { loadEnv } from "../model/registry.js";
 import type { FiniteModel } from "../model/types.js";
 import { writeFileAtomic } from "../store/atomic.js";
@@ -36,6 +38,16 @@ async function tryModel(spec: string | undefined): Promise<FiniteModel | null> {
   }
 }
 
+/** The `name` inside a reward file named by a run's config, or null (a built-in variant, or the file is gone). */
+export function rewardFileName(spec: string): string | null {
+  if (!/\.json$/i.test(spec) || !existsSync(spec)) return null;
+  try {
+    return parseRewardFile(readFileSync(spec, "utf8"), spec).name;
+  } catch {
+    return null;
+  }
+}
+
 /** Render the report of `dir` to HTML (no file written). */
 export async function renderReportFor(dir: string, opts: WriteReportOptions = {}): Promise<string> {
   const kind = dirKind(dir);
@@ -44,7 +56,7 @@ export async function renderReportFor(dir: string, opts: WriteReportOptions = {}
     const data = loadRunReport(dir, opts);
     const needModel = Boolean(data.policy || data.audit);
     const model = opts.model !== undefined ? opts.model : needModel ? await tryModel(data.audit?.env ?? data.run.config.env) : null;
-    return renderRunReport({ ...data, model, generatedAt });
+    return renderRunReport({ ...data, model, generatedAt, rewardName: rewardFileName(data.run.config.reward) });
   }
   const data = loadComparisonReport(dir, opts);
   const model = opts.model !== undefined ? opts.model : data.audit ? await tryModel(data.audit.env ?? data.comparison.env ?? data.runs[0]?.config.env) : null;
