@@ -18,6 +18,7 @@ import { fileURLToPath } from "node:url";
 import { formatError, InputError } from "../errors.js";
 import { qlTimeLine, viTimeLine } from "./check.js";
 import { QL_SEED, QL_STEPS, runLavaQl, runLavaVi } from "./lava-run.js";
+import { monitorEntry } from "./monitor.js";
 import {
   checkKey,
   defaultPeersDir,
@@ -228,7 +229,7 @@ const qlEntry: BenchEntry = {
 };
 
 /** The benchmark's entries, in run order. */
-export const ENTRIES: BenchEntry[] = [viEntry, qlEntry];
+export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry];
 
 const USAGE =
   "usage: main.js [--quick] [--runs N] [--warmup N] [--only NAME,...] [--slow] [--peers DIR]\n" +

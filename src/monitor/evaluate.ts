@@ -19,7 +19,7 @@ import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import type { Rng } from "../rng/rng.js";
 import { normalizeScore } from "../solve/compare.js";
-import { evaluatePolicy, startValue, uniformPolicy, valueIteration, type Policy } from "../solve/dp.js";
+import { evaluatePolicy, startValue, valueIteration, type Policy } from "../solve/dp.js";
 import { normalQuantile } from "../stats/normal.js";
 
 /** Scores of one policy. `designer` / `intent` are expected discounted returns from the start distribution. */
@@ -74,14 +74,14 @@ export function scoreReferences(model: FiniteModel, variant: RewardVariant, gamm
   const rd = designerReward(model, variant, gamma);
   const dOpt = valueIteration(model, rd, { gamma });
   const iOpt = valueIteration(model, model.intent, { gamma });
-  const uni = uniformPolicy(model);
+  const random = evaluateChain(model, null, [rd, model.intent], gamma);
   return {
     gamma,
     designerReward: rd,
     designerOptimal: startValue(model, dOpt.values),
-    designerRandom: startValue(model, evaluatePolicy(model, rd, uni, { gamma }).values),
+    designerRandom: random[0],
     intentOptimal: startValue(model, iOpt.values),
-    intentRandom: startValue(model, evaluatePolicy(model, model.intent, uni, { gamma }).values),
+    intentRandom: random[1],
     designerOptimalPolicy: dOpt.policy,
     intentOptimalPolicy: iOpt.policy,
   };
@@ -107,17 +107,20 @@ export function normalizeScores(refs: ScoreReferences, designer: number, intent:
  * leads to, except along cycles. Sweeping in this order (Gauss-Seidel) propagates values along a
  * path in one sweep and around a cycle in one sweep per turn.
  */
-export function reachableStates(model: FiniteModel, actions: Int32Array): Int32Array {
+export function reachableStates(model: FiniteModel, actions: Int32Array | null): Int32Array {
   const nA = model.nActions;
   const seen = new Uint8Array(model.nStates);
   const order: number[] = [];
   // Iterative DFS: a stack of (state, next outcome index to visit).
   const stackS: number[] = [];
   const stackO: number[] = [];
+  // With `actions = null` (uniform policy) the outcomes of all actions of s form one contiguous range.
+  const lo = (s: number) => model.saStart[actions ? s * nA + clampAction(actions[s], nA) : s * nA];
+  const hiOf = (s: number) => model.saStart[actions ? s * nA + clampAction(actions[s], nA) + 1 : (s + 1) * nA];
   const push = (s: number) => {
     seen[s] = 1;
     stackS.push(s);
-    stackO.push(model.terminal[s] ? -1 : model.saStart[s * nA + clampAction(actions[s], nA)]);
+    stackO.push(model.terminal[s] ? -1 : lo(s));
   };
   for (let s0 = 0; s0 < model.nStates; s0++) {
     if (!(model.start[s0] > 0) || seen[s0]) continue;
@@ -126,7 +129,7 @@ export function reachableStates(model: FiniteModel, actions: Int32Array): Int32A
       const top = stackS.length - 1;
       const s = stackS[top];
       const o = stackO[top];
-      const hi = o < 0 ? -1 : model.saStart[s * nA + clampAction(actions[s], nA) + 1];
+      const hi = o < 0 ? -1 : hiOf(s);
       if (o >= 0 && o < hi) {
         stackO[top] = o + 1;
         const sp = model.next[o];
@@ -149,14 +152,18 @@ function clampAction(a: number, nA: number): number {
  * The policy's Markov chain restricted to the reachable states, as a one-action model that
  * `evaluatePolicy` accepts (it reads only the dynamics fields). Rewards are remapped per outcome.
  */
-function restrictedChain(model: FiniteModel, actions: Int32Array, states: Int32Array, rewards: Float64Array[]) {
+function restrictedChain(model: FiniteModel, actions: Int32Array | null, states: Int32Array, rewards: Float64Array[]) {
   const nA = model.nActions;
+  // Outcome range of the policy in s: one action's outcomes, or (uniform) all actions' with weight 1/nA.
+  const range = (s: number): [number, number] =>
+    actions ? [model.saStart[s * nA + clampAction(actions[s], nA)], model.saStart[s * nA + clampAction(actions[s], nA) + 1]] : [model.saStart[s * nA], model.saStart[(s + 1) * nA]];
+  const weight = actions ? 1 : 1 / nA;
   const index = new Int32Array(model.nStates).fill(-1);
   for (let i = 0; i < states.length; i++) index[states[i]] = i;
   let nO = 0;
   for (const s of states) {
-    const k = s * nA + clampAction(actions[s], nA);
-    nO += model.saStart[k + 1] - model.saStart[k];
+    const [a, b] = range(s);
+    nO += b - a;
   }
   const saStart = new Int32Array(states.length + 1);
   const next = new Int32Array(nO);
@@ -170,12 +177,12 @@ function restrictedChain(model: FiniteModel, actions: Int32Array, states: Int32A
     terminal[i] = model.terminal[s];
     start[i] = model.start[s];
     saStart[i] = o2;
-    const k = s * nA + clampAction(actions[s], nA);
-    for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) {
+    const [oLo, oHi] = range(s);
+    for (let o = oLo; o < oHi; o++) {
       const j = index[model.next[o]];
       // A zero-probability outcome may lead outside the reachable set; point it at itself.
       next[o2] = j >= 0 ? j : i;
-      prob[o2] = model.prob[o];
+      prob[o2] = weight * model.prob[o];
       for (let r = 0; r < rewards.length; r++) rs[r][o2] = rewards[r][o];
       o2++;
     }
@@ -200,14 +207,20 @@ function restrictedChain(model: FiniteModel, actions: Int32Array, states: Int32A
  * entries for terminal states are ignored), from the start distribution.
  */
 export function evaluateExact(model: FiniteModel, refs: ScoreReferences, actions: Int32Array): Scores {
-  const gamma = refs.gamma;
+  const [d, i] = evaluateChain(model, actions, [refs.designerReward, model.intent], refs.gamma);
+  return normalized(refs, d, i);
+}
+
+/**
+ * Start values of a deterministic policy (`actions`) or of the uniform-random policy (`null`) for
+ * each reward: `evaluatePolicy` on the policy's Markov chain over the reachable states, with
+ * in-place sweeps in post-order (the same fixed point as synchronous sweeps, reached in far fewer).
+ */
+export function evaluateChain(model: FiniteModel, actions: Int32Array | null, rewardsIn: Float64Array[], gamma: number): number[] {
   const states = reachableStates(model, actions);
-  const { chain, rewards } = restrictedChain(model, actions, states, [refs.designerReward, model.intent]);
+  const { chain, rewards } = restrictedChain(model, actions, states, rewardsIn);
   const ones: Policy = new Float64Array(states.length).fill(1);
-  // In-place sweeps in post-order: the same fixed point as synchronous sweeps, reached in far fewer.
-  const vd = evaluatePolicy(chain, rewards[0], ones, { gamma, inPlace: true }).values;
-  const vi = evaluatePolicy(chain, rewards[1], ones, { gamma, inPlace: true }).values;
-  return normalized(refs, startValue(chain, vd), startValue(chain, vi));
+  return rewards.map((r) => startValue(chain, evaluatePolicy(chain, r, ones, { gamma, inPlace: true }).values));
 }
 
 /**
