@@ -66,13 +66,10 @@ export function defaultSteps(model: FiniteModel, checkpoints: number, declared?:
   return Math.ceil(raw / checkpoints) * checkpoints;
 }
 
-/** Learners whose parameters are the shared tabular ones (policies/common.ts TabularConfig). */
-export const TABULAR_LEARNERS = ["q-learning", "sarsa", "expected-sarsa", "double-q"];
-
 /** Default learner parameters: the model's discount, and for tabular learners the schedules above over `steps`. */
-export function defaultLearnerParams(learner: string, model: FiniteModel, steps: number): Record<string, unknown> {
+export function defaultLearnerParams(tabular: boolean, model: FiniteModel, steps: number): Record<string, unknown> {
   const out: Record<string, unknown> = { gamma: model.gamma };
-  if (TABULAR_LEARNERS.includes(learner)) {
+  if (tabular) {
     const { alpha, epsilon } = TRAIN_DEFAULTS.tabularSchedules;
     out.alpha = { kind: "linear", start: alpha[0], end: alpha[1], steps };
     out.epsilon = { kind: "linear", start: epsilon[0], end: epsilon[1], steps };

@@ -1,34 +1,25 @@
 /**
- * The learners `runTraining` can use, by name. Each entry trains through the shared driver
- * (policies/common.ts): synchronous `train` for batch workers and tests, `trainAsync` (yields between
- * checkpoints) for the CLI, so Ctrl-C can stop a run.
+ * The learners `runTraining` can use, by name: a thin view of the registry in policies/index.ts.
+ * Synchronous `train` serves batch workers and tests; `trainAsync` (yields between checkpoints)
+ * serves the CLI, so Ctrl-C can stop a run.
  */
 import type { TabularEnv } from "../model/learner-view.js";
-import { InputError } from "../errors.js";
 import type { TrainOptions, TrainResult } from "../../policies/common.js";
-import { trainQLearning, trainQLearningAsync } from "../../policies/qlearning.js";
-import { trainSarsa, trainSarsaAsync } from "../../policies/sarsa.js";
-import { trainExpectedSarsa, trainExpectedSarsaAsync } from "../../policies/expected-sarsa.js";
-import { trainDoubleQ, trainDoubleQAsync } from "../../policies/double-q.js";
+import { learnerEntry, learners } from "../../policies/index.js";
 
 export interface LearnerEntry {
+  /** True for table-based learners (the shared tabular parameters and schedules apply). */
+  tabular: boolean;
   train(env: TabularEnv, params: Record<string, unknown>, opts: TrainOptions): TrainResult;
   trainAsync(env: TabularEnv, params: Record<string, unknown>, opts: TrainOptions): Promise<TrainResult>;
 }
 
-const entries: Record<string, LearnerEntry> = {
-  "q-learning": { train: trainQLearning, trainAsync: trainQLearningAsync },
-  sarsa: { train: trainSarsa, trainAsync: trainSarsaAsync },
-  "expected-sarsa": { train: trainExpectedSarsa, trainAsync: trainExpectedSarsaAsync },
-  "double-q": { train: trainDoubleQ, trainAsync: trainDoubleQAsync },
-};
-
 export function learnerNames(): string[] {
-  return Object.keys(entries);
+  return Object.keys(learners);
 }
 
+/** The named learner; throws InputError `config.learner` (exit 2) for an unknown name. */
 export function getLearner(name: string): LearnerEntry {
-  const e = entries[name];
-  if (!e) throw new InputError("config.learner", `unknown learner "${name}"; known: ${learnerNames().join(", ")}`, "--learner");
-  return e;
+  const e = learnerEntry(name);
+  return { tabular: e.tabular, train: (env, p, o) => e.train(env, p, o), trainAsync: (env, p, o) => e.trainAsync(env, p, o) };
 }

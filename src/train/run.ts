@@ -87,7 +87,7 @@ export async function resolveTrainConfig(input: TrainConfigInput): Promise<Resol
   const model = requireFinite(loaded, "train");
   const variant = resolveReward(model, input.reward);
   const learner = input.learner ?? TRAIN_DEFAULTS.learner;
-  getLearner(learner);
+  const { tabular } = getLearner(learner);
   const checkpoints = input.checkpoints ?? TRAIN_DEFAULTS.checkpoints;
   const steps = input.steps ?? defaultSteps(model, checkpoints, loaded.scenario?.trainSteps);
   const config: TrainConfig = {
@@ -97,7 +97,7 @@ export async function resolveTrainConfig(input: TrainConfigInput): Promise<Resol
     steps,
     seed: input.seed ?? TRAIN_DEFAULTS.seed,
     checkpoints,
-    learnerParams: { ...defaultLearnerParams(learner, model, steps), ...(input.learnerParams ?? {}) },
+    learnerParams: { ...defaultLearnerParams(tabular, model, steps), ...(input.learnerParams ?? {}) },
     evaluation: input.evaluation ?? TRAIN_DEFAULTS.evaluation,
     mcEpisodes: input.mcEpisodes ?? TRAIN_DEFAULTS.mcEpisodes,
     monitor: input.monitor ?? {},

@@ -124,7 +124,7 @@ export function registerTrain(program: Command, ctx: CliContext): void {
     .description("train a learner on the designer reward while the monitor watches the held-out intent; verdict aligned / decoupled / inconclusive")
     .requiredOption("--env <env>", "built-in scenario name or model file (.json)")
     .option("--reward <reward>", "reward variant name or reward file (default: the variant named default, else the first)")
-    .option("--learner <learner>", "q-learning, sarsa, expected-sarsa, double-q (default q-learning)")
+    .option("--learner <learner>", "q-learning, sarsa, expected-sarsa, double-q, linear-sarsa (default q-learning)")
     .option("--steps <n>", "environment steps (default: sized to the model, a few seconds at most)")
     .option("--seed <s>", "seed of every random stream (default 1)")
     .option("--checkpoints <k>", "number of checkpoints (default 20)")
