@@ -43,8 +43,10 @@ export function memoryIO(env: Record<string, string | undefined> = {}): CliIO & 
   return io;
 }
 
+/** Colour only on a TTY, never with --json, not when NO_COLOR is set to a non-empty value (no-color.org), not on TERM=dumb. */
 export function useColor(io: CliIO, json = false): boolean {
-  return !json && io.stdoutIsTTY && io.env.NO_COLOR === undefined && io.env.TERM !== "dumb";
+  const noColor = io.env.NO_COLOR !== undefined && io.env.NO_COLOR !== "";
+  return !json && io.stdoutIsTTY && !noColor && io.env.TERM !== "dumb";
 }
 
 const CODES = { bold: [1, 22], dim: [2, 22], red: [31, 39], green: [32, 39], yellow: [33, 39], blue: [34, 39], magenta: [35, 39], cyan: [36, 39] } as const;
