@@ -14,6 +14,7 @@
  * Entries are named and selectable with --only; add new ones (monitor overhead, audit time, ...)
  * to `ENTRIES`.
  */
+import { cpus, loadavg } from "node:os";
 import { fileURLToPath } from "node:url";
 import { formatError, InputError } from "../errors.js";
 import { qlTimeLine, viTimeLine } from "./check.js";
@@ -305,7 +306,9 @@ export function main(argv: string[]): number {
     const opts = parseBenchArgs(argv);
     const peers = setupPeers(opts.peersDir);
     const ctx: Context = { opts, peers, ours: oursImpl(fileURLToPath(import.meta.url)), expected: readExpected(opts.peersDir) };
-    out(`# gapwatch bench  ${new Date().toISOString().slice(0, 16)}Z  node ${process.version}  peers ${opts.peersDir}`);
+    out(`# gapwatch bench  ${new Date().toISOString().slice(0, 16)}Z  node ${process.version}  ${cpus().length} cores  peers ${opts.peersDir}`);
+    // The machine may be shared: a load average above the core count means the figures are noisy.
+    out(`# load average at start ${loadavg().map((x) => x.toFixed(2)).join(" ")}`);
     out(`# runs=${opts.runs} warmup=${opts.warmup}${opts.quick ? " quick" : ""}${opts.slow ? " slow" : ""}; times are medians of each program's own timed region; ratios are medians of per-round ratios`);
     for (const n of peers.notes) out(`# note: ${n}`);
     out();
@@ -318,6 +321,7 @@ export function main(argv: string[]): number {
       ok = ok && r.ok;
       summary.push(...r.summary);
     }
+    out(`# load average at end ${loadavg().map((x) => x.toFixed(2)).join(" ")}`);
     out("# targets (reported, not enforced)");
     for (const s of summary) out(`   ${s}`);
     out(ok ? "ALL CHECKSUMS MATCH" : "CHECKSUM MISMATCH FOUND");
