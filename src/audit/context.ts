@@ -64,7 +64,7 @@ export interface AuditContext {
   /** One-hot policies of the two optima. */
   dPolicy: Policy;
   iPolicy: Policy;
-  /** Intent values per state of the designer-optimal policy and of uniform random behaviour. */
+  /** Intent values per state of the designer-optimal policy and of uniform random behaviour (the latter only when start states carry groups, else zeros). */
   intentOfD: Float64Array;
   intentOfRandom: Float64Array;
   /** Designer values per state of the intent-optimal policy. */
@@ -112,7 +112,9 @@ export function prepareAudit(model: FiniteModel, variant: RewardVariant, options
   const iPolicy = deterministicPolicy(model, solve.intentOptimal.policy);
   const o = { gamma, tol: 1e-10 };
   const intentOfD = evaluatePolicy(model, model.intent, dPolicy, o).values;
-  const intentOfRandom = evaluatePolicy(model, model.intent, uniformPolicy(model), o).values;
+  // Only the per-group regret needs per-state random values (solveVariant has the start value).
+  const grouped = model.groups?.some((g, s) => g !== null && g !== undefined && model.start[s] > 0) ?? false;
+  const intentOfRandom = grouped ? evaluatePolicy(model, model.intent, uniformPolicy(model), o).values : new Float64Array(model.nStates);
   const designerOfI = evaluatePolicy(model, rd, iPolicy, o).values;
   const stepsOfI = discountedSteps(model, iPolicy, gamma);
   const stepsOfD = discountedSteps(model, dPolicy, gamma);

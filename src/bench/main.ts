@@ -21,6 +21,7 @@ import { qlTimeLine, viTimeLine } from "./check.js";
 import { QL_SEED, QL_STEPS, runLavaQl, runLavaVi } from "./lava-run.js";
 import { reportEntry } from "./report.js";
 import { monitorEntry } from "./monitor.js";
+import { auditEntry } from "./audit.js";
 import {
   checkKey,
   defaultPeersDir,
@@ -231,7 +232,7 @@ const qlEntry: BenchEntry = {
 };
 
 /** The benchmark's entries, in run order. */
-export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry];
+export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry];
 
 const USAGE =
   "usage: main.js [--quick] [--runs N] [--warmup N] [--only NAME,...] [--slow] [--peers DIR]\n" +

@@ -1,0 +1,91 @@
+/**
+ * Benchmark entry "audit": the static audit (src/audit/run.ts) of the largest built-in scenario and of
+ * the 256x256 lava field (lava.ts), each timed next to plain value iteration of the same model's
+ * designer reward. In-process, no peers; times are medians over the runs. The 256x256 audit skips the
+ * weight-sensitivity check (tens of exact solves per feature; timed separately on the scenario).
+ * Reported, never enforced.
+ */
+import { runAudit } from "../audit/run.js";
+import { builtinScenarioNames, loadScenario, resolveReward } from "../model/registry.js";
+import { designerReward } from "../model/reward.js";
+import type { FiniteModel, RewardVariant } from "../model/types.js";
+import { valueIteration } from "../solve/dp.js";
+import { LAVA_VARIANT, lavaModel } from "./lava.js";
+
+export interface AuditTiming {
+  name: string;
+  states: number;
+  sensitivity: boolean;
+  viSeconds: number;
+  auditSeconds: number;
+  critical: number;
+  findings: number;
+}
+
+const now = (): number => Number(process.hrtime.bigint()) / 1e9;
+const median = (xs: number[]): number => {
+  const s = [...xs].sort((a, b) => a - b);
+  return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2;
+};
+
+export function timeAudit(name: string, model: FiniteModel, variant: RewardVariant, runs: number, sensitivity: boolean): AuditTiming {
+  const rd = designerReward(model, variant);
+  const vi: number[] = [];
+  const au: number[] = [];
+  let critical = 0;
+  let findings = 0;
+  for (let r = 0; r < runs; r++) {
+    let t = now();
+    valueIteration(model, rd);
+    vi.push(now() - t);
+    t = now();
+    const rep = runAudit(model, variant, { sensitivity });
+    au.push(now() - t);
+    critical = rep.findings.filter((f) => f.severity === "critical").length;
+    findings = rep.findings.length;
+  }
+  return { name, states: model.nStates, sensitivity, viSeconds: median(vi), auditSeconds: median(au), critical, findings };
+}
+
+/** The largest built-in scenario by state count, with its first gaming-prone variant (default variant otherwise). */
+export function largestScenario(): { name: string; model: FiniteModel; variant: RewardVariant } {
+  let best: { name: string; model: FiniteModel } | null = null;
+  for (const n of builtinScenarioNames()) {
+    const m = loadScenario(n).model;
+    if (!best || m.nStates > best.model.nStates) best = { name: n, model: m };
+  }
+  const env = loadScenario(best!.name);
+  const gaming = env.scenario?.gaming?.[0];
+  return { name: best!.name, model: best!.model, variant: resolveReward(best!.model, gaming) };
+}
+
+export function runAuditBench(opts: { quick: boolean; runs: number }): { lines: string[]; summary: string[] } {
+  const runs = Math.max(1, opts.quick ? 1 : opts.runs);
+  const rows: AuditTiming[] = [];
+  const big = largestScenario();
+  rows.push(timeAudit(`${big.name}/${big.variant.name}`, big.model, big.variant, runs, true));
+  rows.push(timeAudit(`${big.name}/${big.variant.name}`, big.model, big.variant, runs, false));
+  const n = opts.quick ? 64 : 256;
+  const lava = lavaModel(n, n);
+  rows.push(timeAudit(`lava ${n}x${n}`, lava.model, LAVA_VARIANT, opts.quick ? 1 : 1, false));
+  const lines = [
+    "model                              states  sensitivity      vi_s   audit_s  audit/vi  critical/findings",
+    ...rows.map(
+      (r) =>
+        `${r.name.padEnd(34)} ${String(r.states).padStart(6)}  ${(r.sensitivity ? "yes" : "no").padEnd(11)} ${r.viSeconds.toFixed(3).padStart(9)} ${r.auditSeconds.toFixed(3).padStart(9)} ${(r.auditSeconds / r.viSeconds).toFixed(1).padStart(9)}  ${r.critical}/${r.findings}`,
+    ),
+  ];
+  const summary = rows.map((r) => `audit ${r.name}${r.sensitivity ? "" : " (no sensitivity)"}: ${r.auditSeconds.toFixed(2)} s vs value iteration ${r.viSeconds.toFixed(3)} s`);
+  return { lines, summary };
+}
+
+/** The entry for src/bench/main.ts ENTRIES. */
+export const auditEntry = {
+  name: "audit",
+  title: "static audit (runAudit) of the largest built-in scenario and of the lava field, next to value iteration of the same model",
+  run(ctx: { opts: { quick: boolean; runs: number } }): { ok: boolean; summary: string[] } {
+    const r = runAuditBench(ctx.opts);
+    process.stdout.write(r.lines.join("\n") + "\n\n");
+    return { ok: true, summary: r.summary };
+  },
+};
