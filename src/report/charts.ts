@@ -214,12 +214,22 @@ export function pairsSpec(cells: PairCell[], order: string[]): TopLevelSpec {
       y: { field: "a", type: "nominal", sort: order, title: "row variant", axis: { labelLimit: 180 } },
     },
     layer: [
+      { data: { values: order.map((v) => ({ a: v, b: v })) }, mark: { type: "rect", fill: "#eef0f4", stroke: ROLE.grid, strokeWidth: 1 } },
       {
-        mark: { type: "rect", stroke: "#ffffff", strokeWidth: 1 },
-        encoding: { color: { field: "p", type: "quantitative", title: "P(row > column)", scale: { domain: [0, 0.5, 1], range: DIVERGING }, legend: { orient: "right", gradientLength: 120 } } },
+        mark: { type: "rect", stroke: ROLE.grid, strokeWidth: 1 },
+        encoding: { color: { field: "p", type: "quantitative", title: "P(row > column)", scale: { domain: [0, 0.5, 1], range: DIVERGING, interpolate: "rgb" }, legend: { orient: "right", gradientLength: 120 } } },
       },
       ...(n <= 12
-        ? [{ mark: { type: "text", fontSize: 10, color: ROLE.ink }, encoding: { text: { field: "text", type: "nominal" } } }]
+        ? [
+            {
+              mark: { type: "text", fontSize: 10 },
+              encoding: {
+                text: { field: "text", type: "nominal" },
+                // White on the saturated ends of the ramp, ink elsewhere, for contrast.
+                color: { condition: { test: "datum.p > 0.8", value: "#ffffff" }, value: ROLE.ink },
+              },
+            },
+          ]
         : []),
     ],
   } as unknown as TopLevelSpec;
