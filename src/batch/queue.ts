@@ -98,22 +98,20 @@ export async function runOnQueue(target: QueueTarget, jobs: BatchJob[], opts: Su
   const backoffMs = opts.backoffMs ?? QUEUE_DEFAULTS.backoffMs;
   try {
     await Promise.all([queue.waitUntilReady(), events.waitUntilReady()]);
-    const added: Job<JobData, ShippedRun>[] = [];
-    for (const job of jobs) {
-      const j = await queue.add(
-        "run",
-        { format: "gapwatch-job/1", job },
-        { jobId: job.jobId, attempts, backoff: { type: "exponential", delay: backoffMs }, removeOnComplete: false, removeOnFail: false },
-      );
-      added.push(j);
-    }
+    // One round trip for the whole sweep; an id that already exists is left as it is (no duplicate work).
+    const added = await queue.addBulk(
+      jobs.map((job) => ({
+        name: "run",
+        data: { format: "gapwatch-job/1" as const, job },
+        opts: { jobId: job.jobId, attempts, backoff: { type: "exponential", delay: backoffMs }, removeOnComplete: false, removeOnFail: false },
+      })),
+    );
     // A resubmitted sweep: jobs that had failed for good get one more round of attempts.
-    for (const j of added) {
-      const state = await queue.getJobState(j.id as string);
-      if (state === "failed") {
-        const stored = await Job.fromId<JobData, ShippedRun>(queue, j.id as string);
-        await stored?.retry("failed");
-      }
+    const states = await Promise.all(added.map((j) => queue.getJobState(j.id as string)));
+    for (let i = 0; i < added.length; i++) {
+      if (states[i] !== "failed") continue;
+      const stored = await Job.fromId<JobData, ShippedRun>(queue, added[i].id as string);
+      await stored?.retry("failed");
     }
     return await Promise.all(
       jobs.map(async (job, i): Promise<RunOutcome> => {
@@ -125,8 +123,7 @@ export async function runOnQueue(target: QueueTarget, jobs: BatchJob[], opts: Su
             value = (await Job.fromId<JobData, ShippedRun>(queue, job.jobId))?.returnvalue;
           }
           if (!value) throw new Error(JSON.stringify({ code: "batch.noResult", message: "the job completed without a result", exitCode: 1 }));
-          const stored = await Job.fromId(queue, job.jobId);
-          outcome = { jobId: job.jobId, cell: job.cell, ok: true, result: opts.store(value), attempts: stored?.attemptsMade };
+          outcome = { jobId: job.jobId, cell: job.cell, ok: true, result: opts.store(value) };
         } catch (err) {
           const stored = await Job.fromId(queue, job.jobId).catch(() => undefined);
           const reason = stored?.failedReason ?? (err as Error)?.message;

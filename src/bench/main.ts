@@ -19,6 +19,7 @@ import { fileURLToPath } from "node:url";
 import { formatError, InputError } from "../errors.js";
 import { qlTimeLine, viTimeLine } from "./check.js";
 import { QL_SEED, QL_STEPS, runLavaQl, runLavaVi } from "./lava-run.js";
+import { compareEntry } from "./compare.js";
 import { reportEntry } from "./report.js";
 import { monitorEntry } from "./monitor.js";
 import { auditEntry } from "./audit.js";
@@ -232,7 +233,7 @@ const qlEntry: BenchEntry = {
 };
 
 /** The benchmark's entries, in run order. */
-export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry];
+export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, compareEntry];
 
 const USAGE =
   "usage: main.js [--quick] [--runs N] [--warmup N] [--only NAME,...] [--slow] [--peers DIR]\n" +
