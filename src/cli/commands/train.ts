@@ -7,6 +7,7 @@ import { EXIT } from "../../errors.js";
 import type { RunResult } from "../../store/types.js";
 import type { EvaluationMode } from "../../train/config.js";
 import { runTraining, type Progress } from "../../train/run.js";
+import { indexRun } from "../../store/index-db.js";
 import { resolve } from "node:path";
 import { action, intOption, type CliContext } from "../context.js";
 import { emit, paint, sparkline, table, useColor, type CliIO } from "../io.js";
@@ -148,6 +149,7 @@ export function registerTrain(program: Command, ctx: CliContext): void {
         const runsDir = resolve(ctx.io.cwd, opts.runsDir ?? "runs");
         const progress = opts.json ? { update() {}, done() {} } : progressReporter(ctx.io, `${opts.env} ${opts.reward ?? ""}`.trim());
         const r = await withInterrupt((signal) => runTraining(input, { runsDir, signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()));
+        indexRun(runsDir, r);
         emit(ctx.io, Boolean(opts.json), trainDocument(r), () => trainText(r, useColor(ctx.io)));
         if (r.status === "interrupted") return EXIT.interrupted;
         if (opts.failOnAlert && r.alerts.length > 0) return EXIT.gate;
