@@ -146,7 +146,7 @@ export interface WorkerOptions {
   lockMs?: number;
   /** How often this worker checks for stalled jobs of dead workers. */
   stalledMs?: number;
-  onEvent?: (kind: "active" | "completed" | "failed", jobId: string, detail: string) => void;
+  onEvent?: (kind: "active" | "completed" | "failed" | "error", jobId: string, detail: string) => void;
 }
 
 export interface QueueWorkerHandle {
@@ -179,9 +179,8 @@ export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions 
   );
   worker.on("completed", (job) => opts.onEvent?.("completed", job.id as string, job.returnvalue?.runId ?? ""));
   worker.on("failed", (job, err) => opts.onEvent?.("failed", job?.id ?? "?", err.message));
-  worker.on("error", () => {
-    /* connection errors: ioredis reconnects; BullMQ logs nothing by itself */
-  });
+  // Connection errors: ioredis reconnects by itself; report them so an operator sees a lost Redis.
+  worker.on("error", (err) => opts.onEvent?.("error", "-", err.message));
   await worker.waitUntilReady();
   return {
     worker,
