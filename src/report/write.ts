@@ -3,8 +3,8 @@
  * it or given), load the environment when there is something to draw on its map, render, and write
  * the HTML atomically. `<dir>/report.html` by default.
  */
-import { existsSync, readFileSync } from "node:fs";
-import { join, resolve } from "node:path";
+import { existsSync, mkdirSync, readFileSync } from "node:fs";
+import { dirname, join, resolve } from "node:path";
 import { parseRewardFile } from "../model/format.js";
 import { loadEnv } from "../model/registry.js";
 import type { FiniteModel } from "../model/types.js";
@@ -66,7 +66,13 @@ export async function renderReportFor(dir: string, opts: WriteReportOptions = {}
 /** Write the report of a run or comparison directory; resolves to the written file's absolute path. */
 export async function writeReport(dir: string, opts: WriteReportOptions = {}): Promise<string> {
   const html = await renderReportFor(dir, opts);
-  const out = resolve(opts.out ?? join(dir, REPORT_FILE));
-  writeFileAtomic(out, html);
-  return out;
+  return writeReportFile(opts.out ?? join(dir, REPORT_FILE), html);
+}
+
+/** Write an already-rendered report (a standalone audit or pressure page) to `out`, creating its folder; resolves to the absolute path. */
+export function writeReportFile(out: string, html: string): string {
+  const file = resolve(out);
+  mkdirSync(dirname(file), { recursive: true });
+  writeFileAtomic(file, html);
+  return file;
 }
