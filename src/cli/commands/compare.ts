@@ -11,6 +11,7 @@ import { comparisonCsv } from "../../batch/aggregate.js";
 import { progressLine, runCompare, type CompareResult } from "../../batch/compare.js";
 import { parseList, parseSeedList } from "../../batch/plan.js";
 import { defaultWorkers } from "../../batch/pool.js";
+import { writeReport } from "../../report/write.js";
 import { writeFileAtomic } from "../../store/atomic.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { emit, paint, table, useColor } from "../io.js";
@@ -30,6 +31,8 @@ interface CompareCliOptions {
   runsDir?: string;
   csv?: string;
   json?: boolean;
+  /** --report: true for the default `<comparison-dir>/report.html`, or a file. */
+  report?: boolean | string;
 }
 
 const f2 = (x: number | null) => (x === null ? "-" : x.toFixed(2));
@@ -79,6 +82,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .option("--bootstrap-reps <n>", "bootstrap replicates (default 2000)")
     .option("--runs-dir <dir>", "where run directories go (default ./runs)")
     .option("--csv <file>", "also write the per-run CSV here")
+    .option("--report [file]", "also write the HTML report of the comparison (default <comparison-dir>/report.html)")
     .option("--json", "print one JSON document")
     .action(
       action(ctx, async (opts: CompareCliOptions) => {
@@ -112,8 +116,10 @@ export function registerCompare(program: Command, ctx: CliContext): void {
           const f = result.stats.failed[0];
           throw new GapwatchError(f.code, `every run failed; first: ${f.message}`, { where: f.where, exitCode: EXIT.badInput });
         }
-        emit(ctx.io, Boolean(opts.json), result.stats, () => compareText(result, useColor(ctx.io)));
+        const report = opts.report ? await writeReport(result.dir, { out: typeof opts.report === "string" ? resolve(ctx.io.cwd, opts.report) : undefined }) : null;
+        emit(ctx.io, Boolean(opts.json), report ? { ...result.stats, report } : result.stats, () => compareText(result, useColor(ctx.io)));
         if (opts.json) ctx.io.err(`comparison: ${result.dir}\n`);
+        else if (report) ctx.io.err(`report: ${report}\n`);
         return EXIT.ok;
       }),
     );

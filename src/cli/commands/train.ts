@@ -13,6 +13,7 @@ import { action, intOption, type CliContext } from "../context.js";
 import { emit, paint, sparkline, table, useColor, type CliIO } from "../io.js";
 import { parseSeed } from "../../rng/rng.js";
 import { InputError } from "../../errors.js";
+import { writeReport } from "../../report/write.js";
 
 export const CAUTION =
   "A clean result is evidence, not certification: it covers this environment, learner, seed and step budget only.";
@@ -101,6 +102,8 @@ export interface TrainCliOptions {
   runsDir?: string;
   failOnAlert?: boolean;
   json?: boolean;
+  /** --report: true for the default `<runDir>/report.html`, or a file. */
+  report?: boolean | string;
 }
 
 export function parseEvaluation(v: string | undefined): EvaluationMode | undefined {
@@ -133,6 +136,7 @@ export function registerTrain(program: Command, ctx: CliContext): void {
     .option("--mc-episodes <n>", "rollouts per checkpoint with --eval mc|both (default 300)")
     .option("--runs-dir <dir>", "where run directories go (default ./runs)")
     .option("--fail-on-alert", "exit 3 when any alert fired (for CI gating of reward changes)")
+    .option("--report [file]", "also write the HTML report of the run (default <run-dir>/report.html)")
     .option("--json", "print one JSON document")
     .action(
       action(ctx, async (opts: TrainCliOptions) => {
@@ -150,7 +154,9 @@ export function registerTrain(program: Command, ctx: CliContext): void {
         const progress = opts.json ? { update() {}, done() {} } : progressReporter(ctx.io, `${opts.env} ${opts.reward ?? ""}`.trim());
         const r = await withInterrupt((signal) => runTraining(input, { runsDir, signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()));
         indexRun(runsDir, r);
-        emit(ctx.io, Boolean(opts.json), trainDocument(r), () => trainText(r, useColor(ctx.io)));
+        const report = opts.report ? await writeReport(r.runDir, { out: typeof opts.report === "string" ? resolve(ctx.io.cwd, opts.report) : undefined }) : null;
+        emit(ctx.io, Boolean(opts.json), report ? { ...trainDocument(r), report } : trainDocument(r), () => trainText(r, useColor(ctx.io)));
+        if (report && !opts.json) ctx.io.err(`report: ${report}\n`);
         if (r.status === "interrupted") return EXIT.interrupted;
         if (opts.failOnAlert && r.alerts.length > 0) return EXIT.gate;
         return EXIT.ok;
