@@ -17,7 +17,7 @@ import type { Browser } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
-import { commandLine, fileSlug, jsonBeside, standaloneFileName } from "../../src/report/standalone.js";
+import { commandLine, fileSlug, jsonBeside, renderAuditReport, renderPressureReport, standaloneFileName } from "../../src/report/standalone.js";
 import { readRun } from "../../src/store/run-store.js";
 import { HAVE_CHROMIUM, launch, openReport, SKIP_REASON } from "./browser-helpers.js";
 
@@ -223,6 +223,26 @@ describe("standalone file names and command lines", () => {
       }),
       { numRuns: 40 },
     );
+  });
+});
+
+describe("standalone pages escape what came from files", () => {
+  it("markup in names, messages, evidence and settings is shown as text, never as markup", async () => {
+    const bad = `<script>alert(1)</script><img src=x onerror=alert(2)>"'&`;
+    const audit = await renderAuditReport({
+      audit: { env: bad, reward: bad, findings: [{ check: bad, severity: "critical", message: bad, evidence: { [bad]: bad } }], regret: 1, regretNorm: 0.5, loops: [] },
+      settings: { [bad]: bad },
+      model: null,
+    });
+    const pressure = await renderPressureReport({ pressure: { env: bad, reward: bad, points: [{ strength: 0, kl: 0, designer: 0, intent: 0 }, { strength: 1, kl: 1, designer: 1, intent: -1 }], peak: { strength: 0, intent: 0 }, onset: 0 }, settings: { [bad]: bad } });
+    for (const html of [audit, pressure]) {
+      expect(html).not.toContain("<script>alert");
+      expect(html).not.toContain("<img src=x");
+      expect(html.match(/<script/g)).toHaveLength(1); // the JSON data block only
+      expectSelfContained(html);
+      expect(text(html)).toContain(bad);
+      expect(html).toContain(CAUTION);
+    }
   });
 });
 
