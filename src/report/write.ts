@@ -55,7 +55,7 @@ export async function renderReportFor(dir: string, opts: WriteReportOptions = {}
   if (kind === "run") {
     const data = loadRunReport(dir, opts);
     const needModel = Boolean(data.policy || data.audit);
-    const model = opts.model !== undefined ? opts.model : needModel ? await tryModel(data.audit?.env ?? data.run.config.env) : null;
+    const model = opts.model !== undefined ? opts.model : needModel ? await tryModel(data.run.config.env ?? data.audit?.env) : null;
     return renderRunReport({ ...data, model, generatedAt, rewardName: rewardFileName(data.run.config.reward) });
   }
   const data = loadComparisonReport(dir, opts);
