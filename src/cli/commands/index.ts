@@ -13,4 +13,17 @@ import { registerWorker } from "./worker.js";
 import { registerRuns } from "./runs.js";
 import { registerReport } from "./report.js";
 
-export const commands: CommandModule[] = [registerEnvs, registerSolve, registerExport, registerCheck, registerTrain, registerDemo, registerCompare, registerWorker, registerRuns, registerReport, registerAudit, registerPressure];
+export const commands: CommandModule[] = [
+  registerDemo,
+  registerEnvs,
+  registerSolve,
+  registerAudit,
+  registerPressure,
+  registerTrain,
+  registerCompare,
+  registerWorker,
+  registerRuns,
+  registerReport,
+  registerCheck,
+  registerExport,
+];
