@@ -107,3 +107,7 @@ export function emit(io: CliIO, json: boolean, doc: unknown, human: () => string
   if (json) io.out(JSON.stringify(doc, (_k, v) => (ArrayBuffer.isView(v) ? Array.from(v as unknown as ArrayLike<number>) : v)) + "\n");
   else io.out(human());
 }
+
+/** The caution every human-readable result ends with. */
+export const CAUTION =
+  "A clean result is evidence, not certification: it covers this environment, reward, learner, seed and budget only. For safety-relevant uses follow your domain's safety standards and licensed practice.";

@@ -5,7 +5,7 @@ import { drawStates } from "../../audit/draw.js";
 import { reaches, runAuditDetailed, type AuditReport, type Severity } from "../../audit/run.js";
 import { requireFinite } from "../../sim/finite.js";
 import { action, numberOption, type CliContext } from "../context.js";
-import { emit, paint, useColor, type CliIO } from "../io.js";
+import { CAUTION, emit, paint, useColor, type CliIO } from "../io.js";
 import { join, resolve } from "node:path";
 import { AUDIT_FILE, dirKind } from "../../report/data.js";
 import { commandLine, jsonBeside, renderAuditReport, standaloneFileName } from "../../report/standalone.js";
@@ -115,7 +115,7 @@ export function registerAudit(program: Command, ctx: CliContext): void {
             const pic = evidencePicture(model, f);
             if (pic && f.severity !== "info") text += pic.replace(/^/gm, "    ") + "\n";
           }
-          text += `\nExact checks on the model. A clean audit is evidence, not certification; for safety-relevant uses follow your domain's safety standards.\n`;
+          text += `\nExact checks on the model. ${CAUTION}\n`;
           return text;
         });
         if (!opts.json) {

@@ -14,7 +14,7 @@ import { defaultWorkers } from "../../batch/pool.js";
 import { writeReport } from "../../report/write.js";
 import { writeFileAtomic } from "../../store/atomic.js";
 import { action, intOption, type CliContext } from "../context.js";
-import { emit, paint, table, useColor } from "../io.js";
+import { CAUTION, emit, paint, table, useColor } from "../io.js";
 
 interface CompareCliOptions {
   env: string;
@@ -60,7 +60,7 @@ export function compareText(r: CompareResult, color: boolean): string {
     for (const f of s.failed.slice(0, 10)) t += `  ${f.reward} ${f.learner} seed ${f.seed}: ${f.code}: ${f.message}${f.where ? ` (${f.where})` : ""}\n`;
     if (s.failed.length > 10) t += `  ... ${s.failed.length - 10} more in comparison.json\n`;
   }
-  t += `\nScores are final normalized scores (0 = uniform random, 1 = optimal); IQM = interquartile mean over all runs, CI = stratified bootstrap.\n`;
+  t += `\nScores are final normalized scores (0 = uniform random, 1 = optimal); IQM = interquartile mean over all runs, CI = stratified bootstrap.\n${CAUTION}\n`;
   t += `comparison: ${r.dir}\n`;
   return t;
 }

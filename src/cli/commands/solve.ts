@@ -5,7 +5,7 @@ import { drawRoute } from "../../report/terminal.js";
 import { solveVariant, type SolveReport } from "../../solve/compare.js";
 import { requireFinite } from "../../sim/finite.js";
 import { action, numberOption, type CliContext } from "../context.js";
-import { emit, formatNumber, paint, table, useColor } from "../io.js";
+import { CAUTION, emit, formatNumber, paint, table, useColor } from "../io.js";
 
 export interface SolveConfig {
   env: string;
@@ -82,7 +82,7 @@ export function registerSolve(program: Command, ctx: CliContext): void {
           const dRoute = drawRoute(model, r.designerOptimal.policy);
           const iRoute = drawRoute(model, r.intentOptimal.policy);
           if (dRoute) text += `\ndesigner-optimal route:\n${dRoute}\nintent-optimal route:\n${iRoute}`;
-          text += `\nExact values on the model. A clean result is evidence, not certification; for safety-relevant uses follow your domain's safety standards.\n`;
+          text += `\nExact values on the model. ${CAUTION}\n`;
           return text;
         });
       }),

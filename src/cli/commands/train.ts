@@ -15,8 +15,8 @@ import { parseSeed } from "../../rng/rng.js";
 import { InputError } from "../../errors.js";
 import { writeReport } from "../../report/write.js";
 
-export const CAUTION =
-  "A clean result is evidence, not certification: it covers this environment, learner, seed and step budget only.";
+export { CAUTION } from "../io.js";
+import { CAUTION } from "../io.js";
 
 /** The JSON document of `gapwatch train`. */
 export function trainDocument(r: RunResult) {
