@@ -13,13 +13,14 @@
  *
  * Normalization (both): 0 = the uniform-random policy, 1 = the optimal policy for that score
  * (`normalizeScore` from src/solve/compare.ts). The references are computed once per run by
- * `scoreReferences` (value iteration for each score, policy evaluation of the uniform policy).
+ * `scoreReferences` (value iteration for each score; the uniform policy's values by the fixed-point
+ * evaluator of src/solve/dp.ts, within 1e-9 absolute of the exact values, guaranteed for gamma < 1).
  */
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import type { Rng } from "../rng/rng.js";
 import { normalizeScore } from "../solve/compare.js";
-import { evaluatePolicy, startValue, valueIteration, type Policy } from "../solve/dp.js";
+import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, startValue, uniformPolicy, valueIteration, type Policy } from "../solve/dp.js";
 import { normalQuantile } from "../stats/normal.js";
 
 /** Scores of one policy. `designer` / `intent` are expected discounted returns from the start distribution. */
@@ -74,7 +75,8 @@ export function scoreReferences(model: FiniteModel, variant: RewardVariant, gamm
   const rd = designerReward(model, variant, gamma);
   const dOpt = valueIteration(model, rd, { gamma });
   const iOpt = valueIteration(model, model.intent, { gamma });
-  const random = evaluateChain(model, null, [rd, model.intent], gamma);
+  // Uniform-random baseline: the fixed point to within FIXED_POINT_ACCURACY (1e-9 absolute, guaranteed).
+  const random = evaluatePolicyMany(model, [rd, model.intent], uniformPolicy(model), { gamma, accuracy: FIXED_POINT_ACCURACY }).map((e) => startValue(model, e.values));
   return {
     gamma,
     designerReward: rd,

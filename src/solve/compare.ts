@@ -4,10 +4,13 @@
  * regret     = intent(intent-optimal policy) - intent(designer-optimal policy), from the start distribution;
  * regretNorm = regret / (intent(intent-optimal) - intent(uniform random)), the share of the achievable
  *              intent range (above random behaviour) that optimizing the designer reward gives up.
+ *
+ * The uniform-random values come from the fixed-point evaluator (`accuracy` = FIXED_POINT_ACCURACY,
+ * within 1e-9 of v_pi in every state, guaranteed for gamma < 1), not from textbook sweeps.
  */
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { deterministicPolicy, evaluatePolicy, startValue, uniformPolicy, valueIteration, type SolveOptions } from "./dp.js";
+import { deterministicPolicy, evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, startValue, uniformPolicy, valueIteration, type SolveOptions } from "./dp.js";
 
 export interface OptimalSide {
   values: Float64Array;
@@ -46,11 +49,10 @@ export function solveVariant(model: FiniteModel, variant: RewardVariant, opts: S
   const iPol = deterministicPolicy(model, iOpt.policy);
   const intentOfDesignerOpt = startValue(model, evaluatePolicy(model, ri, dPol, o).values);
   const designerOfIntentOpt = startValue(model, evaluatePolicy(model, rd, iPol, o).values);
-  const uni = uniformPolicy(model);
-  const random = {
-    designer: startValue(model, evaluatePolicy(model, rd, uni, o).values),
-    intent: startValue(model, evaluatePolicy(model, ri, uni, o).values),
-  };
+  // The uniform-random reference only needs v_pi's fixed point: computed to within
+  // FIXED_POINT_ACCURACY (1e-9 absolute on every state's value, guaranteed; see evaluateFixedPoint).
+  const [rdRandom, riRandom] = evaluatePolicyMany(model, [rd, ri], uniformPolicy(model), { ...o, accuracy: FIXED_POINT_ACCURACY });
+  const random = { designer: startValue(model, rdRandom.values), intent: startValue(model, riRandom.values) };
   const intentBest = startValue(model, iOpt.values);
   const regret = intentBest - intentOfDesignerOpt;
   const range = intentBest - random.intent;
