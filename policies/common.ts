@@ -159,71 +159,71 @@ function chunkSize(opts: TrainOptions): number {
   return opts.checkpointEvery ?? POLL_CHUNK;
 }
 
+/** Where a drive stands between chunks (one object per drive, never per step). */
+interface DriveState {
+  readonly limit: number;
+  readonly every: number;
+  done: number;
+  stopped: boolean;
+  lastCheckpoint: number;
+}
+
+function startDrive(opts: TrainOptions): DriveState {
+  checkTrainOptions(opts);
+  return { limit: opts.maxEpisodes ?? Infinity, every: chunkSize(opts), done: 0, stopped: false, lastCheckpoint: -1 };
+}
+
+/**
+ * One chunk of a drive: poll `signal` and the episode limit, run up to the next checkpoint (or the
+ * end of the budget), then call `onCheckpoint` when one is due. Returns false when the drive must end
+ * now (stopped, or the checkpoint callback said "stop").
+ */
+function driveChunk(session: Session, opts: TrainOptions, st: DriveState): boolean {
+  if (opts.signal?.aborted || session.stats.episodes >= st.limit) {
+    st.stopped = true;
+    return false;
+  }
+  const want = Math.min(st.every - (st.done % st.every), opts.steps - st.done);
+  const ran = session.advance(want, st.limit);
+  st.done += ran;
+  if (ran < want) st.stopped = true;
+  if (opts.onCheckpoint && opts.checkpointEvery !== undefined && (st.done % st.every === 0 || st.stopped)) {
+    st.lastCheckpoint = st.done;
+    if (opts.onCheckpoint(st.done, session.agent, session.stats) === "stop") {
+      st.stopped = st.done < opts.steps || st.stopped;
+      return false;
+    }
+  }
+  return !st.stopped;
+}
+
+/** The final checkpoint (unless the last chunk just made one) and the result. */
+function finishDrive(session: Session, opts: TrainOptions, st: DriveState): TrainResult {
+  if (opts.onCheckpoint && st.lastCheckpoint !== st.done) opts.onCheckpoint(st.done, session.agent, session.stats);
+  return { agent: session.agent, episodes: session.stats.episodes, stats: session.stats, stopped: st.stopped };
+}
+
 /**
  * Run a session for `opts.steps` steps in chunks; between chunks call `onCheckpoint` (every
  * `checkpointEvery` steps, and once at the end) and poll `signal`. Synchronous.
  */
 export function drive(session: Session, opts: TrainOptions): TrainResult {
-  checkTrainOptions(opts);
-  const limit = opts.maxEpisodes ?? Infinity;
-  const every = chunkSize(opts);
-  let done = 0;
-  let stopped = false;
-  let lastCheckpoint = -1;
-  while (done < opts.steps) {
-    if (opts.signal?.aborted || session.stats.episodes >= limit) {
-      stopped = true;
-      break;
-    }
-    const want = Math.min(every - (done % every), opts.steps - done);
-    const ran = session.advance(want, limit);
-    done += ran;
-    if (ran < want) stopped = true;
-    if (opts.onCheckpoint && opts.checkpointEvery !== undefined && (done % every === 0 || stopped)) {
-      lastCheckpoint = done;
-      if (opts.onCheckpoint(done, session.agent, session.stats) === "stop") {
-        stopped = done < opts.steps || stopped;
-        break;
-      }
-    }
-    if (stopped) break;
-  }
-  if (opts.onCheckpoint && lastCheckpoint !== done) opts.onCheckpoint(done, session.agent, session.stats);
-  return { agent: session.agent, episodes: session.stats.episodes, stats: session.stats, stopped };
+  const st = startDrive(opts);
+  while (st.done < opts.steps && driveChunk(session, opts, st));
+  return finishDrive(session, opts, st);
 }
 
 /**
- * Like `drive`, but yields to the event loop between chunks, so a SIGINT handler can set
- * `signal.aborted` while training runs (Ctrl-C support in the CLI). Same results as `drive`.
+ * Like `drive`, but yields to the event loop before each chunk, so a SIGINT handler can set
+ * `signal.aborted` while training runs (Ctrl-C support in the CLI). Same chunks, same results as `drive`.
  */
 export async function driveAsync(session: Session, opts: TrainOptions): Promise<TrainResult> {
-  checkTrainOptions(opts);
-  const limit = opts.maxEpisodes ?? Infinity;
-  const every = chunkSize(opts);
-  let done = 0;
-  let stopped = false;
-  let lastCheckpoint = -1;
-  while (done < opts.steps) {
+  const st = startDrive(opts);
+  while (st.done < opts.steps) {
     await new Promise<void>((resolve) => setImmediate(resolve));
-    if (opts.signal?.aborted || session.stats.episodes >= limit) {
-      stopped = true;
-      break;
-    }
-    const want = Math.min(every - (done % every), opts.steps - done);
-    const ran = session.advance(want, limit);
-    done += ran;
-    if (ran < want) stopped = true;
-    if (opts.onCheckpoint && opts.checkpointEvery !== undefined && (done % every === 0 || stopped)) {
-      lastCheckpoint = done;
-      if (opts.onCheckpoint(done, session.agent, session.stats) === "stop") {
-        stopped = done < opts.steps || stopped;
-        break;
-      }
-    }
-    if (stopped) break;
+    if (!driveChunk(session, opts, st)) break;
   }
-  if (opts.onCheckpoint && lastCheckpoint !== done) opts.onCheckpoint(done, session.agent, session.stats);
-  return { agent: session.agent, episodes: session.stats.episodes, stats: session.stats, stopped };
+  return finishDrive(session, opts, st);
 }
 
 /** Check a discount factor; throws `config.gamma`. */
