@@ -41,8 +41,13 @@ export function maxRow(q: Float64Array, base: number, nA: number): number {
  * in binary64). One draw on an exploit step, two on an explore step.
  */
 export function epsilonGreedy(q: Float64Array, base: number, nA: number, threshold: number, rng: Rng): number {
-  if (rng.uint32() < threshold) return Math.floor((rng.uint32() * nA) / TWO32);
+  if (rng.uint32() < threshold) return randomAction(rng, nA);
   return argmaxRow(q, base, nA);
+}
+
+/** The explore step's action: one draw u, floor(u * nA / 2^32) (uniform over 0..nA-1). */
+export function randomAction(rng: Rng, nA: number): number {
+  return Math.floor((rng.uint32() * nA) / TWO32);
 }
 
 /** Probability that `epsilonGreedy` returns the greedy action (ties broken to the lowest index). */
@@ -354,6 +359,23 @@ export abstract class TabularSession implements Session {
 
   protected growTables(cap: number): void {
     this.q = growFloat(this.q, cap * this.nA, this.initialQ);
+  }
+
+  /**
+   * Close the step from `this.s` that earned r and landed in sp: count it and its reward, then either
+   * end the episode (sp terminal, or the horizon reached; see `endEpisode`) or move on to sp.
+   * Returns true when the episode ended (the caller then checks its episode limit).
+   */
+  finishStep(r: number, sp: number, terminated: boolean): boolean {
+    this.stats.steps++;
+    this.t++;
+    this.ret += r;
+    if (terminated || this.t === this.horizon) {
+      this.endEpisode(terminated, sp);
+      return true;
+    }
+    this.s = sp;
+    return false;
   }
 
   /** Record the end of an episode after the step that landed in `last`, and reset the environment. */

@@ -19,6 +19,7 @@ import {
   drive,
   driveAsync,
   growFloat,
+  randomAction,
   resolveTabular,
   type Agent,
   type TabularConfig,
@@ -85,12 +86,12 @@ export class DoubleQSession extends TabularRateSession {
   }
 
   advance(n: number, episodeLimit: number): number {
-    const { env, nA, horizon, out, rng, envRng, stats } = this;
+    const { env, nA, out, rng, envRng, stats } = this;
     const gamma = this.config.gamma;
     for (let i = 0; i < n; i++) {
       const s = this.s;
       const base = s * nA;
-      const a = rng.uint32() < this.epsilonNow() * TWO32 ? Math.floor((rng.uint32() * nA) / TWO32) : argmaxSum(this.q, this.q2, base, nA);
+      const a = rng.uint32() < this.epsilonNow() * TWO32 ? randomAction(rng, nA) : argmaxSum(this.q, this.q2, base, nA);
       const first = rng.uint32() < HALF;
       env.step(s, a, envRng, out);
       const sp = out.next;
@@ -106,13 +107,7 @@ export class DoubleQSession extends TabularRateSession {
       const sa = base + a;
       const qsa = upd[sa];
       upd[sa] = qsa + this.alphaFor(sa) * (target - qsa);
-      stats.steps++;
-      this.t++;
-      this.ret += r;
-      if (out.terminated || this.t === horizon) {
-        this.endEpisode(out.terminated, sp);
-        if (stats.episodes >= episodeLimit) return i + 1;
-      } else this.s = sp;
+      if (this.finishStep(r, sp, out.terminated) && stats.episodes >= episodeLimit) return i + 1;
     }
     return n;
   }

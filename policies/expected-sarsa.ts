@@ -51,7 +51,7 @@ export class ExpectedSarsaSession extends TabularRateSession {
   }
 
   advance(n: number, episodeLimit: number): number {
-    const { env, nA, horizon, out, rng, envRng, stats } = this;
+    const { env, nA, out, rng, envRng, stats } = this;
     const gamma = this.config.gamma;
     for (let i = 0; i < n; i++) {
       const s = this.s;
@@ -66,13 +66,7 @@ export class ExpectedSarsaSession extends TabularRateSession {
       const sa = s * nA + a;
       const qsa = q[sa];
       q[sa] = qsa + this.alphaFor(sa) * (target - qsa);
-      stats.steps++;
-      this.t++;
-      this.ret += r;
-      if (out.terminated || this.t === horizon) {
-        this.endEpisode(out.terminated, sp);
-        if (stats.episodes >= episodeLimit) return i + 1;
-      } else this.s = sp;
+      if (this.finishStep(r, sp, out.terminated) && stats.episodes >= episodeLimit) return i + 1;
     }
     return n;
   }

@@ -65,7 +65,7 @@ export class QLearningSession extends TabularRateSession {
 
   /** The generic loop: any TabularEnv, any schedules. */
   private advanceGeneric(n: number, episodeLimit: number): number {
-    const { env, nA, horizon, out, rng, envRng, stats } = this;
+    const { env, nA, out, rng, envRng, stats } = this;
     const gamma = this.config.gamma;
     for (let i = 0; i < n; i++) {
       const s = this.s;
@@ -80,13 +80,7 @@ export class QLearningSession extends TabularRateSession {
       const sa = base + a;
       const qsa = q[sa];
       q[sa] = qsa + this.alphaFor(sa) * (target - qsa);
-      stats.steps++;
-      this.t++;
-      this.ret += r;
-      if (out.terminated || this.t === horizon) {
-        this.endEpisode(out.terminated, sp);
-        if (stats.episodes >= episodeLimit) return i + 1;
-      } else this.s = sp;
+      if (this.finishStep(r, sp, out.terminated) && stats.episodes >= episodeLimit) return i + 1;
     }
     return n;
   }

@@ -49,7 +49,7 @@ export class SarsaSession extends TabularRateSession {
   }
 
   advance(n: number, episodeLimit: number): number {
-    const { env, nA, horizon, out, envRng, stats } = this;
+    const { env, nA, out, envRng, stats } = this;
     const gamma = this.config.gamma;
     for (let i = 0; i < n; i++) {
       const s = this.s;
@@ -68,17 +68,10 @@ export class SarsaSession extends TabularRateSession {
       const sa = s * nA + a;
       const qsa = q[sa];
       q[sa] = qsa + this.alphaFor(sa) * (target - qsa);
-      stats.steps++;
-      this.t++;
-      this.ret += r;
-      if (out.terminated || this.t === horizon) {
+      if (this.finishStep(r, sp, out.terminated)) {
         this.a = -1;
-        this.endEpisode(out.terminated, sp);
         if (stats.episodes >= episodeLimit) return i + 1;
-      } else {
-        this.s = sp;
-        this.a = ap;
-      }
+      } else this.a = ap;
     }
     return n;
   }
