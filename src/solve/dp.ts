@@ -41,9 +41,11 @@ export interface Solution extends Evaluation {
   q: Float64Array;
 }
 
-const DEFAULT_TOL = 1e-10;
+/** Default `tol` of every solver here (also the parallel sweeps of parallel.ts). */
+export const DEFAULT_TOL = 1e-10;
 
-function defaultMaxIters(gamma: number): number {
+/** Default `maxIters` for a discount (also used by parallel.ts, so both stop alike). */
+export function defaultMaxIters(gamma: number): number {
   return gamma < 1 ? Math.max(10_000, Math.ceil(Math.log(1e-12) / Math.log(gamma)) * 4) : 1_000_000;
 }
 
