@@ -23,6 +23,7 @@
  */
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
+import { expectedPerStateAction } from "../model/reward.js";
 import { evaluatePolicy, startValue, uniformPolicy, type Policy, type SolveOptions } from "./dp.js";
 
 export interface SoftOptions extends SolveOptions {
@@ -74,18 +75,6 @@ function checkPolicy(model: FiniteModel, p: Policy, what: string): void {
   }
 }
 
-/** Expected reward per (s, a). */
-function expected(model: FiniteModel, reward: Float64Array): Float64Array {
-  const nSA = model.nStates * model.nActions;
-  const r = new Float64Array(nSA);
-  for (let k = 0; k < nSA; k++) {
-    let acc = 0;
-    for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) acc += model.prob[o] * reward[o];
-    r[k] = acc;
-  }
-  return r;
-}
-
 /** KL-regularized soft value iteration. */
 export function softValueIteration(model: FiniteModel, reward: Float64Array, opts: SoftOptions): SoftSolution {
   const beta = opts.beta;
@@ -100,7 +89,7 @@ export function softValueIteration(model: FiniteModel, reward: Float64Array, opt
   }
   const ref = opts.reference ?? uniformPolicy(model);
   if (opts.reference) checkPolicy(model, ref, "reference policy");
-  const r = expected(model, reward);
+  const r = expectedPerStateAction(model, reward);
   const { saStart, next, prob, terminal } = model;
   let V = new Float64Array(nS);
   let W = new Float64Array(nS);
