@@ -5,12 +5,14 @@
  *  - vi: `valueSweeps`, the sweeps of `valueIteration`. Its tables (`sweepPlan`: expected reward, live
  *    states, packed successors; one pass over the outcomes) are built before the clock starts; the action values and greedy policy that `valueIteration` adds afterwards are
  *    computed after it stops (same functions, same results).
+ *  - vi-par: the same sweeps split over 2 threads (`runLavaViParallel`, solve/parallel.ts), its own row.
  *  - ql: one call of `trainQLearning` (policies/qlearning.ts) for STEPS steps: the step loop plus the
  *    learner's session set-up (allocating its S x 4 table and counters, O(S), negligible at 32x32).
  *    Model building, the learner view, checksums and the rollout are outside.
  */
 import { Xorshift32 } from "../rng/rng.js";
-import { actionValues, greedyActions, sweepPlan, valueSweeps } from "../solve/dp.js";
+import { actionValues, greedyActions, sweepPlan, valueSweeps, type Evaluation } from "../solve/dp.js";
+import { prepareParallelSweeps } from "../solve/parallel.js";
 import { argmaxRow, greedyRollout, qlCheckLine, viCheckLine } from "./check.js";
 import { KIND_GOAL, KIND_LAVA, LAVA_GAMMA, lavaModel, type LavaProblem } from "./lava.js";
 import { benchQEnv, trainBenchQ } from "./ql.js";
@@ -42,6 +44,37 @@ export function runLavaVi(W: number, H: number, clock: Clock = hrClock, problem:
   const policy = greedyActions(model, actionValues(model, reward, ev.values, LAVA_GAMMA));
   const rollout = greedyRollout(problem, (s) => policy[s]);
   return { check: viCheckLine({ W, H, iters: ev.iters, values: ev.values, rollout }), seconds, work: ev.iters, iters: ev.iters };
+}
+
+/**
+ * `runLavaVi` with each sweep split over `threads` threads (solve/parallel.ts). The timed region is
+ * the same, the sweeps only; `setupSeconds` is what comes before it on top of `sweepPlan`: copying
+ * the tables into shared memory and starting the worker threads (until each reports ready).
+ */
+export async function runLavaViParallel(
+  W: number,
+  H: number,
+  threads = 2,
+  clock: Clock = hrClock,
+  problem: LavaProblem = lavaModel(W, H),
+): Promise<Measured & { iters: number; setupSeconds: number; threads: number }> {
+  const { model, reward } = problem;
+  const plan = sweepPlan(model, reward);
+  const s0 = clock();
+  const sweeps = await prepareParallelSweeps(model, reward, { gamma: LAVA_GAMMA, tol: VI_TOL, threads }, plan);
+  const t0 = clock();
+  let ev: Evaluation;
+  let seconds: number;
+  try {
+    ev = sweeps.run();
+    seconds = clock() - t0;
+  } finally {
+    await sweeps.close();
+  }
+  const policy = greedyActions(model, actionValues(model, reward, ev.values, LAVA_GAMMA));
+  const rollout = greedyRollout(problem, (s) => policy[s]);
+  const check = viCheckLine({ W, H, iters: ev.iters, values: ev.values, rollout });
+  return { check, seconds, work: ev.iters, iters: ev.iters, setupSeconds: t0 - s0, threads };
 }
 
 export function runLavaQl(W: number, H: number, steps = QL_STEPS, seed = QL_SEED, clock: Clock = hrClock, problem: LavaProblem = lavaModel(W, H)): Measured {

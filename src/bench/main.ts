@@ -18,7 +18,7 @@ import { cpus, loadavg } from "node:os";
 import { fileURLToPath } from "node:url";
 import { formatError, InputError } from "../errors.js";
 import { qlTimeLine, viTimeLine } from "./check.js";
-import { QL_SEED, QL_STEPS, runLavaQl, runLavaVi } from "./lava-run.js";
+import { QL_SEED, QL_STEPS, runLavaQl, runLavaVi, runLavaViParallel } from "./lava-run.js";
 import { compareEntry } from "./compare.js";
 import { reportEntry } from "./report.js";
 import { monitorEntry } from "./monitor.js";
@@ -53,7 +53,22 @@ interface Context {
   opts: BenchOptions;
   peers: PeerSetup;
   ours: Impl;
+  /** Our VI sweeps on PAR_THREADS threads: its own row, never merged with the single-thread one. */
+  oursPar: Impl;
   expected: Map<string, string>;
+}
+
+/** Threads of the "gapwatch-2t" row (every other row, peers included, runs on one thread). */
+export const PAR_THREADS = 2;
+const PAR_NAME = `gapwatch-${PAR_THREADS}t`;
+
+/** The parallel row: VI only, at 128x128 and up (below that a sweep is too short to split). */
+function oursParImpl(mainJs: string): Impl {
+  return {
+    name: PAR_NAME,
+    slowAt512: false,
+    command: (w) => (w.kind === "vi" && w.W * w.H >= 128 * 128 ? [process.execPath, mainJs, "--child", "vi-par", String(w.W), String(w.H)] : null),
+  };
 }
 
 interface Row {
@@ -93,7 +108,7 @@ const median = (xs: number[]): number => {
 /** Run ours and every applicable peer on one workload in interleaved rounds; check the checksums. */
 function measure(ctx: Context, title: string, w: Workload): WorkloadResult {
   const big = w.W * w.H >= 512 * 512;
-  const impls = [ctx.ours, ...peerImpls(ctx.peers)].filter((impl) => {
+  const impls = [ctx.ours, ctx.oursPar, ...peerImpls(ctx.peers)].filter((impl) => {
     if (impl.command(w) === null) return false;
     if (impl.slowAt512 && big && !ctx.opts.slow) return false;
     if (ctx.opts.quick && impl.slowAt512) return false;
@@ -184,6 +199,10 @@ function printTable(r: WorkloadResult): void {
   out(`   ${r.reference}`);
   const ours = r.rows.find((x) => x.impl === "gapwatch");
   if (ours) out(`   ours: ${ours.check}`);
+  if (r.rows.some((x) => x.impl === PAR_NAME)) {
+    out(`   ${PAR_NAME}: the same sweeps on ${PAR_THREADS} threads (solve/parallel.ts); every other row uses 1 thread. Thread start-up and`);
+    out(`   the shared-memory table copy are outside solve_s, like table building for all rows (wall_s includes them).`);
+  }
   out();
 }
 
@@ -212,6 +231,13 @@ const viEntry: BenchEntry = {
       const vsC = Number.isFinite(o.vsC) ? `${fmtRatio(o.vsC)} C (target <= x3.00: ${o.vsC <= 3 ? "met" : "NOT met"})` : "C n/a";
       summary.push(`vi ${n}x${n}: ours ${fmtSec(o.seconds)} s = ${vsC}; ${vsNp}`);
     }
+    const par = last?.rows.find((x) => x.impl === PAR_NAME);
+    if (last && par) {
+      const n = last.workload.W;
+      summary.push(
+        `vi ${n}x${n}: ${PAR_NAME} (${PAR_THREADS} threads, opt-in; not the single-thread target) ${fmtSec(par.seconds)} s = ${fmtRatio(par.vsC)} C, ${fmtRatio(par.vsNumpy)} numpy-shift`,
+      );
+    }
     return { ok, summary };
   },
 };
@@ -237,7 +263,7 @@ export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntr
 
 const USAGE =
   "usage: main.js [--quick] [--runs N] [--warmup N] [--only NAME,...] [--slow] [--peers DIR]\n" +
-  "       main.js --child vi W H | --child ql W H STEPS SEED\n" +
+  "       main.js --child vi W H | --child vi-par W H | --child ql W H STEPS SEED\n" +
   `entries: ${ENTRIES.map((e) => e.name).join(", ")}`;
 
 export function parseBenchArgs(argv: string[]): BenchOptions {
@@ -281,11 +307,17 @@ export function parseBenchArgs(argv: string[]): BenchOptions {
 }
 
 /** Child mode: run our implementation once and print CHECK and TIME like a peer program. */
-function child(argv: string[]): void {
+function child(argv: string[]): void | Promise<void> {
   const [mode, ...rest] = argv;
   const nums = rest.map(Number);
-  if (!(mode === "vi" || mode === "ql") || nums.some((x) => !Number.isInteger(x))) throw new InputError("cli.benchOption", USAGE, "--child");
+  if (!(mode === "vi" || mode === "vi-par" || mode === "ql") || nums.some((x) => !Number.isInteger(x))) throw new InputError("cli.benchOption", USAGE, "--child");
   const [W = 32, H = 32] = nums;
+  if (mode === "vi-par") {
+    return runLavaViParallel(W, H, PAR_THREADS).then((r) => {
+      out(r.check);
+      out(`${viTimeLine(PAR_NAME, r.iters, W * H, r.seconds)} threads=${r.threads} setup_s=${r.setupSeconds.toFixed(6)}`);
+    });
+  }
   if (mode === "vi") {
     const r = runLavaVi(W, H);
     out(r.check);
@@ -299,15 +331,20 @@ function child(argv: string[]): void {
   }
 }
 
-export function main(argv: string[]): number {
+export function main(argv: string[]): number | Promise<number> {
+  const fail = (err: unknown): number => {
+    process.stderr.write(formatError(err) + "\n");
+    return err instanceof InputError ? 2 : 1;
+  };
   try {
     if (argv[0] === "--child") {
-      child(argv.slice(1));
-      return 0;
+      const done = child(argv.slice(1));
+      return done ? done.then(() => 0, fail) : 0;
     }
     const opts = parseBenchArgs(argv);
     const peers = setupPeers(opts.peersDir);
-    const ctx: Context = { opts, peers, ours: oursImpl(fileURLToPath(import.meta.url)), expected: readExpected(opts.peersDir) };
+    const self = fileURLToPath(import.meta.url);
+    const ctx: Context = { opts, peers, ours: oursImpl(self), oursPar: oursParImpl(self), expected: readExpected(opts.peersDir) };
     out(`# gapwatch bench  ${new Date().toISOString().slice(0, 16)}Z  node ${process.version}  ${cpus().length} cores  peers ${opts.peersDir}`);
     // The machine may be shared: a load average above the core count means the figures are noisy.
     out(`# load average at start ${loadavg().map((x) => x.toFixed(2)).join(" ")}`);
@@ -329,9 +366,12 @@ export function main(argv: string[]): number {
     out(ok ? "ALL CHECKSUMS MATCH" : "CHECKSUM MISMATCH FOUND");
     return ok ? 0 : 1;
   } catch (err) {
-    process.stderr.write(formatError(err) + "\n");
-    return err instanceof InputError ? 2 : 1;
+    return fail(err);
   }
 }
 
-if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) process.exitCode = main(process.argv.slice(2));
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
+  void Promise.resolve(main(process.argv.slice(2))).then((code) => {
+    process.exitCode = code;
+  });
+}
