@@ -15,7 +15,7 @@ import { deterministicPolicy, evaluatePolicy, startValue, valueIteration } from 
 import { createRng } from "../../src/rng/rng.js";
 import { envsDir } from "../../src/util/paths.js";
 import { trainQLearning } from "../../policies/qlearning.js";
-import type { FiniteModel } from "../../src/model/types.js";
+import { cycleAverage } from "../helpers/cycle-average.js";
 
 const NAME = "archive-shuttle";
 const dir = join(envsDir(), NAME);
@@ -83,22 +83,6 @@ describe(`scenario ${NAME}: designer optimum vs intent optimum (exact)`, () => {
     expect(worst).toBeLessThan(1e-6);
   });
 });
-
-/** Average of a feature over the cycle a deterministic policy reaches from the start. */
-function cycleAverage(m: FiniteModel, policy: ArrayLike<number>, feature: string): number {
-  const f = m.features.indexOf(feature);
-  const firstSeen = new Map<number, number>();
-  const values: number[] = [];
-  let s = m.start.indexOf(1);
-  while (!firstSeen.has(s)) {
-    firstSeen.set(s, values.length);
-    const o = m.saStart[s * m.nActions + policy[s]];
-    values.push(m.featureValues[o * m.features.length + f]);
-    s = m.next[o];
-  }
-  const cyc = values.slice(firstSeen.get(s));
-  return cyc.reduce((x, y) => x + y, 0) / cyc.length;
-}
 
 describe(`scenario ${NAME}: the exploit's rates without slip`, () => {
   // Computed by hand from the dynamics: on this ring (length 32, vmax 2, 4 gates) a circuit at top speed

@@ -12,6 +12,7 @@ import { valueIteration } from "../../src/solve/dp.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import type { ScenarioMeta } from "../../src/model/registry.js";
+import { cycleAverage } from "../helpers/cycle-average.js";
 
 const ALL = [...TRACK_EVENTS];
 const ACC = 0;
@@ -369,23 +370,6 @@ describe("track invariants over random configs (fast-check)", () => {
     );
   });
 });
-
-/** Follow a deterministic policy from the start until a state repeats; average a feature over the cycle. */
-function cycleAverage(m: FiniteModel, policy: ArrayLike<number>, feature: string): number {
-  const f = m.features.indexOf(feature);
-  const firstSeen = new Map<number, number>();
-  const values: number[] = [];
-  let s = m.start.indexOf(1);
-  while (!firstSeen.has(s)) {
-    firstSeen.set(s, values.length);
-    const o = m.saStart[s * m.nActions + policy[s]];
-    expect(m.saStart[s * m.nActions + policy[s] + 1] - o).toBe(1); // deterministic
-    values.push(m.featureValues[o * m.features.length + f]);
-    s = m.next[o];
-  }
-  const cyc = values.slice(firstSeen.get(s));
-  return cyc.reduce((x, y) => x + y, 0) / cyc.length;
-}
 
 describe("the rocking exploit on a slip-free ring (rates computed by hand from the dynamics)", () => {
   // length 24, vmax 2, gates 0, 8, 16. Computed by hand from the dynamics: rocking over one gate

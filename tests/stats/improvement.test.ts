@@ -9,6 +9,7 @@ import {
 import { scoreMatrix } from "../../src/stats/summary.js";
 import { createRng } from "../../src/rng/rng.js";
 import { InputError } from "../../src/errors.js";
+import { rliableMatrices } from "../helpers/rliable.js";
 
 /** Independent oracle: average S(x, y) over all pairs (1 if x > y, 1/2 if equal, 0 otherwise). */
 function pairAverage(xs: number[], ys: number[]): number {
@@ -18,18 +19,8 @@ function pairAverage(xs: number[], ys: number[]): number {
 }
 
 describe("probability of improvement (rliable probability_of_improvement)", () => {
-  // rliable tests/rliable/metrics_test.py via REFERENCE_VALUES.md section 7
-  const X = scoreMatrix([
-    [1, 2],
-    [2, 2],
-    [1, 1],
-    [2, 1],
-  ]);
-  const Y = scoreMatrix([
-    [1, 1],
-    [2, 2],
-    [3, 3],
-  ]);
+  // rliable tests/rliable/metrics_test.py via REFERENCE_VALUES.md section 7 (X 4 runs x 2 tasks, Y 3 x 2)
+  const { X, Y } = rliableMatrices();
 
   it("P(X > Y) = 1/3 on the rliable test matrices, U = 4 of 12 pairs per task", () => {
     expect(probabilityOfImprovement(X, Y)).toBeCloseTo(1 / 3, 12);

@@ -15,6 +15,7 @@ import {
   trimMean,
 } from "../../src/stats/summary.js";
 import { InputError } from "../../src/errors.js";
+import { rliableMatrices } from "../helpers/rliable.js";
 
 const range = (a: number, b: number) => Array.from({ length: b - a + 1 }, (_, i) => a + i);
 
@@ -60,18 +61,8 @@ describe("interquartile mean (rliable: scipy trim_mean 0.25, floor cut, no fract
 });
 
 describe("rliable aggregates over runs x tasks", () => {
-  // rliable tests/rliable/metrics_test.py via REFERENCE_VALUES.md section 7
-  const X = scoreMatrix([
-    [1, 2],
-    [2, 2],
-    [1, 1],
-    [2, 1],
-  ]);
-  const Y = scoreMatrix([
-    [1, 1],
-    [2, 2],
-    [3, 3],
-  ]);
+  // rliable tests/rliable/metrics_test.py via REFERENCE_VALUES.md section 7 (X 4 runs x 2 tasks, Y 3 x 2)
+  const { X, Y } = rliableMatrices();
   it("median = mean = IQM = 1.5 for X and 2 for Y", () => {
     for (const f of [aggregateMean, aggregateMedian, aggregateIqm]) {
       expect(f(X)).toBeCloseTo(1.5, 12);
