@@ -1,9 +1,9 @@
 import { existsSync, readFileSync, rmSync } from "node:fs";
 import { join } from "node:path";
-import { afterAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
-import { tempDir } from "../batch/helpers.js";
+import { tempDirsRemovedAfterAll } from "../helpers/temp-dirs.js";
 
 async function cli(...argv: string[]) {
   const io = memoryIO();
@@ -11,15 +11,11 @@ async function cli(...argv: string[]) {
   return { code, out: io.stdout, err: io.stderr };
 }
 
-const dirs: string[] = [];
-afterAll(() => {
-  for (const d of dirs) rmSync(d, { recursive: true, force: true });
-});
+const tempDir = tempDirsRemovedAfterAll();
 
 describe("gapwatch compare / runs", () => {
   it("prints exactly the documented JSON shape, writes comparison.json/.csv and --csv, and lists the runs by filter", async () => {
     const runsDir = tempDir("cli");
-    dirs.push(runsDir);
     const csv = join(runsDir, "out.csv");
     const r = await cli("compare", "--env", "tests/fixtures/batch/corridor.json", "--rewards", "default,dawdle", "--seed-list", "1,2,3", "--steps", "600", "--workers", "2", "--runs-dir", runsDir, "--csv", csv, "--bootstrap-reps", "300", "--json");
     expect(r.err).toMatch(/comparison: /);
@@ -63,7 +59,6 @@ describe("gapwatch compare / runs", () => {
 
   it("a broken reward file fails its runs (reported) while the other variant completes; bad flags exit 2 with one line", async () => {
     const runsDir = tempDir("cli-bad");
-    dirs.push(runsDir);
     const r = await cli("compare", "--env", "tests/fixtures/batch/corridor.json", "--rewards", "default,tests/fixtures/batch/bad-reward.json", "--seeds", "2", "--steps", "300", "--workers", "1", "--runs-dir", runsDir, "--bootstrap-reps", "100", "--json");
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);

@@ -5,30 +5,22 @@
  * every escaped string back as exactly the text it was.
  */
 import fc from "fast-check";
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { readFileSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
-import type { Browser } from "playwright-core";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { renderComparisonReport } from "../../src/report/comparison-report.js";
 import { esc, jsonForScript } from "../../src/report/escape.js";
 import { renderSvg } from "../../src/report/charts.js";
 import { writeReport } from "../../src/report/write.js";
 import { readRun } from "../../src/store/run-store.js";
 import { runTraining } from "../../src/train/run.js";
-import { artifactsDir, HAVE_CHROMIUM, launch, openReport } from "./browser-helpers.js";
+import { browserForAll } from "../helpers/browser.js";
+import { tempDirRemovedAfterAll } from "../helpers/temp-dirs.js";
+import { artifactsDir, HAVE_CHROMIUM, openReport } from "./browser-helpers.js";
 
 const EVIL = "<img src=x onerror=alert(1)><script>alert(2)</script>";
-const tmp = mkdtempSync(join(tmpdir(), "gapwatch-escape-"));
-let browser: Browser | undefined;
-
-beforeAll(async () => {
-  if (HAVE_CHROMIUM) browser = await launch();
-});
-afterAll(async () => {
-  await browser?.close();
-  rmSync(tmp, { recursive: true, force: true });
-});
+const tmp = tempDirRemovedAfterAll("escape");
+const shared = browserForAll();
 
 describe("escape helpers", () => {
   it("replaces the five HTML-significant characters with their character references (WHATWG HTML)", () => {
@@ -68,7 +60,7 @@ describe("escape helpers", () => {
 
 describe.skipIf(!HAVE_CHROMIUM)("escaping in the browser", () => {
   it("Chromium's HTML parser reads every escaped string back as the same text (property, 200 strings)", async () => {
-    const page = await browser!.newPage();
+    const page = await shared.browser!.newPage();
     const samples = fc.sample(fc.string({ unit: "grapheme", maxLength: 40 }).map((s) => s + EVIL.slice(0, s.length % EVIL.length)), { numRuns: 200, seed: 42 });
     samples.push(EVIL, "</script><!--", "&amp;lt;", '"><svg onload=alert(3)>');
     const html = samples.map((s, i) => `<p id="t${i}" title="${esc(s)}">${esc(s)}</p>`).join("");
@@ -96,7 +88,7 @@ describe.skipIf(!HAVE_CHROMIUM)("escaping in the browser", () => {
     expect(html).not.toContain("<script>");
     expect(html).toContain(esc(EVIL)); // the name is shown, as text
 
-    const o = await openReport(browser!, file);
+    const o = await openReport(shared.browser!, file);
     expect(o.dialogs).toEqual([]);
     expect(o.pageErrors).toEqual([]);
     expect(o.consoleErrors).toEqual([]);
@@ -145,7 +137,7 @@ describe.skipIf(!HAVE_CHROMIUM)("escaping in the browser", () => {
     expect(html).not.toMatch(/<img|<script>|onerror=alert\(1\)>/);
     const file = join(tmp, "evil-comparison.html");
     writeFileSync(file, html);
-    const o = await openReport(browser!, file);
+    const o = await openReport(shared.browser!, file);
     expect(o.dialogs).toEqual([]);
     expect(o.pageErrors).toEqual([]);
     expect(await o.page.locator("img").count()).toBe(0);

@@ -9,29 +9,22 @@
  * Chromium's HTML/SVG engine (via playwright-core, skipped when /usr/bin/chromium is absent).
  */
 import { execFileSync } from "node:child_process";
-import { existsSync, mkdtempSync, readFileSync, rmSync } from "node:fs";
-import { tmpdir } from "node:os";
+import { existsSync, readFileSync } from "node:fs";
 import { join } from "node:path";
 import fc from "fast-check";
-import type { Browser } from "playwright-core";
-import { afterAll, beforeAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
 import { commandLine, fileSlug, jsonBeside, renderAuditReport, renderPressureReport, standaloneFileName } from "../../src/report/standalone.js";
 import { readRun } from "../../src/store/run-store.js";
-import { HAVE_CHROMIUM, launch, openReport, SKIP_REASON } from "./browser-helpers.js";
+import { browserForAll } from "../helpers/browser.js";
+import { tempDirRemovedAfterAll } from "../helpers/temp-dirs.js";
+import { HAVE_CHROMIUM, openReport, SKIP_REASON } from "./browser-helpers.js";
 
 if (!HAVE_CHROMIUM) console.warn(SKIP_REASON);
 
-const tmp = mkdtempSync(join(tmpdir(), "gapwatch-report-flags-"));
-let browser: Browser | undefined;
-beforeAll(async () => {
-  if (HAVE_CHROMIUM) browser = await launch();
-});
-afterAll(async () => {
-  await browser?.close();
-  rmSync(tmp, { recursive: true, force: true });
-});
+const tmp = tempDirRemovedAfterAll("report-flags");
+const shared = browserForAll();
 
 async function cli(argv: string[], cwd = tmp) {
   const io = memoryIO();
@@ -250,7 +243,7 @@ describe.skipIf(!HAVE_CHROMIUM)("standalone audit report in headless Chromium", 
   it("opens quietly and offline, with the evidence drawn on the map and every finding", async () => {
     const r = await cli(["audit", "--env", "greenhouse-rounds", "--reward", "fast", "--report", "browser/audit.html", "--json"]);
     const doc = JSON.parse(r.stdout);
-    const o = await openReport(browser!, doc.report);
+    const o = await openReport(shared.browser!, doc.report);
     expect(o.consoleErrors).toEqual([]);
     expect(o.pageErrors).toEqual([]);
     expect(o.dialogs).toEqual([]);

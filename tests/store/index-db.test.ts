@@ -1,21 +1,17 @@
 import { existsSync, rmSync } from "node:fs";
 import { join } from "node:path";
 import Database from "better-sqlite3";
-import { afterAll, describe, expect, it } from "vitest";
+import { describe, expect, it } from "vitest";
 import { indexRun, INDEX_FILE, openIndex } from "../../src/store/index-db.js";
 import { readRun } from "../../src/store/run-store.js";
 import { runTraining } from "../../src/train/run.js";
-import { tempDir } from "../batch/helpers.js";
+import { tempDirsRemovedAfterAll } from "../helpers/temp-dirs.js";
 
-const dirs: string[] = [];
-afterAll(() => {
-  for (const d of dirs) rmSync(d, { recursive: true, force: true });
-});
+const tempDir = tempDirsRemovedAfterAll();
 
 describe("run index (real SQLite file, better-sqlite3)", () => {
   it("records runs once each, filters them, and rebuilds the same rows from the run directories when index.db is deleted", async () => {
     const runsDir = tempDir("index");
-    dirs.push(runsDir);
     const results = [];
     for (const reward of ["fast", "default"]) {
       for (const seed of [1, 2]) {
