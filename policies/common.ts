@@ -482,4 +482,9 @@ export abstract class TabularRateSession extends TabularSession {
     if (this.epsilonConst !== undefined) return this.epsilonConst;
     return scheduleValue(this.epsilon, this.config.epsilonClock === "steps" ? this.stats.steps : this.stats.episodes);
   }
+
+  /** The behaviour policy's action in state s: ε-greedy on `q` at the current ε (one or two draws). */
+  behaviourAction(s: number): number {
+    return epsilonGreedy(this.q, s * this.nA, this.nA, this.epsilonNow() * TWO32, this.rng);
+  }
 }

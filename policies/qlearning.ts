@@ -22,7 +22,6 @@ import {
   TabularRateSession,
   drive,
   driveAsync,
-  epsilonGreedy,
   maxRow,
   resolveTabular,
   type Agent,
@@ -65,12 +64,12 @@ export class QLearningSession extends TabularRateSession {
 
   /** The generic loop: any TabularEnv, any schedules. */
   private advanceGeneric(n: number, episodeLimit: number): number {
-    const { env, nA, out, rng, envRng, stats } = this;
+    const { env, nA, out, envRng, stats } = this;
     const gamma = this.config.gamma;
     for (let i = 0; i < n; i++) {
       const s = this.s;
       const base = s * nA;
-      const a = epsilonGreedy(this.q, base, nA, this.epsilonNow() * TWO32, rng);
+      const a = this.behaviourAction(s);
       env.step(s, a, envRng, out);
       const sp = out.next;
       const r = out.reward;

@@ -12,12 +12,10 @@
  */
 import type { TabularEnv } from "../src/model/learner-view.js";
 import {
-  TWO32,
   TabularAgent,
   TabularRateSession,
   drive,
   driveAsync,
-  epsilonGreedy,
   resolveTabular,
   type Agent,
   type TabularConfig,
@@ -44,16 +42,12 @@ export class SarsaSession extends TabularRateSession {
     this.agent = new TabularAgent(NAME, this.nA, env.actions, () => this.q, config);
   }
 
-  private choose(s: number): number {
-    return epsilonGreedy(this.q, s * this.nA, this.nA, this.epsilonNow() * TWO32, this.rng);
-  }
-
   advance(n: number, episodeLimit: number): number {
     const { env, nA, out, envRng, stats } = this;
     const gamma = this.config.gamma;
     for (let i = 0; i < n; i++) {
       const s = this.s;
-      const a = this.a >= 0 ? this.a : this.choose(s);
+      const a = this.a >= 0 ? this.a : this.behaviourAction(s);
       env.step(s, a, envRng, out);
       const sp = out.next;
       const r = out.reward;
@@ -61,7 +55,7 @@ export class SarsaSession extends TabularRateSession {
       let target = r;
       let ap = -1;
       if (!out.terminated) {
-        ap = this.choose(sp);
+        ap = this.behaviourAction(sp);
         target = r + gamma * this.q[sp * nA + ap];
       }
       const q = this.q;
