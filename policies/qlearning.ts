@@ -173,7 +173,6 @@ export class QLearningSession extends TabularRateSession {
   private advanceDeterministic4(view: LearnerView, n: number, episodeLimit: number): number {
     const { horizon, rng, stats } = this;
     const q = this.q;
-    const saStart = view.saStart;
     const next = view.next;
     const rew = view.reward;
     const term = view.terminal;
@@ -201,10 +200,10 @@ export class QLearningSession extends TabularRateSession {
         }
         if (q[base + 3] > m) a = 3;
       }
+      // One outcome per pair, so outcome index = pair index (saStart[k] === k): no saStart load.
       const sa = base + a;
-      const o = saStart[sa];
-      const sp = next[o];
-      const r = rew[o];
+      const sp = next[sa];
+      const r = rew[sa];
       const done = term[sp] === 1;
       let target = r;
       if (!done) {
