@@ -410,17 +410,16 @@ export function valueSweeps(model: FiniteModel, reward: Float64Array, opts: Solv
   const tol = opts.tol ?? DEFAULT_TOL;
   const maxIters = opts.maxIters ?? defaultMaxIters(gamma);
   const nS = model.nStates;
-  const nA = model.nActions;
-  // Each sweep kind is its own monomorphic function so the JIT compiles a tight loop; all compute
-  // exactly the same floating-point expression, r(s, a) + gamma * (sum_o p_o V(next_o)), in the same order.
-  const sweep = plan.liveNext ? (nA === 4 ? sweepDeterministic4 : sweepDeterministic) : sweepGeneral;
+  const tables = sweepTables(model, plan);
+  const sweep = rangeSweepFor(tables);
+  const n = plan.live.length;
   let V = new Float64Array(nS);
   let W = opts.inPlace ? V : new Float64Array(nS);
   let iters = 0;
   let converged = false;
   while (iters < maxIters) {
     // Terminal entries are never written, so they stay 0 in both buffers.
-    const delta = sweep(model, plan, gamma, V, W);
+    const delta = sweep(tables, gamma, V, W, 0, n);
     iters++;
     if (!opts.inPlace) {
       const t = V;
@@ -435,20 +434,66 @@ export function valueSweeps(model: FiniteModel, reward: Float64Array, opts: Solv
   return { values: V, iters, converged };
 }
 
-/** One Bellman-optimality sweep over the live states reading V, writing W (may be V itself); returns max |W - V|. */
-type Sweep = (model: FiniteModel, plan: SweepPlan, gamma: number, V: Float64Array, W: Float64Array) => number;
+/**
+ * The arrays one sweep reads: the `sweepPlan` tables plus the model's outcome arrays. Single-threaded
+ * sweeps pass the model's own arrays; the parallel solver (parallel.ts) passes copies in shared memory.
+ * `liveNext` / `liveReward` are set for deterministic models, else the outcome arrays are used.
+ */
+export interface SweepTables {
+  nActions: number;
+  live: Int32Array;
+  liveNext: Int32Array | null;
+  liveReward: Float64Array | null;
+  expected: Float64Array | null;
+  saStart: Int32Array | null;
+  next: Int32Array | null;
+  prob: Float64Array | null;
+}
 
-const sweepGeneral: Sweep = (model, plan, gamma, V, W) => {
-  const nA = model.nActions;
-  const { live, expected: r } = plan;
-  const n = live.length;
+export function sweepTables(model: FiniteModel, plan: SweepPlan): SweepTables {
+  return {
+    nActions: model.nActions,
+    live: plan.live,
+    liveNext: plan.liveNext,
+    liveReward: plan.liveReward,
+    expected: plan.expected,
+    saStart: model.saStart,
+    next: model.next,
+    prob: model.prob,
+  };
+}
+
+/**
+ * One Bellman-optimality sweep over live indices lo .. hi - 1, reading V and writing W (may be V
+ * itself); returns the largest |W - V|. Each kind is its own monomorphic function so the JIT compiles a
+ * tight loop; all compute exactly r(s, a) + gamma * (sum_o p_o V(next_o)) in the same order, so any
+ * split of the range (parallel.ts) gives bit-identical values.
+ */
+export type RangeSweep = (t: SweepTables, gamma: number, V: Float64Array, W: Float64Array, lo: number, hi: number) => number;
+
+function backupTables(t: SweepTables, gamma: number, V: Float64Array, k: number): number {
+  const saStart = t.saStart as Int32Array;
+  const next = t.next as Int32Array;
+  const prob = t.prob as Float64Array;
+  const r = t.expected as Float64Array;
+  const lo = saStart[k];
+  const hi = saStart[k + 1];
+  if (hi - lo === 1) return r[k] + gamma * V[next[lo]];
+  let ev = 0;
+  for (let o = lo; o < hi; o++) ev += prob[o] * V[next[o]];
+  return r[k] + gamma * ev;
+}
+
+export const sweepRangeGeneral: RangeSweep = (t, gamma, V, W, lo, hi) => {
+  const nA = t.nActions;
+  const live = t.live;
   let delta = 0;
-  for (let i = 0; i < n; i++) {
+  for (let i = lo; i < hi; i++) {
     const s = live[i];
     const k0 = s * nA;
-    let best = backup(model, r, gamma, V, k0);
+    let best = backupTables(t, gamma, V, k0);
     for (let a = 1; a < nA; a++) {
-      const q = backup(model, r, gamma, V, k0 + a);
+      const q = backupTables(t, gamma, V, k0 + a);
       if (q > best) best = q;
     }
     const d = Math.abs(best - V[s]);
@@ -458,14 +503,13 @@ const sweepGeneral: Sweep = (model, plan, gamma, V, W) => {
   return delta;
 };
 
-const sweepDeterministic: Sweep = (model, plan, gamma, V, W) => {
-  const nA = model.nActions;
-  const live = plan.live;
-  const next = plan.liveNext as Int32Array;
-  const r = plan.liveReward as Float64Array;
-  const n = live.length;
+export const sweepRangeDeterministic: RangeSweep = (t, gamma, V, W, lo, hi) => {
+  const nA = t.nActions;
+  const live = t.live;
+  const next = t.liveNext as Int32Array;
+  const r = t.liveReward as Float64Array;
   let delta = 0;
-  for (let i = 0; i < n; i++) {
+  for (let i = lo; i < hi; i++) {
     const s = live[i];
     const k0 = i * nA;
     let best = r[k0] + gamma * V[next[k0]];
@@ -481,13 +525,12 @@ const sweepDeterministic: Sweep = (model, plan, gamma, V, W) => {
 };
 
 /** Four actions (grid worlds), unrolled: about twice as fast as the loop under V8. */
-const sweepDeterministic4: Sweep = (_model, plan, gamma, V, W) => {
-  const live = plan.live;
-  const next = plan.liveNext as Int32Array;
-  const r = plan.liveReward as Float64Array;
-  const n = live.length;
+export const sweepRangeDeterministic4: RangeSweep = (t, gamma, V, W, lo, hi) => {
+  const live = t.live;
+  const next = t.liveNext as Int32Array;
+  const r = t.liveReward as Float64Array;
   let delta = 0;
-  for (let i = 0; i < n; i++) {
+  for (let i = lo; i < hi; i++) {
     const s = live[i];
     const k = i << 2;
     let best = r[k] + gamma * V[next[k]];
@@ -503,6 +546,11 @@ const sweepDeterministic4: Sweep = (_model, plan, gamma, V, W) => {
   }
   return delta;
 };
+
+/** The sweep kind for a set of tables. */
+export function rangeSweepFor(t: SweepTables): RangeSweep {
+  return t.liveNext ? (t.nActions === 4 ? sweepRangeDeterministic4 : sweepRangeDeterministic) : sweepRangeGeneral;
+}
 
 /** Value iteration (Sutton & Barto 2018, section 4.4), synchronous sweeps by default. */
 export function valueIteration(model: FiniteModel, reward: Float64Array, opts: SolveOptions = {}): Solution {

@@ -21,24 +21,15 @@ import { fileURLToPath, pathToFileURL } from "node:url";
 import { Worker } from "node:worker_threads";
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
-import { actionValues, DEFAULT_TOL, defaultMaxIters, greedyActions, sweepPlan, type Evaluation, type Solution, type SolveOptions, type SweepPlan } from "./dp.js";
+import { actionValues, DEFAULT_TOL, defaultMaxIters, greedyActions, rangeSweepFor, sweepPlan, type Evaluation, type Solution, type SolveOptions, type SweepPlan, type SweepTables } from "./dp.js";
 
 export interface ParallelOptions extends SolveOptions {
   /** Threads taking part in each sweep, the calling one included. Default 2. */
   threads?: number;
 }
 
-/** The arrays a sweep reads, in shared memory. `liveNext` / `liveReward` for deterministic models, else the outcome arrays. */
-export interface SharedTables {
-  nActions: number;
-  live: Int32Array;
-  liveNext: Int32Array | null;
-  liveReward: Float64Array | null;
-  expected: Float64Array | null;
-  saStart: Int32Array | null;
-  next: Int32Array | null;
-  prob: Float64Array | null;
-}
+/** The arrays a sweep reads, in shared memory (see `SweepTables` in dp.ts). */
+export type SharedTables = SweepTables;
 
 /** Everything a worker needs (structured-cloned; the SharedArrayBuffers inside are shared, not copied). */
 export interface SweepJob {
@@ -98,94 +89,12 @@ export function abortSweeps(ctrl: Int32Array): void {
 }
 
 /**
- * One Bellman-optimality sweep over live indices lo .. hi - 1, reading V and writing W; returns the
- * largest |W - V|. Each kernel computes exactly the expression of its counterpart in dp.ts
- * (`sweepDeterministic4`, `sweepDeterministic`, `sweepGeneral` with `backup`), in the same order.
- */
-type RangeSweep = (t: SharedTables, gamma: number, V: Float64Array, W: Float64Array, lo: number, hi: number) => number;
-
-const rangeDeterministic4: RangeSweep = (t, gamma, V, W, lo, hi) => {
-  const live = t.live;
-  const next = t.liveNext as Int32Array;
-  const r = t.liveReward as Float64Array;
-  let delta = 0;
-  for (let i = lo; i < hi; i++) {
-    const s = live[i];
-    const k = i << 2;
-    let best = r[k] + gamma * V[next[k]];
-    const q1 = r[k + 1] + gamma * V[next[k + 1]];
-    const q2 = r[k + 2] + gamma * V[next[k + 2]];
-    const q3 = r[k + 3] + gamma * V[next[k + 3]];
-    if (q1 > best) best = q1;
-    if (q2 > best) best = q2;
-    if (q3 > best) best = q3;
-    const d = Math.abs(best - V[s]);
-    if (d > delta) delta = d;
-    W[s] = best;
-  }
-  return delta;
-};
-
-const rangeDeterministic: RangeSweep = (t, gamma, V, W, lo, hi) => {
-  const nA = t.nActions;
-  const live = t.live;
-  const next = t.liveNext as Int32Array;
-  const r = t.liveReward as Float64Array;
-  let delta = 0;
-  for (let i = lo; i < hi; i++) {
-    const s = live[i];
-    const k0 = i * nA;
-    let best = r[k0] + gamma * V[next[k0]];
-    for (let a = 1; a < nA; a++) {
-      const q = r[k0 + a] + gamma * V[next[k0 + a]];
-      if (q > best) best = q;
-    }
-    const d = Math.abs(best - V[s]);
-    if (d > delta) delta = d;
-    W[s] = best;
-  }
-  return delta;
-};
-
-function backupShared(t: SharedTables, gamma: number, V: Float64Array, k: number): number {
-  const saStart = t.saStart as Int32Array;
-  const next = t.next as Int32Array;
-  const prob = t.prob as Float64Array;
-  const r = t.expected as Float64Array;
-  const lo = saStart[k];
-  const hi = saStart[k + 1];
-  if (hi - lo === 1) return r[k] + gamma * V[next[lo]];
-  let ev = 0;
-  for (let o = lo; o < hi; o++) ev += prob[o] * V[next[o]];
-  return r[k] + gamma * ev;
-}
-
-const rangeGeneral: RangeSweep = (t, gamma, V, W, lo, hi) => {
-  const nA = t.nActions;
-  const live = t.live;
-  let delta = 0;
-  for (let i = lo; i < hi; i++) {
-    const s = live[i];
-    const k0 = s * nA;
-    let best = backupShared(t, gamma, V, k0);
-    for (let a = 1; a < nA; a++) {
-      const q = backupShared(t, gamma, V, k0 + a);
-      if (q > best) best = q;
-    }
-    const d = Math.abs(best - V[s]);
-    if (d > delta) delta = d;
-    W[s] = best;
-  }
-  return delta;
-};
-
-/**
  * The sweep loop of one thread (the calling thread and every worker run it). All threads take the
  * same stop decision from the same deltas, so they leave after the same sweep. Returns the sweep count.
  */
 export function sweepLoop(job: SweepJob): { iters: number; converged: boolean } {
   const { tables, gamma, tol, maxIters, threads, index, bounds, ctrl, deltas, V0, V1 } = job;
-  const sweep = tables.liveNext ? (tables.nActions === 4 ? rangeDeterministic4 : rangeDeterministic) : rangeGeneral;
+  const sweep = rangeSweepFor(tables);
   const lo = bounds[index];
   const hi = bounds[index + 1];
   // Start gate: the timed region of a caller begins when every thread is ready.
