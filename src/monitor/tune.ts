@@ -15,6 +15,9 @@ import { join } from "node:path";
 import { builtinScenarioNames, loadScenario } from "../model/registry.js";
 import { runTraining } from "../train/run.js";
 
+/** A hand-run script prints its table on stdout. */
+const say = (line: string): void => void process.stdout.write(line + "\n");
+
 const [from = "1", to = "10", learnerList = "q-learning,sarsa,expected-sarsa,double-q"] = process.argv.slice(2);
 const learners = learnerList.split(",");
 const dir = mkdtempSync(join(tmpdir(), "gapwatch-tune-"));
@@ -42,11 +45,11 @@ for (const env of builtinScenarioNames()) {
         finals += ` ${f.designerNorm.toFixed(2)}|${f.intentNorm.toFixed(2)}`;
       }
       const k = [...kinds].map(([a, b]) => `${a}x${b}`).join(",");
-      console.log(
+      say(
         `${env} ${reward} ${learner}: verdict D${counts.decoupled} A${counts.aligned} I${counts.inconclusive} truth D${truth.dec} A${truth.ali} ?${truth.other} alerts[${k}] miss[${misses.join(" ")}]\n   finals(d|i):${finals}`,
       );
     }
   }
 }
-console.log(`total ${(Date.now() - t0) / 1000}s`);
+say(`total ${(Date.now() - t0) / 1000}s`);
 rmSync(dir, { recursive: true, force: true });

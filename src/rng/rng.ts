@@ -1,6 +1,6 @@
 /**
  * Seeded random sources. Every consumer gets an `Rng` passed explicitly; nothing in `src/` or
- * `policies/` uses `Math.random`. `fork(label)` derives an independent stream for a named consumer
+ * `policies/` uses the process-global generator. `fork(label)` derives an independent stream for a named consumer
  * (exploration, environment, evaluation, bootstrap), so adding draws in one place never shifts another.
  */
 import seedrandom from "seedrandom";
