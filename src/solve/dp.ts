@@ -209,27 +209,35 @@ function scatter(chain: PolicyChain, x: Float64Array): Float64Array {
   return V;
 }
 
-/** Textbook sweeps over the chain (row space); see `evaluatePolicy`. */
-function chainSweeps(chain: PolicyChain, r: Float64Array, gamma: number, tol: number, maxIters: number, inPlace: boolean): Evaluation {
-  const n = r.length;
-  let x = new Float64Array(n);
-  let y = inPlace ? x : new Float64Array(n);
+/**
+ * The iteration every sweep-based solver shares: from V = 0, call `sweep(V, W)` (it writes W and returns
+ * max |W - V|; W is V itself when `inPlace`), swap the buffers, and stop after the first sweep whose
+ * change is below `tol` (that sweep counts) or after `maxIters` sweeps.
+ */
+export function iterateSweeps(n: number, tol: number, maxIters: number, inPlace: boolean, sweep: (V: Float64Array, W: Float64Array) => number): Evaluation {
+  let V = new Float64Array(n);
+  let W = inPlace ? V : new Float64Array(n);
   let iters = 0;
   let converged = false;
   while (iters < maxIters) {
-    const delta = bellmanSweep(chain, r, gamma, x, y);
+    const delta = sweep(V, W);
     iters++;
     if (!inPlace) {
-      const t = x;
-      x = y;
-      y = t;
+      const t = V;
+      V = W;
+      W = t;
     }
     if (delta < tol) {
       converged = true;
       break;
     }
   }
-  return { values: x, iters, converged };
+  return { values: V, iters, converged };
+}
+
+/** Textbook sweeps over the chain (row space); see `evaluatePolicy`. */
+function chainSweeps(chain: PolicyChain, r: Float64Array, gamma: number, tol: number, maxIters: number, inPlace: boolean): Evaluation {
+  return iterateSweeps(r.length, tol, maxIters, inPlace, (x, y) => bellmanSweep(chain, r, gamma, x, y));
 }
 
 /** y = r + gamma P x (y may be x: Gauss-Seidel); returns max |y - x| (per row, before the write). */
@@ -409,29 +417,11 @@ export function valueSweeps(model: FiniteModel, reward: Float64Array, opts: Solv
   const gamma = opts.gamma ?? model.gamma;
   const tol = opts.tol ?? DEFAULT_TOL;
   const maxIters = opts.maxIters ?? defaultMaxIters(gamma);
-  const nS = model.nStates;
   const tables = sweepTables(model, plan);
   const sweep = rangeSweepFor(tables);
   const n = plan.live.length;
-  let V = new Float64Array(nS);
-  let W = opts.inPlace ? V : new Float64Array(nS);
-  let iters = 0;
-  let converged = false;
-  while (iters < maxIters) {
-    // Terminal entries are never written, so they stay 0 in both buffers.
-    const delta = sweep(tables, gamma, V, W, 0, n);
-    iters++;
-    if (!opts.inPlace) {
-      const t = V;
-      V = W;
-      W = t;
-    }
-    if (delta < tol) {
-      converged = true;
-      break;
-    }
-  }
-  return { values: V, iters, converged };
+  // Terminal entries are never written, so they stay 0 in both buffers.
+  return iterateSweeps(model.nStates, tol, maxIters, opts.inPlace === true, (V, W) => sweep(tables, gamma, V, W, 0, n));
 }
 
 /**

@@ -24,7 +24,7 @@
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import { expectedPerStateAction } from "../model/reward.js";
-import { evaluatePolicy, startValue, uniformPolicy, type Policy, type SolveOptions } from "./dp.js";
+import { evaluatePolicy, iterateSweeps, startValue, uniformPolicy, type Policy, type SolveOptions } from "./dp.js";
 
 export interface SoftOptions extends SolveOptions {
   /** Inverse temperature, >= 0 (Infinity allowed). */
@@ -91,12 +91,8 @@ export function softValueIteration(model: FiniteModel, reward: Float64Array, opt
   if (opts.reference) checkPolicy(model, ref, "reference policy");
   const r = expectedPerStateAction(model, reward);
   const { saStart, next, prob, terminal } = model;
-  let V = new Float64Array(nS);
-  let W = new Float64Array(nS);
   const row = new Float64Array(nA);
-  let iters = 0;
-  let converged = false;
-  while (iters < maxIters) {
+  const { values: V, iters, converged } = iterateSweeps(nS, tol, maxIters, false, (V, W) => {
     let delta = 0;
     for (let s = 0; s < nS; s++) {
       if (terminal[s]) {
@@ -115,15 +111,8 @@ export function softValueIteration(model: FiniteModel, reward: Float64Array, opt
       if (d > delta) delta = d;
       W[s] = v;
     }
-    iters++;
-    const t = V;
-    V = W;
-    W = t;
-    if (delta < tol) {
-      converged = true;
-      break;
-    }
-  }
+    return delta;
+  });
   // Final Q and policy from the converged values.
   const q = new Float64Array(nS * nA);
   const policy = new Float64Array(nS * nA);
