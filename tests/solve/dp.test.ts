@@ -284,19 +284,36 @@ describe("Sutton & Barto 2018, Example 6.5 (windy gridworld)", () => {
 });
 
 describe("valueSweeps is the sweep part of valueIteration", () => {
-  it("same values and sweep count, with a plan built beforehand, synchronous and in place", () => {
-    // Sutton & Barto 2018, Example 4.1 (v* = -distance) and Example 4.3 (stochastic: general path)
-    for (const { model, reward } of [example41(), gamblerModel(0.4)]) {
-      for (const inPlace of [false, true]) {
-        const a = valueSweeps(model, reward, { inPlace }, sweepPlan(model, reward));
-        const b = valueIteration(model, reward, { inPlace });
-        expect(a.iters).toBe(b.iters);
-        expect(Array.from(a.values)).toEqual(Array.from(b.values));
-      }
+  it("with a plan built beforehand (and reused), synchronous and in place, it reaches the textbook v*", () => {
+    // valueIteration itself calls valueSweeps, so comparing the two could not fail; the reference is
+    // the book instead. Sutton & Barto 2018, Example 4.1: v* = -(steps to the nearest terminal corner).
+    const ex = example41();
+    const vstar41 = [0, -1, -2, -3, -1, -2, -3, -2, -2, -3, -2, -1, -3, -2, -1, 0];
+    const plan41 = sweepPlan(ex.model, ex.reward);
+    // Example 4.3 (stochastic, so the general sweep path): REFERENCE_VALUES.md 1.4 table, within 1e-9.
+    const gm = gamblerModel(0.4);
+    const planG = sweepPlan(gm.model, gm.reward);
+    const gamblerTable: [number, number][] = [
+      [1, 0.0020656248],
+      [13, 0.0652393749],
+      [25, 0.16],
+      [50, 0.4],
+      [62, 0.4864887913],
+      [75, 0.64],
+      [99, 0.9643329672],
+    ];
+    for (const inPlace of [false, true]) {
+      // The same plan object serves both modes: a sweep must not alter it.
+      const a = valueSweeps(ex.model, ex.reward, { inPlace }, plan41);
+      expect(a.converged).toBe(true);
+      expect(Array.from(a.values)).toEqual(vstar41);
+      const g = valueSweeps(gm.model, gm.reward, { inPlace, tol: 1e-14 }, planG);
+      expect(g.converged).toBe(true);
+      for (const [s, v] of gamblerTable) expect(Math.abs(g.values[s] - v)).toBeLessThan(1e-9);
     }
-    const plan = sweepPlan(example41().model, example41().reward);
-    expect(Array.from(plan.live)).toEqual([1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14]);
-    expect(plan.liveNext).not.toBeNull();
-    expect(sweepPlan(gamblerModel(0.4).model, gamblerModel(0.4).reward).liveNext).toBeNull();
+    // Example 4.1: the live (non-terminal) states are 1..14; the model is deterministic, the gambler's is not.
+    expect(Array.from(plan41.live)).toEqual([1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14]);
+    expect(plan41.liveNext).not.toBeNull();
+    expect(planG.liveNext).toBeNull();
   });
 });
