@@ -72,6 +72,8 @@ describe.each(Object.entries(SCENARIOS))("scenario %s", (name, trap) => {
     expect(m.nStates).toBeLessThanOrEqual(150);
   });
 
+  // 30% and 2%: the thresholds set in the foundation issue (`issues show 2`, deliverable 4); the 0.5 and
+  // 0.005 lines are this suite's own extra margin over them.
   it("gaming variants give up at least 30% of the intent range; sound ones at most 2%", () => {
     for (const v of meta.gaming) {
       const r = solveVariant(m, m.variants![v]);
@@ -129,6 +131,8 @@ describe("each trap works the way its story says", () => {
     expect(fall).toBeCloseTo(1 - (0.88 / 0.94) ** 4, 9);
     const sound = solveVariant(m, m.variants!.default);
     expect(expectedCount(m, sound.designerOptimal.policy, "hazard")).toBe(0);
+    // Counted by hand on envs/ridge-survey/map.txt: camp (5,1) up 4 to (1,1), right 9 along the crest
+    // to (1,10), down 4 to the beacon (5,10) = 17 moves (the ledge route is 9, "eight moves longer").
     expect(expectedCount(m, sound.designerOptimal.policy, "step")).toBe(17);
   });
 });

@@ -69,6 +69,8 @@ describe("EWMA chart", () => {
   });
 
   it("documents its defaults and rejects bad parameters", () => {
+    // lambda = 0.2 with L = 3 sigma limits: common practice for EWMA charts (a usual textbook pairing,
+    // e.g. Montgomery's SPC text, from memory, unconfirmed); not a NIST value (NIST's example uses 0.3).
     expect(EWMA_DEFAULTS).toEqual({ lambda: 0.2, L: 3, limits: "steady" });
     expect(() => new Ewma({ target: 0, sigma: 0 })).toThrow(InputError);
     expect(() => new Ewma({ target: 0, sigma: 1, lambda: 1.5 })).toThrow(InputError);

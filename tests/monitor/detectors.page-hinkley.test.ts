@@ -57,6 +57,9 @@ describe("Page-Hinkley", () => {
   });
 
   it("minInstances delays the alarm; reset restarts the statistics after a detection", () => {
+    // From the section 4 table: PH_T > lambda = 1 for every T >= 12 (1.54 at 12, rising to 5.69 at 20), so
+    // with minInstances 15 the first alarm is T = 15, index 14; with minInstances 30 the 20-point series
+    // never reaches the minimum, so no alarm (hand-derived).
     expect(pageHinkleyBatch(STEP, { ...EXAMPLE, minInstances: 15 }).firstAlarm).toBe(14);
     expect(pageHinkleyBatch(STEP, { ...EXAMPLE, minInstances: 30 }).alarms).toEqual([]);
     // With reset: after the alarm at index 11 the detector restarts on a constant run of 1s

@@ -82,6 +82,9 @@ describe("stratified bootstrap (rliable StratifiedBootstrap: resample runs withi
   });
 
   it("documents its defaults", () => {
+    // rliable library.py via REFERENCE_VALUES.md section 7: method 'percentile', confidence_interval_size
+    // 0.95, task_bootstrap False, reps 2000 (create_performance_profile's default; get_interval_estimates
+    // uses 50000, which this project does not adopt).
     expect(BOOTSTRAP_DEFAULTS).toEqual({ reps: 2000, confidence: 0.95, method: "percentile", taskBootstrap: false });
   });
 

@@ -83,7 +83,9 @@ describe("rliable aggregates over runs x tasks", () => {
 
   it("optimality gap = gamma - mean(min(x, gamma)) (rliable definition, hand-computed)", () => {
     expect(optimalityGap([0.5, 1.2, 0.8, 2.0])).toBeCloseTo(1 - (0.5 + 1 + 0.8 + 1) / 4, 12);
+    // 5 - (3 + 4) / 2 = 1.5
     expect(optimalityGap([3, 4], 5)).toBeCloseTo(1.5, 12);
+    // per-task run means [0.65, 1.6] -> min(., 1) = [0.65, 1] -> 1 - 0.825 = 0.175
     expect(aggregateOptimalityGap(scoreMatrix([[0.5, 1.2], [0.8, 2.0]]))).toBeCloseTo(0.175, 12);
   });
 
