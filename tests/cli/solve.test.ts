@@ -60,9 +60,13 @@ describe("gapwatch solve", () => {
   it("solves a hand-written model file of Sutton & Barto's 4x4 gridworld", async () => {
     // Sutton & Barto 2018, Example 4.1: v*(s) = -(steps to the nearest terminal corner) under reward -1, gamma 1.
     const doc = JSON.parse((await cli("solve", "--env", "tests/fixtures/models/sb-4x4.json", "--json")).out);
+    // The fixture's states are "T" (both terminal corners) then the book's states 1..14 in row-major order.
     const vstar = doc.designerOptimal.values as number[];
-    expect(vstar.length).toBeGreaterThanOrEqual(15);
-    expect(Math.min(...vstar)).toBeCloseTo(-3, 9);
+    const expected = [0, -1, -2, -3, -1, -2, -3, -2, -2, -3, -2, -1, -3, -2, -1];
+    expect(vstar).toHaveLength(15);
+    expected.forEach((v, s) => expect(vstar[s]).toBeCloseTo(v, 9));
+    // Start uniform over the 14 non-terminal states: mean of the 14 distances = 28 / 14 = 2.
+    expect(doc.designerOptimal.designer).toBeCloseTo(-2, 9);
   });
 });
 
