@@ -91,6 +91,7 @@ describe("gapwatch pressure", () => {
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
     expect(Object.keys(doc).sort()).toEqual(["onset", "peak", "points"]);
+    // 25 = beta 0 plus the 24 log-spaced default strengths (this project's default, src/pressure/curve.ts).
     expect(doc.points.length).toBe(25);
     expect(Object.keys(doc.points[0]).sort()).toEqual(["designer", "intent", "kl", "strength"]);
     expect(typeof doc.onset).toBe("number");
