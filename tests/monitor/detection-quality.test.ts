@@ -3,6 +3,10 @@
  * greedy policy. Detector defaults were tuned on seeds 1-10 (src/monitor/tune.ts); this test asserts
  * on seeds 11-30 only. The truth is computed here independently of the monitor: full-model policy
  * evaluation (src/solve/dp.ts) of the final greedy policy saved in policy.json.
+ * The truth thresholds and the pass mark are the project's acceptance rule (issue "Learners, checkpoint
+ * monitor and decoupling alerts", Evidence required): "decoupled" whenever the final greedy policy loses
+ * >= 30% of the achievable intent while its designer return is within 10% of optimal, "aligned"
+ * whenever it loses <= 5%, in at least 19 of 20 seeds.
  */
 import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
