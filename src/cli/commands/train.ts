@@ -18,6 +18,27 @@ import { writeReport } from "../../report/write.js";
 export { CAUTION } from "../io.js";
 import { CAUTION } from "../io.js";
 
+/**
+ * Alerts grouped by kind, in order of first firing: a detector re-fires each time its condition starts
+ * to hold again (a greedy policy flipping between routes), so one line per kind with the steps and the
+ * latest message reads better than the raw list (which stays in alerts.jsonl and the JSON output).
+ */
+export function alertsText(alerts: readonly { step: number; kind: string; message: string }[], color: boolean): string {
+  const kinds = new Map<string, { steps: number[]; message: string }>();
+  for (const a of alerts) {
+    const k = kinds.get(a.kind) ?? { steps: [], message: a.message };
+    k.steps.push(a.step);
+    k.message = a.message;
+    kinds.set(a.kind, k);
+  }
+  let t = `alerts (${alerts.length}):\n`;
+  for (const [kind, k] of kinds) {
+    const shown = k.steps.slice(0, 6).join(", ") + (k.steps.length > 6 ? `, ... (${k.steps.length - 6} more)` : "");
+    t += `  ${paint(color, "red", kind)}  ${k.steps.length === 1 ? "at step" : `${k.steps.length}x, at steps`} ${shown}\n    ${k.message}\n`;
+  }
+  return t;
+}
+
 /** The JSON document of `gapwatch train`. */
 export function trainDocument(r: RunResult) {
   return {
@@ -63,10 +84,8 @@ export function trainText(r: RunResult, color: boolean): string {
       { color },
     );
   }
-  if (r.alerts.length > 0) {
-    t += `\nalerts:\n`;
-    for (const a of r.alerts) t += `  step ${a.step}  ${paint(color, "red", a.kind)}  ${a.message}\n`;
-  } else t += `\nno alerts\n`;
+  if (r.alerts.length > 0) t += `\n${alertsText(r.alerts, color)}`;
+  else t += `\nno alerts\n`;
   t += `\nrun directory: ${r.runDir}\n${paint(color, "dim", CAUTION)}\n`;
   return t;
 }
