@@ -20,7 +20,7 @@ import { getLearner } from "../train/learners.js";
 import { aggregateComparison, comparisonCsv, type ComparisonStats, type RunRecord } from "./aggregate.js";
 import { failureOf, writeShippedRun } from "./execute.js";
 import { planSweep, sha256, type SweepSpec } from "./plan.js";
-import { defaultWorkers, PoolError, WorkerPool } from "./pool.js";
+import { defaultWorkers, PoolError, WorkerPool, type PoolRunOptions } from "./pool.js";
 import { parseQueueUrl, runOnQueue } from "./queue.js";
 import type { BatchJob, BatchProgress, RunOutcome } from "./types.js";
 
@@ -35,6 +35,12 @@ export interface CompareConfig extends SweepSpec {
   /** Queue attempts per job and backoff (Redis only). */
   attempts?: number;
   backoffMs?: number;
+  /**
+   * Wall-clock limit of one run in milliseconds (default: none). A run past it is stopped (its thread
+   * terminated; on Redis the worker's thread, and the job is not retried) and reported failed with
+   * code "batch.timeout"; the other runs go on.
+   */
+  runTimeoutMs?: number;
 }
 
 export interface CompareHooks {
@@ -86,14 +92,14 @@ export function recordOf(o: RunOutcome): RunRecord {
 }
 
 /** Run every job on a local thread pool; each completed run is indexed as it arrives. */
-export async function runLocalBatch(jobs: BatchJob[], runsDir: string, workers: number, onOutcome: (o: RunOutcome) => void): Promise<RunOutcome[]> {
+export async function runLocalBatch(jobs: BatchJob[], runsDir: string, workers: number, onOutcome: (o: RunOutcome) => void, opts: PoolRunOptions = {}): Promise<RunOutcome[]> {
   const pool = new WorkerPool(Math.max(1, Math.min(workers, jobs.length)));
   try {
     return await Promise.all(
       jobs.map(async (job): Promise<RunOutcome> => {
         let o: RunOutcome;
         try {
-          const result = await pool.runLocal(job, runsDir);
+          const result = await pool.runLocal(job, runsDir, opts);
           o = { jobId: job.jobId, cell: job.cell, ok: true, result };
         } catch (err) {
           o = { jobId: job.jobId, cell: job.cell, ok: false, error: err instanceof PoolError ? err.failure : failureOf(err) };
@@ -110,6 +116,9 @@ export async function runLocalBatch(jobs: BatchJob[], runsDir: string, workers: 
 export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): Promise<CompareResult> {
   for (const l of cfg.learners) getLearner(l);
   if (cfg.rewards.length === 0) throw new InputError("compare.rewards", "--rewards needs at least one variant", "--rewards");
+  if (cfg.runTimeoutMs !== undefined && !(cfg.runTimeoutMs > 0 && cfg.runTimeoutMs <= 2_147_483_647)) {
+    throw new InputError("compare.runTimeout", `the run timeout must be a positive number of seconds up to about 24 days, got ${cfg.runTimeoutMs / 1000}`, "--run-timeout");
+  }
   const runsDir = resolve(cfg.runsDir);
   const target = cfg.queue ? parseQueueUrl(cfg.queue) : undefined;
   const jobs = planSweep(cfg, { ship: Boolean(target) });
@@ -125,8 +134,8 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   let outcomes: RunOutcome[];
   try {
     outcomes = target
-      ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, onOutcome, store: (s) => writeShippedRun(runsDir, s) })
-      : await runLocalBatch(jobs, runsDir, cfg.workers ?? defaultWorkers(), onOutcome);
+      ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, runTimeoutMs: cfg.runTimeoutMs, onOutcome, store: (s) => writeShippedRun(runsDir, s) })
+      : await runLocalBatch(jobs, runsDir, cfg.workers ?? defaultWorkers(), onOutcome, { timeoutMs: cfg.runTimeoutMs });
     const records = outcomes.map(recordOf);
     const stats = aggregateComparison(records, {
       env: cfg.env,

@@ -18,6 +18,11 @@
  *
  * Worker (`startQueueWorker`): a BullMQ Worker with `concurrency` C, each job trained in a thread of
  * a local WorkerPool of size C, so the event loop stays free to renew locks while training runs.
+ *
+ * Run timeout: `runTimeoutMs` travels in the job data (not in the job id, which names the run only).
+ * A worker stops a job past it (its pool thread is terminated) and fails it with code
+ * "batch.timeout" as an UnrecoverableError: a run that hung once would hang again, so it is not
+ * retried, and the coordinator reports it like any failed run.
  */
 import { Job, Queue, QueueEvents, UnrecoverableError, Worker, type ConnectionOptions } from "bullmq";
 import { InputError } from "../errors.js";
@@ -62,11 +67,15 @@ export function parseQueueUrl(url: string): QueueTarget {
 export interface JobData {
   format: "gapwatch-job/1";
   job: BatchJob;
+  /** Wall-clock limit of the run in ms (absent: none). */
+  runTimeoutMs?: number;
 }
 
 export interface SubmitOptions {
   attempts?: number;
   backoffMs?: number;
+  /** Wall-clock limit of one run in ms, enforced by the worker (default: none). */
+  runTimeoutMs?: number;
   /** Called when each job ends. */
   onOutcome?: (o: RunOutcome) => void;
   /** Writes and indexes a completed run (the coordinator's run store). */
@@ -102,7 +111,7 @@ export async function runOnQueue(target: QueueTarget, jobs: BatchJob[], opts: Su
     const added = await queue.addBulk(
       jobs.map((job) => ({
         name: "run",
-        data: { format: "gapwatch-job/1" as const, job },
+        data: { format: "gapwatch-job/1" as const, job, ...(opts.runTimeoutMs !== undefined ? { runTimeoutMs: opts.runTimeoutMs } : {}) },
         opts: { jobId: job.jobId, attempts, backoff: { type: "exponential", delay: backoffMs }, removeOnComplete: false, removeOnFail: false },
       })),
     );
@@ -162,10 +171,10 @@ export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions 
     async (job) => {
       opts.onEvent?.("active", job.id as string, `${job.data.job.cell.reward} ${job.data.job.cell.learner} seed ${job.data.job.cell.seed} (attempt ${job.attemptsMade + 1})`);
       try {
-        return await pool.runRemote(job.data.job);
+        return await pool.runRemote(job.data.job, { timeoutMs: job.data.runTimeoutMs });
       } catch (err) {
         const f = err instanceof PoolError ? err.failure : failureOf(err);
-        if (f.exitCode === 2) throw new UnrecoverableError(JSON.stringify(f));
+        if (f.exitCode === 2 || f.code === "batch.timeout") throw new UnrecoverableError(JSON.stringify(f));
         throw new Error(JSON.stringify(f));
       }
     },

@@ -68,4 +68,20 @@ describe("local thread pool", () => {
     expect(failed.error.exitCode).toBe(2);
     expect(runFingerprints(runsDir).size).toBe(2);
   });
+
+  it("a run whose module step never returns is stopped by the run timeout ('batch.timeout', one line naming env, reward, seed, limit); the thread is replaced and the other runs complete", async () => {
+    const runsDir = fresh("hang");
+    const good = planSweep({ env: "greenhouse-rounds", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2], steps: 1000 });
+    const hang = planSweep({ env: "tests/fixtures/batch/hang-step.ts", rewards: ["default"], learners: ["q-learning"], seeds: [7], steps: 1000 });
+    // One thread, the hanging job first: the good runs can only complete on the thread that replaces the stopped one.
+    const outcomes = await runLocalBatch([...hang, ...good], runsDir, 1, () => undefined, { timeoutMs: 1500 });
+    expect(outcomes.map((o) => o.ok)).toEqual([false, true, true]);
+    const failed = outcomes[0];
+    if (failed.ok) throw new Error("unreachable");
+    expect(failed.error.code).toBe("batch.timeout");
+    expect(failed.error.message.split("\n")).toHaveLength(1);
+    expect(failed.error.message).toContain("tests/fixtures/batch/hang-step.ts");
+    expect(failed.error.message).toMatch(/reward default q-learning seed 7 exceeded the run timeout of 1\.5 s/);
+    expect(runFingerprints(runsDir).size).toBe(2);
+  });
 });

@@ -57,6 +57,22 @@ describe("gapwatch compare / runs", () => {
     expect(text.out).toMatch(/3 run\(s\)/);
   });
 
+  it("--run-timeout stops a run whose module step never returns and reports it as batch.timeout; a bad value exits 2 with one line", async () => {
+    const runsDir = tempDir("cli-timeout");
+    const r = await cli("compare", "--env", "tests/fixtures/batch/hang-step.ts", "--rewards", "default", "--seed-list", "3", "--steps", "300", "--workers", "1", "--run-timeout", "1", "--runs-dir", runsDir, "--json");
+    // The only run failed, so the command exits 2 naming the first failure.
+    expect(r.code).toBe(2);
+    expect(r.err.trim().split("\n")).toHaveLength(1);
+    expect(r.err).toMatch(/batch\.timeout/);
+    expect(r.err).toMatch(/hang-step\.ts reward default q-learning seed 3 exceeded the run timeout of 1 s/);
+    for (const bad of ["0", "-2", "soon"]) {
+      const b = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "fast", "--run-timeout", bad, "--runs-dir", runsDir);
+      expect(b.code).toBe(2);
+      expect(b.err.trim().split("\n")).toHaveLength(1);
+      expect(b.err).toMatch(/--run-timeout needs a positive number of seconds/);
+    }
+  });
+
   it("a broken reward file fails its runs (reported) while the other variant completes; bad flags exit 2 with one line", async () => {
     const runsDir = tempDir("cli-bad");
     const r = await cli("compare", "--env", "tests/fixtures/batch/corridor.json", "--rewards", "default,tests/fixtures/batch/bad-reward.json", "--seeds", "2", "--steps", "300", "--workers", "1", "--runs-dir", runsDir, "--bootstrap-reps", "100", "--json");

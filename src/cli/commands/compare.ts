@@ -26,6 +26,7 @@ interface CompareCliOptions {
   workers?: string;
   queue?: string;
   attempts?: string;
+  runTimeout?: string;
   bootstrapSeed?: string;
   bootstrapReps?: string;
   runsDir?: string;
@@ -65,6 +66,15 @@ export function compareText(r: CompareResult, color: boolean): string {
   return t;
 }
 
+/** `--run-timeout <seconds>` -> milliseconds (a positive number, fractions allowed, at most 2,000,000 s). */
+export function runTimeoutMs(text: string): number {
+  const s = Number(text);
+  if (!/^\s*[0-9.eE+]+\s*$/.test(text) || !Number.isFinite(s) || s <= 0 || s > 2_000_000) {
+    throw new InputError("cli.runTimeout", `--run-timeout needs a positive number of seconds (at most 2000000), got "${text}"`, "--run-timeout");
+  }
+  return Math.round(s * 1000) || 1;
+}
+
 export function registerCompare(program: Command, ctx: CliContext): void {
   program
     .command("compare")
@@ -78,6 +88,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .option("--workers <w>", `local worker threads (default: cores, here ${defaultWorkers()})`)
     .option("--queue <url>", "run on `gapwatch worker` processes through Redis, e.g. redis://127.0.0.1:6379/0")
     .option("--attempts <n>", "attempts per job on the queue before it is reported failed (default 3)")
+    .option("--run-timeout <seconds>", "stop a run that takes longer than this and report it failed (batch.timeout); default: no limit")
     .option("--bootstrap-seed <s>", "seed of the bootstrap resampling (default 0)")
     .option("--bootstrap-reps <n>", "bootstrap replicates (default 2000)")
     .option("--runs-dir <dir>", "where run directories go (default ./runs)")
@@ -102,6 +113,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
             workers: intOption(opts.workers, "--workers", { def: defaultWorkers() }),
             queue: opts.queue,
             attempts: opts.attempts === undefined ? undefined : intOption(opts.attempts, "--attempts"),
+            runTimeoutMs: opts.runTimeout === undefined ? undefined : runTimeoutMs(opts.runTimeout),
             bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
             reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: 2000 }),
           },
