@@ -11,6 +11,7 @@ import type { RunResult } from "../../store/types.js";
 import { runTraining } from "../../train/run.js";
 import { action, type CliContext } from "../context.js";
 import { emit, paint, table, useColor } from "../io.js";
+import { writeReport } from "../../report/write.js";
 import { CAUTION, sparklines, verdictColor } from "./train.js";
 
 export interface DemoRow {
@@ -88,9 +89,10 @@ export function registerDemo(program: Command, ctx: CliContext): void {
     .description("train Q-learning on every built-in scenario with its gaming and sound rewards; show which decoupled and where")
     .option("--seed <s>", "seed (default 1)")
     .option("--runs-dir <dir>", "where run directories go (default ./runs)")
+    .option("--report", "also write an HTML report into each run directory (report.html)")
     .option("--json", "print one JSON document")
     .action(
-      action(ctx, async (opts: { seed?: string; runsDir?: string; json?: boolean }) => {
+      action(ctx, async (opts: { seed?: string; runsDir?: string; report?: boolean; json?: boolean }) => {
         const seed = opts.seed === undefined ? 1 : parseSeed(opts.seed, "--seed");
         const runsDir = resolve(ctx.io.cwd, opts.runsDir ?? "runs");
         const signal = { aborted: false };
@@ -102,11 +104,17 @@ export function registerDemo(program: Command, ctx: CliContext): void {
         } finally {
           process.removeListener("SIGINT", onInt);
         }
+        const reports: string[] = [];
+        if (opts.report) for (const row of rows) reports.push(await writeReport(row.runDir));
         const doc = {
           seed,
-          runs: rows.map(({ designerSpark: _d, intentSpark: _i, ...rest }) => rest),
+          runs: rows.map(({ designerSpark: _d, intentSpark: _i, ...rest }, i) => (opts.report ? { ...rest, report: reports[i] } : rest)),
         };
-        emit(ctx.io, Boolean(opts.json), doc, () => demoText(rows, useColor(ctx.io)));
+        emit(ctx.io, Boolean(opts.json), doc, () => {
+          let t = demoText(rows, useColor(ctx.io));
+          if (reports.length) t += `HTML reports: ${reports.length} written, e.g. ${reports.find((_, i) => rows[i].verdict === "decoupled") ?? reports[0]}\n`;
+          return t;
+        });
         return signal.aborted ? 130 : 0;
       }),
     );
