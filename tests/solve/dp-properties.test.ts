@@ -5,55 +5,16 @@
  */
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { ModelBuilder } from "../../src/model/builder.js";
-import type { FiniteModel } from "../../src/model/types.js";
 import { deterministicPolicy, evaluatePolicy, policyIteration, valueIteration } from "../../src/solve/dp.js";
-
-interface Mdp {
-  model: FiniteModel;
-  reward: Float64Array;
-  gamma: number;
-}
+import { ModelBuilder } from "../../src/model/builder.js";
+import { randomMdp } from "../helpers/random-mdp.js";
 
 /**
  * Random MDP: 2..6 states (state 0 never terminal), 1..4 actions, 1..3 outcomes per pair; half of
  * them deterministic (first outcome only), so the deterministic fast paths (incl. the unrolled
  * 4-action sweep) are exercised as well as the general one.
  */
-const mdpArb: fc.Arbitrary<Mdp> = fc
-  .record({ nS: fc.integer({ min: 2, max: 6 }), nA: fc.integer({ min: 1, max: 4 }), det: fc.boolean(), gamma: fc.double({ min: 0.5, max: 0.95, noNaN: true }) })
-  .chain(({ nS, nA, det, gamma }) =>
-    fc.record({
-      nS: fc.constant(nS),
-      nA: fc.constant(nA),
-      det: fc.constant(det),
-      gamma: fc.constant(gamma),
-      terminal: fc.array(fc.boolean(), { minLength: nS, maxLength: nS }),
-      pairs: fc.array(
-        fc.array(
-          fc.record({
-            next: fc.integer({ min: 0, max: nS - 1 }),
-            weight: fc.integer({ min: 1, max: 5 }),
-            reward: fc.double({ min: -1, max: 1, noNaN: true }),
-          }),
-          { minLength: 1, maxLength: 3 },
-        ),
-        { minLength: nS * nA, maxLength: nS * nA },
-      ),
-    }),
-  )
-  .map(({ nS, nA, det, gamma, terminal, pairs }) => {
-    const b = new ModelBuilder({ name: "random", nStates: nS, actions: Array.from({ length: nA }, (_, a) => `a${a}`), features: ["r"], gamma, horizon: 100 });
-    for (let s = 1; s < nS; s++) if (terminal[s]) b.setTerminal(s);
-    for (let k = 0; k < nS * nA; k++) {
-      const outs = det ? pairs[k].slice(0, 1) : pairs[k];
-      const total = outs.reduce((acc, o) => acc + o.weight, 0);
-      for (const o of outs) b.addOutcome(Math.floor(k / nA), k % nA, o.next, o.weight / total, [o.reward]);
-    }
-    b.setStart(0, 1);
-    const model = b.build();
-    return { model, reward: Float64Array.from(model.featureValues), gamma };
-  });
+const mdpArb = randomMdp({ states: [2, 6], actions: [1, 4], gamma: [0.5, 0.95] });
 
 const TOL = 1e-12;
 const close = (a: Float64Array, b: Float64Array, eps: number) => a.every((x, i) => Math.abs(x - b[i]) <= eps);

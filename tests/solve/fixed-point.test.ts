@@ -7,6 +7,7 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { ModelBuilder } from "../../src/model/builder.js";
+import { randomMdp } from "../helpers/random-mdp.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, policyChain, uniformPolicy, type Policy } from "../../src/solve/dp.js";
 
@@ -139,32 +140,14 @@ describe("fixed-point policy evaluation (accuracy mode)", () => {
   });
 
   it("on random MDPs: within the accuracy of the direct solve, and the reported bound holds (fast-check)", () => {
-    const arb = fc
-      .record({ nS: fc.integer({ min: 2, max: 12 }), nA: fc.integer({ min: 1, max: 3 }), gamma: fc.double({ min: 0.3, max: 0.995, noNaN: true }) })
-      .chain(({ nS, nA, gamma }) =>
-        fc.record({
-          nS: fc.constant(nS),
-          nA: fc.constant(nA),
-          gamma: fc.constant(gamma),
-          terminal: fc.array(fc.boolean(), { minLength: nS, maxLength: nS }),
-          pairs: fc.array(fc.array(fc.record({ next: fc.nat(nS - 1), w: fc.integer({ min: 1, max: 4 }), r: fc.double({ min: -5, max: 5, noNaN: true }) }), { minLength: 1, maxLength: 3 }), {
-            minLength: nS * nA,
-            maxLength: nS * nA,
-          }),
-          policy: fc.array(fc.integer({ min: 0, max: 3 }), { minLength: nS * nA, maxLength: nS * nA }),
-        }),
-      );
+    const arb = randomMdp({ states: [2, 12], actions: [1, 3], gamma: [0.3, 0.995], deterministic: false, maxWeight: 4, rewardRange: 5 }).chain((mdp) =>
+      fc.record({ mdp: fc.constant(mdp), policy: fc.array(fc.integer({ min: 0, max: 3 }), { minLength: mdp.model.nStates * mdp.model.nActions, maxLength: mdp.model.nStates * mdp.model.nActions }) }),
+    );
     fc.assert(
-      fc.property(arb, ({ nS, nA, gamma, terminal, pairs, policy }) => {
-        const b = new ModelBuilder({ name: "random", nStates: nS, actions: Array.from({ length: nA }, (_, a) => `a${a}`), features: ["r"], gamma, horizon: 100 });
-        for (let s = 1; s < nS; s++) if (terminal[s]) b.setTerminal(s);
-        for (let k = 0; k < nS * nA; k++) {
-          const total = pairs[k].reduce((acc, o) => acc + o.w, 0);
-          for (const o of pairs[k]) b.addOutcome(Math.floor(k / nA), k % nA, o.next, o.w / total, [o.r]);
-        }
-        b.setStart(0, 1);
-        const m = b.build();
-        const reward = Float64Array.from(m.featureValues);
+      fc.property(arb, ({ mdp, policy }) => {
+        const { model: m, reward, gamma } = mdp;
+        const nS = m.nStates;
+        const nA = m.nActions;
         // A stochastic policy with some zero entries (rows normalized; an all-zero row becomes uniform).
         const pi = new Float64Array(nS * nA);
         for (let s = 0; s < nS; s++) {

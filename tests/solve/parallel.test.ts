@@ -12,10 +12,9 @@ import { describe, expect, it } from "vitest";
 import { greedyRollout, viCheckLine } from "../../src/bench/check.js";
 import { LAVA_GAMMA, lavaModel } from "../../src/bench/lava.js";
 import { InputError } from "../../src/errors.js";
-import { ModelBuilder } from "../../src/model/builder.js";
 import { builtinScenarioNames, loadEnvSync } from "../../src/model/registry.js";
 import { designerReward } from "../../src/model/reward.js";
-import type { FiniteModel } from "../../src/model/types.js";
+import { randomMdp } from "../helpers/random-mdp.js";
 import { valueIteration, type Solution } from "../../src/solve/dp.js";
 import { partition, prepareParallelSweeps, valueIterationParallel } from "../../src/solve/parallel.js";
 
@@ -53,47 +52,12 @@ describe("valueIterationParallel on the benchmark test vectors (PROBLEM.md secti
   }
 });
 
-interface Mdp {
-  model: FiniteModel;
-  reward: Float64Array;
-  gamma: number;
-}
-
 /**
  * Random MDP: 2..40 states (state 0 never terminal), 1..5 actions, 1..3 outcomes per pair; half of
  * them deterministic (first outcome only), so all three sweep kernels (unrolled 4-action,
  * deterministic loop, general) run split across threads.
  */
-const mdpArb = (det: boolean): fc.Arbitrary<Mdp> =>
-  fc
-    .record({ nS: fc.integer({ min: 2, max: 40 }), nA: fc.integer({ min: 1, max: 5 }), gamma: fc.double({ min: 0.5, max: 0.97, noNaN: true }) })
-    .chain(({ nS, nA, gamma }) =>
-      fc.record({
-        nS: fc.constant(nS),
-        nA: fc.constant(nA),
-        gamma: fc.constant(gamma),
-        terminal: fc.array(fc.boolean(), { minLength: nS, maxLength: nS }),
-        pairs: fc.array(
-          fc.array(fc.record({ next: fc.integer({ min: 0, max: nS - 1 }), weight: fc.integer({ min: 1, max: 5 }), reward: fc.double({ min: -1, max: 1, noNaN: true }) }), {
-            minLength: 1,
-            maxLength: 3,
-          }),
-          { minLength: nS * nA, maxLength: nS * nA },
-        ),
-      }),
-    )
-    .map(({ nS, nA, gamma, terminal, pairs }) => {
-      const b = new ModelBuilder({ name: "random", nStates: nS, actions: Array.from({ length: nA }, (_, a) => `a${a}`), features: ["r"], gamma, horizon: 100 });
-      for (let s = 1; s < nS; s++) if (terminal[s]) b.setTerminal(s);
-      for (let k = 0; k < nS * nA; k++) {
-        const outs = det ? pairs[k].slice(0, 1) : pairs[k];
-        const total = outs.reduce((acc, o) => acc + o.weight, 0);
-        for (const o of outs) b.addOutcome(Math.floor(k / nA), k % nA, o.next, o.weight / total, [o.reward]);
-      }
-      b.setStart(0, 1);
-      const model = b.build();
-      return { model, reward: Float64Array.from(model.featureValues), gamma };
-    });
+const mdpArb = (det: boolean) => randomMdp({ states: [2, 40], actions: [1, 5], gamma: [0.5, 0.97], deterministic: det });
 
 describe("valueIterationParallel on random models (property: identical to one thread)", () => {
   for (const det of [true, false]) {

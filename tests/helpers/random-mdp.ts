@@ -1,0 +1,71 @@
+/**
+ * Random small MDPs for property tests of the solvers (fast-check): state 0 is the start and never
+ * terminal, 1..3 weighted outcomes per pair normalized to probabilities, one reward feature "r".
+ * `deterministic` keeps only each pair's first outcome (true), all of them (false), or lets fast-check
+ * choose per model (undefined), so the deterministic fast paths and the general one both run.
+ */
+import fc from "fast-check";
+import { ModelBuilder } from "../../src/model/builder.js";
+import type { FiniteModel } from "../../src/model/types.js";
+
+export interface Mdp {
+  model: FiniteModel;
+  /** Designer reward per outcome (the "r" feature). */
+  reward: Float64Array;
+  gamma: number;
+}
+
+export interface RandomMdpOptions {
+  states: [number, number];
+  actions: [number, number];
+  gamma: [number, number];
+  deterministic?: boolean;
+  /** Largest integer outcome weight (default 5). */
+  maxWeight?: number;
+  /** Rewards are drawn from [-rewardRange, rewardRange] (default 1). */
+  rewardRange?: number;
+}
+
+export function randomMdp(opts: RandomMdpOptions): fc.Arbitrary<Mdp> {
+  const maxWeight = opts.maxWeight ?? 5;
+  const range = opts.rewardRange ?? 1;
+  return fc
+    .record({
+      nS: fc.integer({ min: opts.states[0], max: opts.states[1] }),
+      nA: fc.integer({ min: opts.actions[0], max: opts.actions[1] }),
+      det: opts.deterministic === undefined ? fc.boolean() : fc.constant(opts.deterministic),
+      gamma: fc.double({ min: opts.gamma[0], max: opts.gamma[1], noNaN: true }),
+    })
+    .chain(({ nS, nA, det, gamma }) =>
+      fc.record({
+        nS: fc.constant(nS),
+        nA: fc.constant(nA),
+        det: fc.constant(det),
+        gamma: fc.constant(gamma),
+        terminal: fc.array(fc.boolean(), { minLength: nS, maxLength: nS }),
+        pairs: fc.array(
+          fc.array(
+            fc.record({
+              next: fc.integer({ min: 0, max: nS - 1 }),
+              weight: fc.integer({ min: 1, max: maxWeight }),
+              reward: fc.double({ min: -range, max: range, noNaN: true }),
+            }),
+            { minLength: 1, maxLength: 3 },
+          ),
+          { minLength: nS * nA, maxLength: nS * nA },
+        ),
+      }),
+    )
+    .map(({ nS, nA, det, gamma, terminal, pairs }) => {
+      const b = new ModelBuilder({ name: "random", nStates: nS, actions: Array.from({ length: nA }, (_, a) => `a${a}`), features: ["r"], gamma, horizon: 100 });
+      for (let s = 1; s < nS; s++) if (terminal[s]) b.setTerminal(s);
+      for (let k = 0; k < nS * nA; k++) {
+        const outs = det ? pairs[k].slice(0, 1) : pairs[k];
+        const total = outs.reduce((acc, o) => acc + o.weight, 0);
+        for (const o of outs) b.addOutcome(Math.floor(k / nA), k % nA, o.next, o.weight / total, [o.reward]);
+      }
+      b.setStart(0, 1);
+      const model = b.build();
+      return { model, reward: Float64Array.from(model.featureValues), gamma };
+    });
+}
