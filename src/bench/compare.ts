@@ -15,13 +15,13 @@
  */
 import { spawn, spawnSync, type ChildProcess } from "node:child_process";
 import { mkdtempSync, rmSync } from "node:fs";
-import { createConnection, createServer } from "node:net";
 import { tmpdir } from "node:os";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { readdirSync, readFileSync, existsSync } from "node:fs";
 import { createHash } from "node:crypto";
 import { runCompare } from "../batch/compare.js";
+import { startRedis } from "../batch/redis-server.js";
 import { formatError, InputError } from "../errors.js";
 
 const out = (line = ""): void => {
@@ -60,41 +60,6 @@ function parseArgs(argv: string[]): Args {
     else throw new InputError("cli.benchOption", `unknown option ${k}; usage: compare.js [--rounds N] [--steps N] [--seeds N] [--redis URL] [--quick]`, "bench compare");
   }
   return a;
-}
-
-function freePort(): Promise<number> {
-  return new Promise((res, rej) => {
-    const s = createServer();
-    s.once("error", rej);
-    s.listen(0, "127.0.0.1", () => {
-      const p = (s.address() as { port: number }).port;
-      s.close(() => res(p));
-    });
-  });
-}
-
-function ping(port: number, host = "127.0.0.1"): Promise<boolean> {
-  return new Promise((res) => {
-    const sock = createConnection({ host, port });
-    const done = (ok: boolean) => {
-      sock.destroy();
-      res(ok);
-    };
-    sock.setTimeout(500, () => done(false));
-    sock.on("error", () => done(false));
-    sock.on("connect", () => sock.write("PING\r\n"));
-    sock.on("data", (d) => done(d.toString().startsWith("+PONG")));
-  });
-}
-
-const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
-
-async function startRedisServer(): Promise<{ url: string; stop: () => void }> {
-  const port = await freePort();
-  const child = spawn("redis-server", ["--port", String(port), "--bind", "127.0.0.1", "--save", "", "--appendonly", "no"], { stdio: "ignore" });
-  for (let i = 0; i < 100 && !(await ping(port)); i++) await sleep(100);
-  if (!(await ping(port))) throw new InputError("bench.redis", "redis-server did not start; install it (apt-get install redis-server) or pass --redis", "redis-server");
-  return { url: `redis://127.0.0.1:${port}/0`, stop: () => child.kill("SIGTERM") };
 }
 
 function cliMain(): string {
@@ -146,8 +111,8 @@ const median = (xs: number[]) => {
 export async function benchCompare(args: Args): Promise<{ ok: boolean; summary: string[] }> {
   const seeds = Array.from({ length: args.seeds }, (_, i) => i + 1);
   const total = REWARDS.length * seeds.length;
-  const own = args.redis ? null : await startRedisServer();
-  const url = args.redis ?? own!.url;
+  const own = args.redis ? null : await startRedis();
+  const url = args.redis ?? own!.url();
   let workers: ChildProcess[] = [];
   const times: Record<string, number[]> = { local1: [], local2: [], redis2: [] };
   const prints = new Set<string>();
@@ -187,7 +152,7 @@ export async function benchCompare(args: Args): Promise<{ ok: boolean; summary: 
     }
   } finally {
     for (const w of workers) w.kill("SIGTERM");
-    own?.stop();
+    await own?.stop();
   }
   const rate = (k: string) => total / median(times[k]);
   const scaling = rate("local2") / rate("local1");
