@@ -134,7 +134,7 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   let outcomes: RunOutcome[];
   try {
     outcomes = target
-      ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, runTimeoutMs: cfg.runTimeoutMs, onOutcome, store: (s) => writeShippedRun(runsDir, s) })
+      ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, runTimeoutMs: cfg.runTimeoutMs, onOutcome, store: (job, value) => writeShippedRun(runsDir, job, value) })
       : await runLocalBatch(jobs, runsDir, cfg.workers ?? defaultWorkers(), onOutcome, { timeoutMs: cfg.runTimeoutMs });
     const records = outcomes.map(recordOf);
     const stats = aggregateComparison(records, {

@@ -12,8 +12,9 @@
  */
 import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
-import { basename, join, resolve } from "node:path";
-import { GapwatchError } from "../errors.js";
+import { basename, join } from "node:path";
+import { GapwatchError, InputError } from "../errors.js";
+import { checkShippedRun, runFolderInside } from "./job-guard.js";
 import { readRun, runId as makeRunId, RUN_FILES } from "../store/run-store.js";
 import { writeFileAtomic } from "../store/atomic.js";
 import type { RunResult } from "../store/types.js";
@@ -71,6 +72,8 @@ export async function executeRemote(job: BatchJob): Promise<ShippedRun> {
     const original = { env: job.input.env, reward: job.input.reward };
     let moved = false;
     for (const [spec, text] of Object.entries(job.files ?? {})) {
+      // Only data files travel (job-guard.ts checks it before the job reaches this thread, too).
+      if (!/\.json$/i.test(spec)) throw new InputError("batch.jobFile", `only data files (.json) may travel in a job, not "${basename(spec)}"`, "queued job");
       const dir = join(scratch, "inputs", sha256(text).slice(0, 16));
       mkdirSync(dir, { recursive: true });
       const file = join(dir, basename(spec));
@@ -95,15 +98,15 @@ export async function executeRemote(job: BatchJob): Promise<ShippedRun> {
   }
 }
 
-/** Coordinator side: write a shipped run into `<runsDir>/<runId>/` (each file atomically). */
-export function writeShippedRun(runsDir: string, shipped: ShippedRun): RunResult {
-  if (!/^[A-Za-z0-9_.-]+$/.test(shipped.runId)) throw new GapwatchError("batch.runId", `a worker shipped a bad run id "${shipped.runId}"`, { where: "job return value" });
-  const dir = join(resolve(runsDir), shipped.runId);
+/**
+ * Coordinator side: write the result of `job` into `<runsDir>/<runId>/` (each file atomically). The
+ * result is checked first (job-guard.ts): the run id must be this job's, the files only run files.
+ */
+export function writeShippedRun(runsDir: string, job: BatchJob, value: unknown): RunResult {
+  const shipped = checkShippedRun(job, value);
+  const dir = runFolderInside(runsDir, shipped.runId);
   mkdirSync(dir, { recursive: true });
   for (const f of Object.values(RUN_FILES)) if (shipped.files[f] === undefined) rmSync(join(dir, f), { force: true });
-  for (const [name, text] of Object.entries(shipped.files)) {
-    if (name !== basename(name) || name.startsWith(".")) continue;
-    writeFileAtomic(join(dir, name), text);
-  }
+  for (const [name, text] of Object.entries(shipped.files)) writeFileAtomic(join(dir, name), text);
   return readRun(dir);
 }

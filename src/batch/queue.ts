@@ -16,6 +16,11 @@
  * `maxStalledCount` = 2 times. Every job ends completed or failed-with-reason, and the coordinator
  * reports each failure (code, message, attempts); none is dropped.
  *
+ * Untrusted data: whoever can write to the Redis database can plant jobs and results, so a worker
+ * checks every job (only .json files travel; modules only from `allowModules` folders; size limit) and
+ * the coordinator checks every result (the run id must be this job's, the files only run files) before
+ * acting on it (job-guard.ts).
+ *
  * Worker (`startQueueWorker`): a BullMQ Worker with `concurrency` C, each job trained in a thread of
  * a local WorkerPool of size C, so the event loop stays free to renew locks while training runs.
  *
@@ -25,9 +30,10 @@
  * retried, and the coordinator reports it like any failed run.
  */
 import { Job, Queue, QueueEvents, UnrecoverableError, Worker, type ConnectionOptions } from "bullmq";
-import { InputError } from "../errors.js";
+import { GapwatchError, InputError } from "../errors.js";
 import type { RunResult } from "../store/types.js";
 import { failureOf, writeShippedRun } from "./execute.js";
+import { checkJobForWorker, type WorkerPolicy } from "./job-guard.js";
 import { PoolError, WorkerPool } from "./pool.js";
 import type { BatchJob, RunFailure, RunOutcome, ShippedRun } from "./types.js";
 
@@ -78,8 +84,8 @@ export interface SubmitOptions {
   runTimeoutMs?: number;
   /** Called when each job ends. */
   onOutcome?: (o: RunOutcome) => void;
-  /** Writes and indexes a completed run (the coordinator's run store). */
-  store: (shipped: ShippedRun) => RunResult;
+  /** Checks a completed job's result (untrusted: it comes from Redis), then writes and indexes its run. */
+  store: (job: BatchJob, value: unknown) => RunResult;
 }
 
 export const QUEUE_DEFAULTS = { attempts: 3, backoffMs: 1000, lockMs: 30_000, stalledMs: 30_000, maxStalledCount: 2 } as const;
@@ -132,11 +138,11 @@ export async function runOnQueue(target: QueueTarget, jobs: BatchJob[], opts: Su
             value = (await Job.fromId<JobData, ShippedRun>(queue, job.jobId))?.returnvalue;
           }
           if (!value) throw new Error(JSON.stringify({ code: "batch.noResult", message: "the job completed without a result", exitCode: 1 }));
-          outcome = { jobId: job.jobId, cell: job.cell, ok: true, result: opts.store(value) };
+          outcome = { jobId: job.jobId, cell: job.cell, ok: true, result: opts.store(job, value) };
         } catch (err) {
           const stored = await Job.fromId(queue, job.jobId).catch(() => undefined);
           const reason = stored?.failedReason ?? (err as Error)?.message;
-          const f = err instanceof InputError ? failureOf(err) : parseFailure(reason);
+          const f = err instanceof GapwatchError ? failureOf(err) : parseFailure(reason);
           outcome = { jobId: job.jobId, cell: job.cell, ok: false, error: f, attempts: stored?.attemptsMade };
         }
         opts.onOutcome?.(outcome);
@@ -149,7 +155,7 @@ export async function runOnQueue(target: QueueTarget, jobs: BatchJob[], opts: Su
   }
 }
 
-export interface WorkerOptions {
+export interface WorkerOptions extends WorkerPolicy {
   concurrency?: number;
   /** Job lock duration (a worker that stops renewing it is presumed dead after this long). */
   lockMs?: number;
@@ -169,9 +175,13 @@ export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions 
   const worker = new Worker<JobData, ShippedRun>(
     target.name,
     async (job) => {
-      opts.onEvent?.("active", job.id as string, `${job.data.job.cell.reward} ${job.data.job.cell.learner} seed ${job.data.job.cell.seed} (attempt ${job.attemptsMade + 1})`);
       try {
-        return await pool.runRemote(job.data.job, { timeoutMs: job.data.runTimeoutMs });
+        // Job data comes from Redis: check it before anything of it is written, loaded or run.
+        const checked = checkJobForWorker(job.data, opts);
+        const timeoutMs = job.data.runTimeoutMs;
+        if (timeoutMs !== undefined && !(typeof timeoutMs === "number" && timeoutMs > 0 && timeoutMs <= 2_147_483_647)) throw new InputError("batch.job", "the job's run timeout is not a positive number of ms", "queued job");
+        opts.onEvent?.("active", job.id as string, `${checked.cell?.reward} ${checked.cell?.learner} seed ${checked.cell?.seed} (attempt ${job.attemptsMade + 1})`);
+        return await pool.runRemote(checked, { timeoutMs });
       } catch (err) {
         const f = err instanceof PoolError ? err.failure : failureOf(err);
         if (f.exitCode === 2 || f.code === "batch.timeout") throw new UnrecoverableError(JSON.stringify(f));

@@ -51,9 +51,14 @@ function slug(text: string): string {
   return base.replace(/[^A-Za-z0-9_.-]+/g, "_").slice(0, 40) || "x";
 }
 
+/** Everything of a run id before its hash: `<env>-<reward>-<learner>-s<seed>-`. */
+export function runIdPrefix(config: Pick<TrainConfig, "env" | "reward" | "learner" | "seed">): string {
+  return `${slug(config.env)}-${slug(config.reward)}-${slug(config.learner)}-s${config.seed}-`;
+}
+
 export function runId(config: TrainConfig): string {
   const hash = createHash("sha256").update(canonicalJson(config)).digest("hex").slice(0, 8);
-  return `${slug(config.env)}-${slug(config.reward)}-${slug(config.learner)}-s${config.seed}-${hash}`;
+  return runIdPrefix(config) + hash;
 }
 
 /** Writes one run directory. Synchronous file operations so a SIGINT handler's flush is complete. */
