@@ -17,6 +17,7 @@ import { COMPARISON_FILE, openIndex } from "../store/index-db.js";
 import { writeFileAtomic, writeJsonAtomic } from "../store/atomic.js";
 import type { RunResult } from "../store/types.js";
 import { getLearner } from "../train/learners.js";
+import { resolveTrainConfig } from "../train/run.js";
 import { aggregateComparison, comparisonCsv, type ComparisonStats, type RunRecord } from "./aggregate.js";
 import { failureOf, writeShippedRun } from "./execute.js";
 import { planSweep, sha256, type SweepSpec } from "./plan.js";
@@ -41,10 +42,14 @@ export interface CompareConfig extends SweepSpec {
    * code "batch.timeout"; the other runs go on.
    */
   runTimeoutMs?: number;
+  /** Redis only: give up on unfinished jobs when none has finished for this long, in ms (default: never). */
+  waitTimeoutMs?: number;
 }
 
 export interface CompareHooks {
   onProgress?: (p: BatchProgress) => void;
+  /** Redis only: what the coordinator is waiting for (no workers, lost jobs), every few seconds. */
+  onNotice?: (line: string) => void;
 }
 
 export interface ComparisonDocument extends ComparisonStats {
@@ -122,6 +127,15 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   const runsDir = resolve(cfg.runsDir);
   const target = cfg.queue ? parseQueueUrl(cfg.queue) : undefined;
   const jobs = planSweep(cfg, { ship: Boolean(target) });
+  // Every variant, learner and file resolved before the first run: a misspelt name stops the sweep
+  // at once instead of failing its own runs while the rest train.
+  const checked = new Set<string>();
+  for (const job of jobs) {
+    const key = `${job.cell.reward}\u0000${job.cell.learner}`;
+    if (checked.has(key)) continue;
+    checked.add(key);
+    await resolveTrainConfig(job.input);
+  }
   const index = openIndex(runsDir);
   let done = 0;
   let failed = 0;
@@ -134,7 +148,7 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   let outcomes: RunOutcome[];
   try {
     outcomes = target
-      ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, runTimeoutMs: cfg.runTimeoutMs, onOutcome, store: (job, value) => writeShippedRun(runsDir, job, value) })
+      ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, runTimeoutMs: cfg.runTimeoutMs, waitTimeoutMs: cfg.waitTimeoutMs, onNotice: hooks.onNotice, onOutcome, store: (job, value) => writeShippedRun(runsDir, job, value) })
       : await runLocalBatch(jobs, runsDir, cfg.workers ?? defaultWorkers(), onOutcome, { timeoutMs: cfg.runTimeoutMs });
     const records = outcomes.map(recordOf);
     const stats = aggregateComparison(records, {

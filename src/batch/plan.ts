@@ -21,6 +21,9 @@ export interface SweepSpec {
   base?: Omit<TrainConfigInput, "env" | "reward" | "learner" | "seed" | "steps">;
 }
 
+/** Most runs one sweep may plan: beyond it a typo (--seeds 1000000000) would exhaust memory before any work. */
+export const MAX_SWEEP_RUNS = 100_000;
+
 export function sha256(text: string): string {
   return createHash("sha256").update(text).digest("hex");
 }
@@ -34,6 +37,7 @@ export function parseSeedList(text: string, where = "--seed-list"): number[] {
     const a = Number(m[1]);
     const b = m[2] === undefined ? a : Number(m[2]);
     if (b < a || !Number.isSafeInteger(b)) throw new InputError("compare.seeds", `bad range "${part}"`, where);
+    if (out.length + (b - a + 1) > MAX_SWEEP_RUNS) throw new InputError("compare.seeds", `more than ${MAX_SWEEP_RUNS} seeds; a sweep plans at most ${MAX_SWEEP_RUNS} runs`, where);
     for (let s = a; s <= b; s++) out.push(s);
   }
   if (out.length === 0) throw new InputError("compare.seeds", "the seed list is empty; give e.g. 1,2,3 or 1-10", where);
@@ -73,6 +77,8 @@ export function jobIdOf(input: TrainConfigInput, files: Record<string, string> =
 
 /** One job per (reward, learner, seed). `ship` reads the input files into the jobs (Redis backend). */
 export function planSweep(spec: SweepSpec, opts: { ship?: boolean } = {}): BatchJob[] {
+  const total = spec.rewards.length * spec.learners.length * spec.seeds.length;
+  if (total > MAX_SWEEP_RUNS) throw new InputError("compare.size", `${spec.rewards.length} rewards x ${spec.learners.length} learners x ${spec.seeds.length} seeds = ${total} runs, more than the ${MAX_SWEEP_RUNS} a sweep may plan`, "--seeds");
   const jobs: BatchJob[] = [];
   const cache = new Map<string, Record<string, string>>();
   for (const reward of spec.rewards) {

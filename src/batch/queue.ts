@@ -103,24 +103,100 @@ function parseFailure(reason: string | undefined): RunFailure {
   return { code: stalled ? "batch.stalled" : "batch.failed", message: reason ?? "the job failed without a reason", exitCode: 1 };
 }
 
-/** Enqueue every job, wait for all of them, store each completed run. Resolves to one outcome per job, in job order. */
-export async function runOnQueue(target: QueueTarget, jobs: BatchJob[], opts: SubmitOptions): Promise<RunOutcome[]> {
+interface RedisClientLike {
+  waitUntilReady(): Promise<unknown>;
+  on(event: "error", fn: (err: Error) => void): unknown;
+  close(): Promise<void>;
+}
+
+const sleep = (ms: number) => new Promise<void>((r) => setTimeout(r, ms));
+
+/** Close clients without waiting more than `ms` (a client that never connected may not answer). */
+async function closeWithin(clients: RedisClientLike[], ms = 2000): Promise<void> {
+  await Promise.race([Promise.all(clients.map((c) => c.close().catch(() => undefined))), sleep(ms)]);
+}
+
+/**
+ * Wait until every client is connected, or fail with one line naming the URL after `ms`: with nothing
+ * listening, ioredis would otherwise retry (and report an error) twice a second forever.
+ */
+export async function readyOrFail(clients: RedisClientLike[], target: QueueTarget, ms: number, where: string): Promise<void> {
+  let last = "no answer";
+  for (const c of clients) c.on("error", (err) => (last = err?.message ?? String(err)));
+  let timer: NodeJS.Timeout | undefined;
+  const timeout = new Promise<"timeout">((r) => (timer = setTimeout(() => r("timeout"), ms)));
+  const outcome = await Promise.race([Promise.all(clients.map((c) => c.waitUntilReady())).then(() => "ready" as const), timeout]);
+  clearTimeout(timer);
+  if (outcome === "timeout") {
+    await closeWithin(clients);
+    throw new InputError("queue.unreachable", `cannot reach Redis at ${target.url} within ${Math.round(ms / 1000)} s (${last}); is redis-server running there, and is the URL right?`, where);
+  }
+}
+
+/** How a queue wait reports what it is waiting for (stderr lines in the CLI). */
+export interface QueueWaitOptions {
+  /** Connection deadline in ms (default 5000). */
+  connectTimeoutMs?: number;
+  /** How often unfinished jobs are looked up in Redis, in ms (default 2000). */
+  pollMs?: number;
+  /** How often a stall is reported, in ms (default 5000). */
+  noticeMs?: number;
+  /** Give up on the jobs still unfinished when no job has finished for this long, in ms (default: never). */
+  waitTimeoutMs?: number;
+  onNotice?: (line: string) => void;
+}
+
+/**
+ * Enqueue every job, wait for all of them, store each completed run. Resolves to one outcome per job,
+ * in job order. Besides BullMQ's completion events, the coordinator looks its unfinished jobs up in
+ * Redis every `pollMs`: a job that has vanished (Redis restarted without persistence) is enqueued
+ * again under the same id, a finished job whose event was missed is collected, and while no worker is
+ * connected it says so every `noticeMs`. With `waitTimeoutMs`, jobs still unfinished when nothing has
+ * finished for that long are reported failed (batch.waitTimeout).
+ */
+export async function runOnQueue(target: QueueTarget, jobs: BatchJob[], opts: SubmitOptions & QueueWaitOptions): Promise<RunOutcome[]> {
   const queue = new Queue<JobData, ShippedRun>(target.name, { connection: target.connection });
   const events = new QueueEvents(target.name, { connection: target.connection });
   queue.setMaxListeners(0);
   events.setMaxListeners(0);
   const attempts = opts.attempts ?? QUEUE_DEFAULTS.attempts;
   const backoffMs = opts.backoffMs ?? QUEUE_DEFAULTS.backoffMs;
+  const pollMs = opts.pollMs ?? 2000;
+  const noticeMs = opts.noticeMs ?? 5000;
+  await readyOrFail([queue, events], target, opts.connectTimeoutMs ?? 5000, "--queue");
+  const bulkItem = (job: BatchJob) => ({
+    name: "run",
+    data: { format: "gapwatch-job/1" as const, job, ...(opts.runTimeoutMs !== undefined ? { runTimeoutMs: opts.runTimeoutMs } : {}) },
+    opts: { jobId: job.jobId, attempts, backoff: { type: "exponential" as const, delay: backoffMs }, removeOnComplete: false, removeOnFail: false },
+  });
+  const outcomes: (RunOutcome | undefined)[] = new Array(jobs.length);
+  let settledCount = 0;
+  let lastSettle = Date.now();
+  let wake: () => void = () => undefined;
+  const settle = (i: number, make: () => RunOutcome) => {
+    if (outcomes[i]) return;
+    const o = make();
+    outcomes[i] = o;
+    settledCount++;
+    lastSettle = Date.now();
+    opts.onOutcome?.(o);
+    if (settledCount === jobs.length) wake();
+  };
+  const completed = (i: number, value: unknown) =>
+    settle(i, () => {
+      const job = jobs[i];
+      try {
+        let v = value;
+        if (typeof v === "string") v = JSON.parse(v);
+        return { jobId: job.jobId, cell: job.cell, ok: true, result: opts.store(job, v) };
+      } catch (err) {
+        return { jobId: job.jobId, cell: job.cell, ok: false, error: failureOf(err) };
+      }
+    });
+  const failed = (i: number, f: RunFailure, attemptsMade?: number) => settle(i, () => ({ jobId: jobs[i].jobId, cell: jobs[i].cell, ok: false, error: f, attempts: attemptsMade }));
   try {
-    await Promise.all([queue.waitUntilReady(), events.waitUntilReady()]);
     // One round trip for the whole sweep; an id that already exists is left as it is (no duplicate work).
-    const added = await queue.addBulk(
-      jobs.map((job) => ({
-        name: "run",
-        data: { format: "gapwatch-job/1" as const, job, ...(opts.runTimeoutMs !== undefined ? { runTimeoutMs: opts.runTimeoutMs } : {}) },
-        opts: { jobId: job.jobId, attempts, backoff: { type: "exponential", delay: backoffMs }, removeOnComplete: false, removeOnFail: false },
-      })),
-    );
+    const added = await queue.addBulk(jobs.map(bulkItem));
     // A resubmitted sweep: jobs that had failed for good get one more round of attempts.
     const states = await Promise.all(added.map((j) => queue.getJobState(j.id as string)));
     for (let i = 0; i < added.length; i++) {
@@ -128,30 +204,62 @@ export async function runOnQueue(target: QueueTarget, jobs: BatchJob[], opts: Su
       const stored = await Job.fromId<JobData, ShippedRun>(queue, added[i].id as string);
       await stored?.retry("failed");
     }
-    return await Promise.all(
-      jobs.map(async (job, i): Promise<RunOutcome> => {
-        let outcome: RunOutcome;
-        try {
-          let value = (await added[i].waitUntilFinished(events)) as ShippedRun | string | undefined;
-          if (typeof value === "string") value = JSON.parse(value) as ShippedRun;
-          if (!value || typeof value !== "object" || !value.files) {
-            value = (await Job.fromId<JobData, ShippedRun>(queue, job.jobId))?.returnvalue;
-          }
-          if (!value) throw new Error(JSON.stringify({ code: "batch.noResult", message: "the job completed without a result", exitCode: 1 }));
-          outcome = { jobId: job.jobId, cell: job.cell, ok: true, result: opts.store(job, value) };
-        } catch (err) {
+    // Completion events: the fast path.
+    jobs.forEach((job, i) => {
+      added[i].waitUntilFinished(events).then(
+        async (value: unknown) => {
+          if (!value || (typeof value === "object" && !(value as ShippedRun).files)) value = (await Job.fromId<JobData, ShippedRun>(queue, job.jobId))?.returnvalue;
+          if (!value) return failed(i, { code: "batch.noResult", message: "the job completed without a result", exitCode: 1 });
+          completed(i, value);
+        },
+        async (err: unknown) => {
+          if (outcomes[i]) return;
           const stored = await Job.fromId(queue, job.jobId).catch(() => undefined);
-          const reason = stored?.failedReason ?? (err as Error)?.message;
-          const f = err instanceof GapwatchError ? failureOf(err) : parseFailure(reason);
-          outcome = { jobId: job.jobId, cell: job.cell, ok: false, error: f, attempts: stored?.attemptsMade };
+          failed(i, parseFailure(stored?.failedReason ?? (err as Error)?.message), stored?.attemptsMade);
+        },
+      );
+    });
+    // The look-up loop: lost jobs, missed events, stalls, the wait deadline.
+    const done = new Promise<void>((r) => (wake = r));
+    if (settledCount === jobs.length) wake();
+    let lastNotice = 0;
+    while (settledCount < jobs.length) {
+      await Promise.race([done, sleep(pollMs)]);
+      if (settledCount === jobs.length) break;
+      const open = jobs.map((_, i) => i).filter((i) => !outcomes[i]);
+      const lost: BatchJob[] = [];
+      for (const i of open) {
+        const state = await queue.getJobState(jobs[i].jobId);
+        if (state === "completed") {
+          const stored = await Job.fromId<JobData, ShippedRun>(queue, jobs[i].jobId);
+          if (stored?.returnvalue) completed(i, stored.returnvalue);
+        } else if (state === "failed") {
+          const stored = await Job.fromId(queue, jobs[i].jobId);
+          failed(i, parseFailure(stored?.failedReason), stored?.attemptsMade);
+        } else if (state === "unknown") lost.push(jobs[i]);
+      }
+      if (lost.length) {
+        await queue.addBulk(lost.map(bulkItem));
+        opts.onNotice?.(`${lost.length} job(s) had vanished from Redis at ${target.url} (a restart without persistence?); enqueued again`);
+      }
+      const waiting = jobs.length - settledCount;
+      if (waiting > 0 && Date.now() - lastNotice >= noticeMs) {
+        const workers = await queue.getWorkersCount();
+        const quiet = Math.round((Date.now() - lastSettle) / 1000);
+        if (workers === 0) opts.onNotice?.(`no worker is connected to queue ${target.name} at ${target.url}; ${waiting} of ${jobs.length} job(s) waiting (start: gapwatch worker --queue ${target.url})`);
+        else if (quiet * 1000 >= noticeMs) opts.onNotice?.(`${waiting} of ${jobs.length} job(s) unfinished, ${workers} worker(s) connected, none finished in the last ${quiet} s`);
+        lastNotice = Date.now();
+      }
+      if (opts.waitTimeoutMs !== undefined && waiting > 0 && Date.now() - lastSettle >= opts.waitTimeoutMs) {
+        const s = Math.round(opts.waitTimeoutMs / 1000);
+        for (const i of jobs.map((_, k) => k).filter((k) => !outcomes[k])) {
+          failed(i, { code: "batch.waitTimeout", message: `no result within --wait-timeout ${s} s (the job stays in the queue; run the same compare again to collect it)`, exitCode: 1 });
         }
-        opts.onOutcome?.(outcome);
-        return outcome;
-      }),
-    );
+      }
+    }
+    return outcomes as RunOutcome[];
   } finally {
-    await events.close();
-    await queue.close();
+    await closeWithin([events, queue]);
   }
 }
 
@@ -159,6 +267,8 @@ export interface WorkerOptions extends WorkerPolicy {
   concurrency?: number;
   /** Job lock duration (a worker that stops renewing it is presumed dead after this long). */
   lockMs?: number;
+  /** Connection deadline in ms (default 5000): past it, one line naming the URL. */
+  connectTimeoutMs?: number;
   /** How often this worker checks for stalled jobs of dead workers. */
   stalledMs?: number;
   onEvent?: (kind: "active" | "completed" | "failed" | "error", jobId: string, detail: string) => void;
@@ -198,9 +308,20 @@ export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions 
   );
   worker.on("completed", (job) => opts.onEvent?.("completed", job.id as string, job.returnvalue?.runId ?? ""));
   worker.on("failed", (job, err) => opts.onEvent?.("failed", job?.id ?? "?", err.message));
-  // Connection errors: ioredis reconnects by itself; report them so an operator sees a lost Redis.
-  worker.on("error", (err) => opts.onEvent?.("error", "-", err.message));
-  await worker.waitUntilReady();
+  try {
+    await readyOrFail([worker], target, opts.connectTimeoutMs ?? 5000, "--queue");
+  } catch (err) {
+    await pool.close();
+    throw err;
+  }
+  // Later connection errors: ioredis reconnects by itself; report them so an operator sees a lost
+  // Redis, at most one line every 10 s (it retries twice a second).
+  let lastError = 0;
+  worker.on("error", (err) => {
+    if (Date.now() - lastError < 10_000) return;
+    lastError = Date.now();
+    opts.onEvent?.("error", "-", `${target.url}: ${err.message}`);
+  });
   return {
     worker,
     async close() {

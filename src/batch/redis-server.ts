@@ -43,8 +43,9 @@ function ping(port: number): Promise<boolean> {
   });
 }
 
-export async function startRedis(bin = process.env.REDIS_SERVER ?? "redis-server"): Promise<RedisHandle> {
-  const port = await freePort();
+/** Start a private redis-server; `port` restarts one on the port a stopped server had (a fresh, empty database). */
+export async function startRedis(bin = process.env.REDIS_SERVER ?? "redis-server", port?: number): Promise<RedisHandle> {
+  port ??= await freePort();
   const child: ChildProcess = spawn(bin, ["--port", String(port), "--bind", "127.0.0.1", "--save", "", "--appendonly", "no", "--loglevel", "warning"], {
     stdio: ["ignore", "ignore", "pipe"],
   });
@@ -60,7 +61,7 @@ export async function startRedis(bin = process.env.REDIS_SERVER ?? "redis-server
   }
   return {
     port,
-    url: (db = 0) => `redis://127.0.0.1:${port}/${db}`,
+    url: (db = 0) => `redis://127.0.0.1:${String(port)}/${db}`,
     stop: () =>
       new Promise<void>((resolve) => {
         if (exited) return resolve();

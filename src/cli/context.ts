@@ -32,14 +32,15 @@ export function action<A extends unknown[]>(ctx: CliContext, fn: (...args: A) =>
 }
 
 /** Parse a positive integer option, or throw a one-line input error naming the flag. */
-export function intOption(value: string | undefined, flag: string, opts: { min?: number; def?: number } = {}): number {
+export function intOption(value: string | undefined, flag: string, opts: { min?: number; max?: number; def?: number } = {}): number {
   if (value === undefined) {
     if (opts.def === undefined) throw new GapwatchError("cli.missing", `${flag} is required`, { where: flag });
     return opts.def;
   }
   const n = Number(value);
   const min = opts.min ?? 1;
-  if (!Number.isSafeInteger(n) || n < min) throw new GapwatchError("cli.integer", `${flag} expects an integer >= ${min}, got "${value}"`, { where: flag });
+  if (!Number.isSafeInteger(n) || n < min) throw new GapwatchError("cli.integer", `${flag} expects an integer >= ${min}, got "${value.slice(0, 40)}"`, { where: flag });
+  if (opts.max !== undefined && n > opts.max) throw new GapwatchError("cli.integer", `${flag} expects an integer <= ${opts.max}, got ${n}`, { where: flag });
   return n;
 }
 

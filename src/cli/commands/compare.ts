@@ -9,7 +9,7 @@ import { resolve } from "node:path";
 import { EXIT, GapwatchError, InputError } from "../../errors.js";
 import { comparisonCsv } from "../../batch/aggregate.js";
 import { progressLine, runCompare, type CompareResult } from "../../batch/compare.js";
-import { parseList, parseSeedList } from "../../batch/plan.js";
+import { MAX_SWEEP_RUNS, parseList, parseSeedList } from "../../batch/plan.js";
 import { defaultWorkers } from "../../batch/pool.js";
 import { writeReport } from "../../report/write.js";
 import { writeFileAtomic } from "../../store/atomic.js";
@@ -27,6 +27,7 @@ interface CompareCliOptions {
   queue?: string;
   attempts?: string;
   runTimeout?: string;
+  waitTimeout?: string;
   bootstrapSeed?: string;
   bootstrapReps?: string;
   runsDir?: string;
@@ -66,11 +67,11 @@ export function compareText(r: CompareResult, color: boolean): string {
   return t;
 }
 
-/** `--run-timeout <seconds>` -> milliseconds (a positive number, fractions allowed, at most 2,000,000 s). */
-export function runTimeoutMs(text: string): number {
+/** `--run-timeout <seconds>` (or another seconds flag) -> milliseconds (a positive number, fractions allowed, at most 2,000,000 s). */
+export function runTimeoutMs(text: string, flag = "--run-timeout"): number {
   const s = Number(text);
   if (!/^\s*[0-9.eE+]+\s*$/.test(text) || !Number.isFinite(s) || s <= 0 || s > 2_000_000) {
-    throw new InputError("cli.runTimeout", `--run-timeout needs a positive number of seconds (at most 2000000), got "${text}"`, "--run-timeout");
+    throw new InputError("cli.runTimeout", `${flag} needs a positive number of seconds (at most 2000000), got "${text}"`, flag);
   }
   return Math.round(s * 1000) || 1;
 }
@@ -89,6 +90,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .option("--queue <url>", "run on `gapwatch worker` processes through Redis, e.g. redis://127.0.0.1:6379/0")
     .option("--attempts <n>", "attempts per job on the queue before it is reported failed (default 3)")
     .option("--run-timeout <seconds>", "stop a run that takes longer than this and report it failed (batch.timeout); default: no limit")
+    .option("--wait-timeout <seconds>", "with --queue: report the unfinished runs failed (batch.waitTimeout) when no run has finished for this long; default: wait")
     .option("--bootstrap-seed <s>", "seed of the bootstrap resampling (default 0)")
     .option("--bootstrap-reps <n>", "bootstrap replicates (default 2000)")
     .option("--runs-dir <dir>", "where run directories go (default ./runs)")
@@ -98,7 +100,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .action(
       action(ctx, async (opts: CompareCliOptions) => {
         if (opts.seeds !== undefined && opts.seedList !== undefined) throw new InputError("cli.conflict", "give --seeds or --seed-list, not both", "--seed-list");
-        const seeds = opts.seedList !== undefined ? parseSeedList(opts.seedList) : Array.from({ length: intOption(opts.seeds, "--seeds", { def: 10 }) }, (_, i) => i + 1);
+        const seeds = opts.seedList !== undefined ? parseSeedList(opts.seedList) : Array.from({ length: intOption(opts.seeds, "--seeds", { def: 10, max: MAX_SWEEP_RUNS }) }, (_, i) => i + 1);
         const runsDir = resolve(ctx.io.cwd, opts.runsDir ?? "runs");
         const showBar = ctx.io.stderrIsTTY && !opts.json;
         const t0 = Date.now();
@@ -114,10 +116,12 @@ export function registerCompare(program: Command, ctx: CliContext): void {
             queue: opts.queue,
             attempts: opts.attempts === undefined ? undefined : intOption(opts.attempts, "--attempts"),
             runTimeoutMs: opts.runTimeout === undefined ? undefined : runTimeoutMs(opts.runTimeout),
+            waitTimeoutMs: opts.waitTimeout === undefined ? undefined : runTimeoutMs(opts.waitTimeout, "--wait-timeout"),
             bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
             reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: 2000 }),
           },
           {
+            onNotice: (line) => ctx.io.err(`${showBar ? "\n" : ""}${line}\n`),
             onProgress: (p) => {
               if (showBar) ctx.io.err(`\r${progressLine(p.done, p.total, p.failed, Date.now() - t0)}${p.done === p.total ? "\n" : ""}`);
             },
