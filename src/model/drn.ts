@@ -277,6 +277,7 @@ export function parseDrn(text: string, file: string, opts: DrnParseOptions = {})
         maxRewards = Math.max(maxRewards, rewards.length);
       }
       if (rest.trim() !== "") ignoredChoiceText++;
+      if (m![1] === "__proto__") fail("name", ln, `action name "__proto__" is not allowed`);
       choice = { name: m![1], line: ln, rewards, next: [], prob: [] };
       cur!.choices.push(choice);
     } else {
@@ -319,6 +320,7 @@ function buildModel(
   const seen = new Set<string>();
   for (const n of rewardNames) {
     if (seen.has(n)) throw new InputError("drn.rewardModel", `reward model "${n}" is declared twice in @reward_models`, where);
+    if (n.includes("__proto__")) throw new InputError("drn.name", `reward model name "${n}" is not allowed`, where);
     seen.add(n);
   }
   const stateReward = (s: number, j: number): number => states[s].rewards[j] ?? 0;
@@ -348,6 +350,7 @@ function buildModel(
       else if (l.startsWith(DRN_GROUP_PREFIX) && l.length > DRN_GROUP_PREFIX.length) {
         if (groups[s] !== null) throw new InputError("drn.label", `state ${s} has two group labels (${DRN_GROUP_PREFIX}${groups[s]} and ${l})`, `${file}:${st.line}`);
         groups[s] = l.slice(DRN_GROUP_PREFIX.length);
+        if (groups[s] === "__proto__") throw new InputError("drn.name", `group name "__proto__" is not allowed`, `${file}:${st.line}`);
       } else dropped.add(l);
     }
   });
@@ -428,7 +431,6 @@ function buildModel(
   } else for (const s of starts) b.setStart(s, 1 / starts.length);
   if (groups.some((g) => g !== null)) b.setGroups(groups);
   for (const { name, col } of potentialCols) {
-    if (name === "__proto__") throw new InputError("drn.rewardModel", `potential name "__proto__" is not allowed`, where);
     b.setPotential(name, Float64Array.from(states, (_, s) => stateReward(s, col)));
   }
   const model = b.build();

@@ -193,6 +193,24 @@ describe("grammar details", () => {
     expect(solve(m, designerReward(m, w))[0]).toBeCloseTo(0.5 / 0.55, 10);
   });
 
+  it("keeps a non-uniform start distribution through the start comments, and says other tools lose it", () => {
+    const b = new ModelBuilder({ name: "two starts", nStates: 3, actions: ["a"], features: [], gamma: 0.9, horizon: 5 });
+    b.addOutcome(0, 0, 2, 1, null).addOutcome(1, 0, 2, 1, null).setTerminal(2).setStart(0, 0.25).setStart(1, 0.75);
+    const { out, back } = roundTrip(b.build());
+    expect(out.warnings.some((w) => /start distribution is not uniform/.test(w))).toBe(true);
+    expect(Array.from(back.model.start)).toEqual([0.25, 0.75, 0]);
+    expect(back.model.name).toBe("two starts");
+    // Without the comments (another tool's file) the init states share the start uniformly.
+    const bare = out.text.split("\n").filter((l) => !l.startsWith("// gapwatch-drn: start")).join("\n");
+    expect(Array.from(parseDrn(bare, "bare.drn").model.start)).toEqual([0.5, 0.5, 0]);
+  });
+
+  it("refuses __proto__ as a reward model or action name", () => {
+    const text = "@type: MDP\n@reward_models\n__proto__\n@nr_states\n1\n@model\nstate 0 init\n\taction go [1]\n\t\t0 : 1\n";
+    expect(() => parseDrn(text, "p.drn")).toThrow(/reward model name "__proto__" is not allowed/);
+    expect(() => parseDrn(text.replace("__proto__", "r").replace("action go", "action __proto__"), "p.drn")).toThrow(/action name "__proto__"/);
+  });
+
   it("merges outcomes that lead to the same state and writes targets ascending", () => {
     const b = new ModelBuilder({ name: "dup", nStates: 3, actions: ["a"], features: [], gamma: 0.9, horizon: 5 });
     b.addOutcome(0, 0, 2, 0.25, null).addOutcome(0, 0, 1, 0.5, null).addOutcome(0, 0, 2, 0.25, null);
