@@ -52,7 +52,8 @@
  *  - terminals: written as states whose every action is a self-loop with probability 1 and zero
  *    rewards, labelled `terminal`; read back as terminal (the builder writes the self-loops itself and
  *    drops anything else the file gave them, with a warning). Storm computes undiscounted total reward,
- *    which stays finite on such absorbing zero-reward states.
+ *    which stays finite on such absorbing zero-reward states. Unlabelled absorbing zero-reward states
+ *    stay non-terminal (same values; sampled episodes do not end there), with a warning.
  *  - outcomes of a state-action that lead to the same state are merged (Storm wants one entry per
  *    target, targets ascending); the distribution is unchanged.
  *  - numbers: decimals are read as doubles, fractions a/b as the nearest double to a/b; probabilities
@@ -419,6 +420,15 @@ function buildModel(
       for (let o = 0; o < c.next.length; o++) b.addOutcome(s, a, c.next[o], c.prob[o], fv, intent);
     });
   });
+  let absorbing = 0;
+  states.forEach((st, s) => {
+    if (terminal[s]) return;
+    const loops = st.choices.every((c) => c.next.every((t) => t === s));
+    if (loops && rewardNames.every((_, j) => stateReward(s, j) === 0 && st.choices.every((c) => choiceReward(c, j) === 0))) absorbing++;
+  });
+  if (absorbing > 0) {
+    warnings.push(`${absorbing} absorbing zero-reward state(s) are not labelled ${terminalLabel}; values are the same, but sampled episodes run on there until the horizon (name their label with the terminal-label option)`);
+  }
   if (filled > 0) warnings.push(`${filled} state-action pair(s) missing from their state were filled with a copy of that state's first choice (optimal values unchanged)`);
   if (droppedTerminal > 0) warnings.push(`${droppedTerminal} state(s) labelled ${terminalLabel} had transitions or rewards other than zero-reward self-loops; they are absorbing with zero reward now`);
 

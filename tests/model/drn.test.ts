@@ -101,6 +101,14 @@ describe("the documented example's layout: Knuth-Yao die (tests/fixtures/models/
     expect(warnings.some((w) => /label\(s\) with no meaning/.test(w) && /"one"/.test(w))).toBe(true);
   });
 
+  it("without the terminal-label option the done states stay absorbing non-terminals, with a warning and the same values", () => {
+    const plain = loadDrnFile(fixture("knuth-yao-die.drn"));
+    expect(Array.from(plain.model.terminal).every((t) => t === 0)).toBe(true);
+    expect(plain.warnings.some((w) => /^6 absorbing zero-reward state\(s\) are not labelled terminal/.test(w))).toBe(true);
+    const r = designerReward(plain.model, { name: "flips", weights: { coinflips: 1 } });
+    expect(valueIteration(plain.model, r, { tol: 1e-13 }).values[0]).toBeCloseTo(11 / 3, 9);
+  });
+
   it("maximal expected number of coin flips is 11/3 (derived by hand)", () => {
     // Derivation (Knuth & Yao's die; undiscounted expected flips E, E(done) = 0):
     //   E4 = E5 = 1 (both successors are faces); E3 = 1 + E1/2; E6 = 1 + E2/2;
