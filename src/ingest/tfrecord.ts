@@ -43,14 +43,13 @@ function u32(buf: Uint8Array, at: number): number {
 /**
  * Whole records of `buf` from `offset` on. Stops at the end of the buffer (`complete` when it ends on a
  * record boundary, `partial` inside a record) or at the first bad record (a `FramingError`).
- * `maxRecords` bounds the work of one call (the status is then `complete` at a boundary inside buf).
  */
-export function readRecords(buf: Uint8Array, offset = 0, maxRecords = Infinity): FramingResult {
+export function readRecords(buf: Uint8Array, offset = 0): FramingResult {
   const records: Uint8Array[] = [];
   const recordOffsets: number[] = [];
   let at = offset;
   const done = (status: FramingStatus): FramingResult => ({ records, recordOffsets, offset: at, status });
-  while (at < buf.length && records.length < maxRecords) {
+  while (at < buf.length) {
     if (buf.length - at < RECORD_HEADER_BYTES) return done("partial");
     if (maskedCrc32c(buf, at, at + 8) !== u32(buf, at + 8)) {
       return done({ code: "ingest.crc", offset: at, message: `record at byte ${at}: the CRC of its length field does not match (file damaged or not a TFRecord file)` });
