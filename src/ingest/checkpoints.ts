@@ -118,3 +118,19 @@ export function ownCheckpoints(table: TableSeries, where: string, opts: { window
     };
   });
 }
+
+/**
+ * Checkpoints from a designer and an intent series logged at checkpoints (e.g. two event-file tags):
+ * joined on equal steps (a step logged twice keeps its last value), in step order. Steps where only one
+ * of the two was logged are left out; no common step at all is an InputError.
+ */
+export function alignSeries(designer: Series, intent: Series, where: string): IngestCheckpoint[] {
+  const last = (s: Series): Map<number, number> => new Map(s.steps.map((st, i) => [st, s.values[i]]));
+  const d = last(designer);
+  const n = last(intent);
+  const steps = [...d.keys()].filter((s) => n.has(s)).sort((a, b) => a - b);
+  if (steps.length === 0 && designer.steps.length > 0 && intent.steps.length > 0) {
+    throw new InputError("ingest.series", `the designer series ${JSON.stringify(designer.name)} and the intent series ${JSON.stringify(intent.name)} share no step (designer from ${designer.steps[0]}, intent from ${intent.steps[0]}); log both at the same steps`, where);
+  }
+  return steps.map((step) => ({ step, designer: d.get(step)!, intent: n.get(step)! }));
+}

@@ -5,9 +5,9 @@
  * read incrementally: each `poll()` reads only the bytes appended since the last one, leaving a
  * half-written record for the next poll (for `--follow`).
  */
-import { closeSync, openSync, readSync, readdirSync, statSync } from "node:fs";
+import { readdirSync, statSync } from "node:fs";
+import { readBytesFrom } from "./read-bytes.js";
 import { basename, join, relative, sep } from "node:path";
-import { InputError } from "../errors.js";
 import { decodeEventBytes } from "./event-file.js";
 import type { ScalarPoint } from "./tf-event.js";
 
@@ -68,26 +68,6 @@ export interface PollResult {
   readonly pending: { path: string; bytes: number }[];
 }
 
-function readFrom(path: string, offset: number): Uint8Array {
-  const size = statSync(path).size;
-  if (size < offset) {
-    throw new InputError("ingest.truncated", `event file shrank from ${offset} to ${size} bytes while being read (was it rewritten?)`, path);
-  }
-  const buf = Buffer.alloc(size - offset);
-  const fd = openSync(path, "r");
-  try {
-    let got = 0;
-    while (got < buf.length) {
-      const n = readSync(fd, buf, got, buf.length - got, offset + got);
-      if (n === 0) break;
-      got += n;
-    }
-    return buf.subarray(0, got);
-  } finally {
-    closeSync(fd);
-  }
-}
-
 function byFirstEvent(a: FileState, b: FileState): number {
   const ta = a.firstWallTime ?? Infinity;
   const tb = b.firstWallTime ?? Infinity;
@@ -108,7 +88,7 @@ export class EventFolderReader {
     }
     const states = [...this.files.values()];
     for (const s of states) {
-      const buf = readFrom(s.ref.path, s.offset);
+      const buf = readBytesFrom(s.ref.path, s.offset);
       if (buf.length === 0) continue;
       const r = decodeEventBytes(buf, s.offset, s.ref.path);
       if (s.firstWallTime === undefined && r.firstWallTime !== undefined) s.firstWallTime = r.firstWallTime;
