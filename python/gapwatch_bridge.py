@@ -132,22 +132,14 @@ Outcome = Tuple[float, int, float, bool]
 FeatureFn = Callable[[int, int, int, float, bool], float]
 
 
-def _rows(P: Any) -> List[Any]:
-    if isinstance(P, Mapping):
-        keys = sorted(P.keys())
+def _indexed(x: Any, what: str) -> List[Any]:
+    """A list from a list, or from a dict keyed 0..n-1 (tabular envs use either)."""
+    if isinstance(x, Mapping):
+        keys = sorted(x.keys())
         if keys != list(range(len(keys))):
-            raise ValueError("P must be indexed by states 0..n-1")
-        return [P[k] for k in keys]
-    return list(P)
-
-
-def _actions_of(row: Any) -> List[Any]:
-    if isinstance(row, Mapping):
-        keys = sorted(row.keys())
-        if keys != list(range(len(keys))):
-            raise ValueError("P[s] must be indexed by actions 0..m-1")
-        return [row[k] for k in keys]
-    return list(row)
+            raise ValueError(f"{what} must be indexed 0..n-1, got keys {keys[:10]}")
+        return [x[k] for k in keys]
+    return list(x)
 
 
 def _clean(x: float) -> float:
@@ -173,11 +165,11 @@ def build_model_document(
     """The gapwatch-mdp/1 document of a transition table (see ``export_tabular_model``)."""
     if not (0 < gamma <= 1):
         raise ValueError(f"gamma must be in (0, 1], got {gamma}")
-    rows = _rows(P)
+    rows = _indexed(P, "P")
     n_states = len(rows)
     if n_states == 0:
         raise ValueError("P has no states")
-    table = [_actions_of(r) for r in rows]
+    table = [_indexed(r, f"P[{s}]") for s, r in enumerate(rows)]
     n_actions = len(table[0])
     for s, acts in enumerate(table):
         if len(acts) != n_actions:

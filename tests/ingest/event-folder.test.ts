@@ -2,7 +2,7 @@ import { appendFileSync, copyFileSync, mkdirSync, writeFileSync } from "node:fs"
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { EventFolderReader, listEventFiles } from "../../src/ingest/event-folder.js";
-import { InputError } from "../../src/errors.js";
+import { catchInputError } from "../helpers/input-error.js";
 import { trainingLog } from "../helpers/shared-fixtures.js";
 import { tempDirsRemovedAfterAll } from "../helpers/temp-dirs.js";
 import { eventFile } from "../helpers/tfevents-writer.js";
@@ -62,14 +62,7 @@ describe("event folders", () => {
     const bytes = Buffer.from(eventFile(scalarEvents("x", [1, 2], 1)));
     bytes[bytes.length - 10] ^= 0x20;
     writeFileSync(join(root, "events.out.tfevents.bad"), bytes);
-    const err = (() => {
-      try {
-        new EventFolderReader(root).poll();
-      } catch (e) {
-        return e as InputError;
-      }
-    })();
-    expect(err).toBeInstanceOf(InputError);
-    expect(err!.where).toMatch(/events\.out\.tfevents\.bad byte \d+$/);
+    const err = catchInputError(() => new EventFolderReader(root).poll());
+    expect(err.where).toMatch(/events\.out\.tfevents\.bad byte \d+$/);
   });
 });

@@ -6,6 +6,7 @@ import { episodeColumn, looksLikeMonitorCsv, MonitorCsvReader, readMonitorCsv } 
 import { rollingMean, windowCheckpoints } from "../../src/ingest/windows.js";
 import { InputError } from "../../src/errors.js";
 import { trainingLog } from "../helpers/shared-fixtures.js";
+import { catchInputError } from "../helpers/input-error.js";
 
 const MONITOR = trainingLog("sb3-ppo-reacher.monitor.csv");
 
@@ -72,14 +73,7 @@ describe("monitor CSVs written in the test", () => {
   });
 
   it("rejects with file and line: no JSON line, a header without r,l,t, a non-numeric return, an empty file", () => {
-    const err = (text: string): InputError => {
-      try {
-        readMonitorCsv(text, "bad.csv");
-      } catch (e) {
-        return e as InputError;
-      }
-      throw new Error("no error");
-    };
+    const err = (text: string): InputError => catchInputError(() => readMonitorCsv(text, "bad.csv"));
     expect(err("r,l,t\n1,2,3\n").where).toBe("bad.csv line 1");
     expect(err(`${META}reward,len,t\n`).message).toMatch(/lacks r, l/);
     const nonNum = err(`${META}r,l,t\n1,2,3\nabc,2,3\n`);

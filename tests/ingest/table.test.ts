@@ -7,18 +7,8 @@ import { detectFormat, parseFormat } from "../../src/ingest/detect.js";
 import { selectSeries, seriesFromPoints } from "../../src/ingest/series.js";
 import { defaultWindow, niceCeil, ownCheckpoints, ownLineKind } from "../../src/ingest/checkpoints.js";
 import { decodeEventBytes } from "../../src/ingest/event-file.js";
-import { InputError } from "../../src/errors.js";
+import { catchInputError } from "../helpers/input-error.js";
 import { trainingLog } from "../helpers/shared-fixtures.js";
-
-function thrown(f: () => unknown): InputError {
-  try {
-    f();
-  } catch (e) {
-    if (e instanceof InputError) return e;
-    throw e;
-  }
-  throw new Error("expected an InputError");
-}
 
 describe("RFC 4180 delimited text", () => {
   it("reads the quoted-field cases of RFC 4180 section 2 (rules 5-7)", () => {
@@ -38,8 +28,8 @@ describe("RFC 4180 delimited text", () => {
   });
 
   it("rejects a stray quote with the line", () => {
-    expect(thrown(() => parseDelimited('a,b\n1,2"x\n', ",", 1, "t.csv")).where).toBe("t.csv line 2");
-    expect(thrown(() => parseDelimited('a,b\n1,"2"x\n', ",", 1, "t.csv")).code).toBe("ingest.csv");
+    expect(catchInputError(() => parseDelimited('a,b\n1,2"x\n', ",", 1, "t.csv")).where).toBe("t.csv line 2");
+    expect(catchInputError(() => parseDelimited('a,b\n1,"2"x\n', ",", 1, "t.csv")).code).toBe("ingest.csv");
   });
 
   it("detects comma, tab and semicolon headers, ignoring delimiters inside quotes", () => {
@@ -80,14 +70,14 @@ describe("tables as series", () => {
   });
 
   it("errors name file and line: no step column, text in a numeric column, ragged row, empty file", () => {
-    const a = thrown(() => readDelimitedSeries("time,x\n1,2\n", "a.csv"));
+    const a = catchInputError(() => readDelimitedSeries("time,x\n1,2\n", "a.csv"));
     expect([a.code, a.where]).toEqual(["ingest.step", "a.csv line 1"]);
     expect(a.message).toContain('"time", "x"');
-    const b = thrown(() => readDelimitedSeries("step,x\n1,2\n2,oops\n", "b.csv"));
+    const b = catchInputError(() => readDelimitedSeries("step,x\n1,2\n2,oops\n", "b.csv"));
     expect([b.code, b.where]).toEqual(["ingest.value", "b.csv line 3"]);
-    expect(thrown(() => readDelimitedSeries("step,x\n1,2,3\n", "c.csv")).message).toMatch(/3 fields/);
-    expect(thrown(() => readDelimitedSeries("", "d.csv")).code).toBe("ingest.empty");
-    expect(thrown(() => readDelimitedSeries("step,__proto__\n1,2\n", "e.csv")).code).toBe("ingest.column");
+    expect(catchInputError(() => readDelimitedSeries("step,x\n1,2,3\n", "c.csv")).message).toMatch(/3 fields/);
+    expect(catchInputError(() => readDelimitedSeries("", "d.csv")).code).toBe("ingest.empty");
+    expect(catchInputError(() => readDelimitedSeries("step,__proto__\n1,2\n", "e.csv")).code).toBe("ingest.column");
   });
 
   it("CSV holds back a split last line, then reads it when the rest arrives", () => {
@@ -115,8 +105,8 @@ describe("tables as series", () => {
     const t = r.result(true);
     expect(t.rows).toBe(1);
     expect(r.pendingChars).toBeGreaterThan(0);
-    expect(thrown(() => readJsonLinesSeries('{"step": 1}\n[1,2]\n', "x.jsonl")).where).toBe("x.jsonl line 2");
-    expect(thrown(() => readJsonLinesSeries('{"step": 1, "__proto__": 3}\n', "x.jsonl")).code).toBe("ingest.column");
+    expect(catchInputError(() => readJsonLinesSeries('{"step": 1}\n[1,2]\n', "x.jsonl")).where).toBe("x.jsonl line 2");
+    expect(catchInputError(() => readJsonLinesSeries('{"step": 1, "__proto__": 3}\n', "x.jsonl")).code).toBe("ingest.column");
   });
 });
 
@@ -129,14 +119,14 @@ describe("format detection from content", () => {
     expect(detectFormat(enc("step\tx\n1\t2\n"), "f.jsonl")).toBe("csv");
   });
   it("refuses empty files, damaged event files, a truncated monitor header, unknown text", () => {
-    expect(thrown(() => detectFormat(new Uint8Array(0), "e")).code).toBe("ingest.empty");
+    expect(catchInputError(() => detectFormat(new Uint8Array(0), "e")).code).toBe("ingest.empty");
     const damaged = Buffer.from(readFileSync(trainingLog("empty-run.tfevents")));
     damaged[9] ^= 1;
-    expect(thrown(() => detectFormat(damaged, "d")).where).toBe("d byte 0");
-    expect(thrown(() => detectFormat(enc('#{"t_start": 1}\nr,l'), "m")).code).toBe("ingest.truncated");
-    expect(thrown(() => detectFormat(enc("hello world\n"), "h")).code).toBe("ingest.format");
+    expect(catchInputError(() => detectFormat(damaged, "d")).where).toBe("d byte 0");
+    expect(catchInputError(() => detectFormat(enc('#{"t_start": 1}\nr,l'), "m")).code).toBe("ingest.truncated");
+    expect(catchInputError(() => detectFormat(enc("hello world\n"), "h")).code).toBe("ingest.format");
     expect(parseFormat("jsonl")).toBe("jsonl");
-    expect(thrown(() => parseFormat("xml")).message).toContain("tfevents, monitor-csv, csv, jsonl");
+    expect(catchInputError(() => parseFormat("xml")).message).toContain("tfevents, monitor-csv, csv, jsonl");
   });
 });
 
@@ -150,13 +140,13 @@ describe("series selection", () => {
   });
 
   it("an unknown tag is one line listing what exists, with a did-you-mean", () => {
-    const e = thrown(() => selectSeries(series, { designer: "rollout/ep_rew_maen", intent: "rollout/ep_len_mean" }, "run.tfevents"));
+    const e = catchInputError(() => selectSeries(series, { designer: "rollout/ep_rew_maen", intent: "rollout/ep_len_mean" }, "run.tfevents"));
     expect(e.code).toBe("ingest.series");
     expect(e.where).toBe("run.tfevents");
     expect(e.message).toContain('did you mean "rollout/ep_rew_mean"?');
     expect(e.message).toContain('"time/fps"');
     expect(e.message).not.toContain("\n");
-    const long = thrown(() => selectSeries(series, { designer: "x".repeat(5000), intent: "time/fps" }, "r"));
+    const long = catchInputError(() => selectSeries(series, { designer: "x".repeat(5000), intent: "time/fps" }, "r"));
     expect(long.message).not.toContain("did you mean");
     expect(long.message.length).toBeLessThan(2000);
   });

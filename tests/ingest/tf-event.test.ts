@@ -4,7 +4,7 @@ import fc from "fast-check";
 import { decodeEventBytes, pointsByTag } from "../../src/ingest/event-file.js";
 import { decodeEvent, DT_FLOAT } from "../../src/ingest/tf-event.js";
 import { readRecords } from "../../src/ingest/tfrecord.js";
-import { InputError } from "../../src/errors.js";
+import { catchInputError } from "../helpers/input-error.js";
 import { trainingLog } from "../helpers/shared-fixtures.js";
 import { eventFile, type ScalarEncoding } from "../helpers/tfevents-writer.js";
 
@@ -83,16 +83,10 @@ describe("event files written by the test encoder", () => {
     const r = readRecords(full);
     const at = r.recordOffsets[2];
     full[at + 14] ^= 0xff;
-    let err: unknown;
-    try {
-      decodeEventBytes(full.subarray(r.recordOffsets[1]), r.recordOffsets[1], "runs/a/events.out.tfevents.1");
-    } catch (e) {
-      err = e;
-    }
-    expect(err).toBeInstanceOf(InputError);
-    expect((err as InputError).code).toBe("ingest.crc");
-    expect((err as InputError).where).toBe(`runs/a/events.out.tfevents.1 byte ${at}`);
-    expect((err as InputError).message).toContain(`byte ${at}`);
+    const err = catchInputError(() => decodeEventBytes(full.subarray(r.recordOffsets[1]), r.recordOffsets[1], "runs/a/events.out.tfevents.1"));
+    expect(err.code).toBe("ingest.crc");
+    expect(err.where).toBe(`runs/a/events.out.tfevents.1 byte ${at}`);
+    expect(err.message).toContain(`byte ${at}`);
   });
 
   it("a record with a good CRC but a malformed Event is ingest.event at that record", async () => {
