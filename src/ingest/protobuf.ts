@@ -19,30 +19,34 @@ export class WireError extends Error {
 }
 
 export type WireField =
-  | { readonly field: number; readonly wire: 0; readonly varint: bigint; readonly at: number }
+  | { readonly field: number; readonly wire: 0; readonly varint: number | bigint; readonly at: number }
   | { readonly field: number; readonly wire: 1 | 5; readonly at: number }
   | { readonly field: number; readonly wire: 2; readonly start: number; readonly end: number; readonly at: number };
 
-/** Varint at `at`: value and the offset after it. At most 10 bytes (64 bits). */
-export function readVarint(buf: Uint8Array, at: number, end = buf.length): { value: bigint; next: number } {
-  let lo = 0;
-  let shift = 0;
-  let i = at;
-  // Fast path for the common small varint (< 2^28) in plain numbers.
-  for (; i < end && shift < 28; i++, shift += 7) {
+/**
+ * Varint at `at`: value and the offset after it. At most 10 bytes (64 bits). The value is a plain number
+ * when it is below 2^53 (exact), else a bigint (the raw unsigned 64 bits, e.g. a negative int64).
+ */
+export function readVarint(buf: Uint8Array, at: number, end = buf.length): { value: number | bigint; next: number } {
+  let value = 0;
+  let scale = 1;
+  for (let i = at; i < end && i - at < 7; i++) {
     const b = buf[i];
-    lo |= (b & 0x7f) << shift;
-    if (b < 0x80) return { value: BigInt(lo >>> 0), next: i + 1 };
+    value += (b & 0x7f) * scale;
+    if (b < 0x80) return { value, next: i + 1 };
+    scale *= 128;
   }
-  let value = BigInt(lo >>> 0);
-  let big = BigInt(shift);
-  for (; i < end; i++, big += 7n) {
-    if (i - at >= 10) break;
+  // Longer than 7 bytes (>= 2^49) or cut short: the exact path.
+  let big = 0n;
+  for (let i = at, shift = 0n; i < end && i - at < 10; i++, shift += 7n) {
     const b = buf[i];
-    value |= BigInt(b & 0x7f) << big;
-    if (b < 0x80) return { value: BigInt.asUintN(64, value), next: i + 1 };
+    big |= BigInt(b & 0x7f) << shift;
+    if (b < 0x80) {
+      const u = BigInt.asUintN(64, big);
+      return { value: u <= BigInt(Number.MAX_SAFE_INTEGER) ? Number(u) : u, next: i + 1 };
+    }
   }
-  throw new WireError(i - at >= 10 ? "varint longer than 10 bytes" : "message ends inside a varint", at);
+  throw new WireError(end - at >= 10 ? "varint longer than 10 bytes" : "message ends inside a varint", at);
 }
 
 /** Every field of the message in buf[start, end), in order. */
@@ -52,8 +56,9 @@ export function* wireFields(buf: Uint8Array, start = 0, end = buf.length): Gener
     const keyAt = at;
     const key = readVarint(buf, at, end);
     at = key.next;
-    const field = Number(key.value >> 3n);
-    const wire = Number(key.value & 7n);
+    if (typeof key.value !== "number" || key.value >= 2 ** 32) throw new WireError("field key out of range", keyAt);
+    const field = Math.floor(key.value / 8);
+    const wire = key.value % 8;
     if (field === 0) throw new WireError("field number 0 is not allowed", keyAt);
     if (wire === 0) {
       const v = readVarint(buf, at, end);
@@ -90,9 +95,14 @@ export function readFloat(buf: Uint8Array, at: number): number {
   return view(buf).getFloat32(at, true);
 }
 
-/** An int64 field's varint as a number (two's complement; exact up to 2^53). */
-export function varintToInt64(v: bigint): number {
-  return Number(BigInt.asIntN(64, v));
+/** An int64 field's varint as a number (two's complement; exact up to 2^53 in magnitude). */
+export function varintToInt64(v: number | bigint): number {
+  return typeof v === "number" ? v : Number(BigInt.asIntN(64, v));
+}
+
+/** An int32 field's varint as a number (negative int32 values are written sign-extended to 64 bits). */
+export function varintToInt32(v: number | bigint): number {
+  return typeof v === "number" ? v | 0 : Number(BigInt.asIntN(32, v));
 }
 
 /** IEEE 754 half precision (binary16) bits to a number. */

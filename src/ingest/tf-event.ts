@@ -16,7 +16,7 @@
  * Scalars come from `simple_value` (PyTorch / tensorboardX writers) or from a one-element float tensor
  * (TF2 `tf.summary.scalar`, plugin "scalars"). Pure.
  */
-import { type WireField, WireError, halfToNumber, readDouble, readFloat, readString, readVarint, varintToInt64, wireFields } from "./protobuf.js";
+import { type WireField, WireError, halfToNumber, readDouble, readFloat, readString, readVarint, varintToInt32, varintToInt64, wireFields } from "./protobuf.js";
 
 export const DT_FLOAT = 1;
 export const DT_DOUBLE = 2;
@@ -69,7 +69,7 @@ function pushRepeated(buf: Uint8Array, f: WireField, width: 0 | 4 | 8, out: numb
       let at = f.start;
       while (at < f.end) {
         const v = readVarint(buf, at, f.end);
-        out.push(Number(BigInt.asIntN(32, v.value)));
+        out.push(varintToInt32(v.value));
         at = v.next;
       }
       return;
@@ -77,7 +77,7 @@ function pushRepeated(buf: Uint8Array, f: WireField, width: 0 | 4 | 8, out: numb
     if ((f.end - f.start) % width !== 0) throw new WireError(`packed field ${f.field} is not a whole number of ${width}-byte values`, f.at);
     for (let at = f.start; at < f.end; at += width) out.push(read(buf, at));
   } else if (f.wire === 0 && width === 0) {
-    out.push(Number(BigInt.asIntN(32, f.varint)));
+    out.push(varintToInt32(f.varint));
   } else if ((f.wire === 5 && width === 4) || (f.wire === 1 && width === 8)) {
     out.push(read(buf, f.at));
   } else {
