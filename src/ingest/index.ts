@@ -14,7 +14,7 @@
  */
 export { crc32c, maskCrc, maskedCrc32c } from "./crc32c.js";
 export { frameRecord, isFramingError, looksLikeTfRecord, readRecords, type FramingError, type FramingResult, type FramingStatus } from "./tfrecord.js";
-export { readVarint, wireFields, WireError, type WireField } from "./protobuf.js";
+export { readVarint, wireFields, WireError, WireReader, type WireField } from "./protobuf.js";
 export { decodeEvent, decodeTensor, eventScalars, scalarOf, DT_DOUBLE, DT_FLOAT, DT_HALF, type ScalarPoint, type SummaryValue, type TensorValue, type TfEvent } from "./tf-event.js";
 export { decodeEventBytes, pointsByTag, type EventBytesResult } from "./event-file.js";
 export { EventFolderReader, isEventFileName, listEventFiles, type EventFileRef, type EventRun, type PollResult } from "./event-folder.js";

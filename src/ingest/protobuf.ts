@@ -18,9 +18,10 @@ export class WireError extends Error {
   }
 }
 
+/** One field as a record: `at` is the offset of its key; `start` (and `end`) the offset of its value bytes. */
 export type WireField =
   | { readonly field: number; readonly wire: 0; readonly varint: number | bigint; readonly at: number }
-  | { readonly field: number; readonly wire: 1 | 5; readonly at: number }
+  | { readonly field: number; readonly wire: 1 | 5; readonly start: number; readonly at: number }
   | { readonly field: number; readonly wire: 2; readonly start: number; readonly end: number; readonly at: number };
 
 /**
@@ -49,35 +50,91 @@ export function readVarint(buf: Uint8Array, at: number, end = buf.length): { val
   throw new WireError(end - at >= 10 ? "varint longer than 10 bytes" : "message ends inside a varint", at);
 }
 
-/** Every field of the message in buf[start, end), in order. */
-export function* wireFields(buf: Uint8Array, start = 0, end = buf.length): Generator<WireField> {
-  let at = start;
-  while (at < end) {
-    const keyAt = at;
-    const key = readVarint(buf, at, end);
-    at = key.next;
+/**
+ * A cursor over the fields of the message in buf[start, end): `next()` moves to the next field and sets
+ * `field`, `wire`, `at` (offset of its key) and either `varint` (wire 0) or `start`/`end` (the bytes of a
+ * length-delimited value, or of a fixed 32/64-bit value). No allocation per field.
+ */
+export class WireReader {
+  field = 0;
+  wire = 0;
+  varint: number | bigint = 0;
+  start = 0;
+  end = 0;
+  at = 0;
+  private pos: number;
+  private readonly dv: DataView;
+
+  constructor(readonly buf: Uint8Array, from = 0, private readonly limit = buf.length) {
+    this.pos = from;
+    this.dv = new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
+  }
+
+  next(): boolean {
+    if (this.pos >= this.limit) return false;
+    const buf = this.buf;
+    const keyAt = this.pos;
+    const key = readVarint(buf, keyAt, this.limit);
     if (typeof key.value !== "number" || key.value >= 2 ** 32) throw new WireError("field key out of range", keyAt);
     const field = Math.floor(key.value / 8);
     const wire = key.value % 8;
     if (field === 0) throw new WireError("field number 0 is not allowed", keyAt);
+    let at = key.next;
     if (wire === 0) {
-      const v = readVarint(buf, at, end);
-      at = v.next;
-      yield { field, wire, varint: v.value, at: keyAt };
+      const v = readVarint(buf, at, this.limit);
+      this.varint = v.value;
+      this.start = at;
+      this.end = v.next;
     } else if (wire === 1 || wire === 5) {
       const size = wire === 1 ? 8 : 4;
-      if (at + size > end) throw new WireError(`message ends inside a ${size * 8}-bit field ${field}`, keyAt);
-      yield { field, wire, at };
-      at += size;
+      if (at + size > this.limit) throw new WireError(`message ends inside a ${size * 8}-bit field ${field}`, keyAt);
+      this.start = at;
+      this.end = at + size;
     } else if (wire === 2) {
-      const len = readVarint(buf, at, end);
-      const n = Number(len.value);
-      if (len.next + n > end) throw new WireError(`length-delimited field ${field} claims ${n} bytes, only ${end - len.next} left`, keyAt);
-      yield { field, wire, start: len.next, end: len.next + n, at: keyAt };
-      at = len.next + n;
+      const len = readVarint(buf, at, this.limit);
+      const n = typeof len.value === "number" ? len.value : Infinity;
+      at = len.next;
+      if (at + n > this.limit) throw new WireError(`length-delimited field ${field} claims ${n} bytes, only ${this.limit - at} left`, keyAt);
+      this.start = at;
+      this.end = at + n;
     } else {
       throw new WireError(`unsupported wire type ${wire} (field ${field})`, keyAt);
     }
+    this.field = field;
+    this.wire = wire;
+    this.at = keyAt;
+    this.pos = this.end;
+    return true;
+  }
+
+  /** The current fixed 64-bit field as a little-endian double. */
+  double(): number {
+    return this.dv.getFloat64(this.start, true);
+  }
+
+  /** The current fixed 32-bit field as a little-endian float. */
+  float(): number {
+    return this.dv.getFloat32(this.start, true);
+  }
+
+  /** The current length-delimited field's bytes (a view). */
+  bytes(): Uint8Array {
+    return this.buf.subarray(this.start, this.end);
+  }
+
+  /** The current length-delimited field as UTF-8 text. */
+  string(): string {
+    return utf8.decode(this.buf.subarray(this.start, this.end));
+  }
+}
+
+/** Every field of the message in buf[start, end), in order, as records (convenience over WireReader). */
+export function* wireFields(buf: Uint8Array, start = 0, end = buf.length): Generator<WireField> {
+  const r = new WireReader(buf, start, end);
+  while (r.next()) {
+    if (r.wire === 0) yield { field: r.field, wire: 0, varint: r.varint, at: r.at };
+    else if (r.wire === 2) yield { field: r.field, wire: 2, start: r.start, end: r.end, at: r.at };
+    else yield { field: r.field, wire: r.wire as 1 | 5, start: r.start, at: r.at };
   }
 }
 
@@ -116,7 +173,3 @@ export function halfToNumber(bits: number): number {
 }
 
 const utf8 = new TextDecoder("utf-8");
-
-export function readString(buf: Uint8Array, start: number, end: number): string {
-  return utf8.decode(buf.subarray(start, end));
-}

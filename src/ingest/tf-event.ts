@@ -16,7 +16,7 @@
  * Scalars come from `simple_value` (PyTorch / tensorboardX writers) or from a one-element float tensor
  * (TF2 `tf.summary.scalar`, plugin "scalars"). Pure.
  */
-import { type WireField, WireError, halfToNumber, readDouble, readFloat, readString, readVarint, varintToInt32, varintToInt64, wireFields } from "./protobuf.js";
+import { halfToNumber, readDouble, readFloat, readVarint, varintToInt32, varintToInt64, WireError, WireReader } from "./protobuf.js";
 
 export const DT_FLOAT = 1;
 export const DT_DOUBLE = 2;
@@ -53,105 +53,117 @@ export interface TfEvent {
   readonly values: SummaryValue[];
 }
 
-function sub(buf: Uint8Array, f: WireField): Uint8Array {
-  if (f.wire !== 2) throw new WireError(`field ${f.field} should be length-delimited, has wire type ${f.wire}`, f.at);
-  return buf.subarray(f.start, f.end);
+function expectWire(r: WireReader, wire: number): void {
+  if (r.wire !== wire) throw new WireError(`field ${r.field} has wire type ${r.wire}, expected ${wire}`, r.at);
 }
 
-function expectWire(f: WireField, wire: number): void {
-  if (f.wire !== wire) throw new WireError(`field ${f.field} has wire type ${f.wire}, expected ${wire}`, f.at);
-}
-
-/** Repeated numeric field, packed (one length-delimited run) or not (one element per field). */
-function pushRepeated(buf: Uint8Array, f: WireField, width: 0 | 4 | 8, out: number[], read: (b: Uint8Array, at: number) => number): void {
-  if (f.wire === 2) {
+/** Repeated numeric field at the cursor, packed (one length-delimited run) or not (one element per field). */
+function pushRepeated(r: WireReader, width: 0 | 4 | 8, out: number[]): void {
+  if (r.wire === 2) {
     if (width === 0) {
-      let at = f.start;
-      while (at < f.end) {
-        const v = readVarint(buf, at, f.end);
+      for (let at = r.start; at < r.end; ) {
+        const v = readVarint(r.buf, at, r.end);
         out.push(varintToInt32(v.value));
         at = v.next;
       }
       return;
     }
-    if ((f.end - f.start) % width !== 0) throw new WireError(`packed field ${f.field} is not a whole number of ${width}-byte values`, f.at);
-    for (let at = f.start; at < f.end; at += width) out.push(read(buf, at));
-  } else if (f.wire === 0 && width === 0) {
-    out.push(varintToInt32(f.varint));
-  } else if ((f.wire === 5 && width === 4) || (f.wire === 1 && width === 8)) {
-    out.push(read(buf, f.at));
+    if ((r.end - r.start) % width !== 0) throw new WireError(`packed field ${r.field} is not a whole number of ${width}-byte values`, r.at);
+    for (let at = r.start; at < r.end; at += width) out.push(width === 4 ? readFloat(r.buf, at) : readDouble(r.buf, at));
+  } else if (r.wire === 0 && width === 0) {
+    out.push(varintToInt32(r.varint));
+  } else if ((r.wire === 5 && width === 4) || (r.wire === 1 && width === 8)) {
+    out.push(width === 4 ? r.float() : r.double());
   } else {
-    throw new WireError(`repeated field ${f.field} has wire type ${f.wire}`, f.at);
+    throw new WireError(`repeated field ${r.field} has wire type ${r.wire}`, r.at);
   }
 }
 
-function decodeShape(buf: Uint8Array): number[] {
+function message(r: WireReader): WireReader {
+  expectWire(r, 2);
+  return new WireReader(r.buf, r.start, r.end);
+}
+
+function decodeShape(shape: WireReader): number[] {
   const dims: number[] = [];
-  for (const f of wireFields(buf)) {
-    if (f.field !== 2) continue;
+  while (shape.next()) {
+    if (shape.field !== 2) continue;
+    const dim = message(shape);
     let size = 0;
-    for (const g of wireFields(sub(buf, f))) if (g.field === 1 && g.wire === 0) size = varintToInt64(g.varint);
+    while (dim.next()) if (dim.field === 1 && dim.wire === 0) size = varintToInt64(dim.varint);
     dims.push(size);
   }
   return dims;
 }
 
+function contentValues(c: Uint8Array, dtype: number): number[] {
+  const width = dtype === DT_FLOAT ? 4 : dtype === DT_DOUBLE ? 8 : dtype === DT_HALF ? 2 : 0;
+  if (width === 0) return [];
+  if (c.length % width !== 0) throw new WireError(`tensor_content has ${c.length} bytes, not a multiple of ${width}`, 0);
+  const dv = new DataView(c.buffer, c.byteOffset, c.byteLength);
+  const values: number[] = [];
+  for (let at = 0; at < c.length; at += width) {
+    values.push(width === 4 ? dv.getFloat32(at, true) : width === 8 ? dv.getFloat64(at, true) : halfToNumber(dv.getUint16(at, true)));
+  }
+  return values;
+}
+
+/** Decode a serialized TensorProto (the fields listed in the module comment). */
 export function decodeTensor(buf: Uint8Array): TensorValue {
+  return readTensor(new WireReader(buf));
+}
+
+function readTensor(r: WireReader): TensorValue {
   let dtype = 0;
   let shape: number[] = [];
   let content: Uint8Array | undefined;
   const floats: number[] = [];
   const doubles: number[] = [];
   const halves: number[] = [];
-  for (const f of wireFields(buf)) {
-    if (f.field === 1) {
-      expectWire(f, 0);
-      if (f.wire === 0) dtype = Number(f.varint);
-    } else if (f.field === 2) shape = decodeShape(sub(buf, f));
-    else if (f.field === 4) content = sub(buf, f);
-    else if (f.field === 5) pushRepeated(buf, f, 4, floats, readFloat);
-    else if (f.field === 6) pushRepeated(buf, f, 8, doubles, readDouble);
-    else if (f.field === 13) pushRepeated(buf, f, 0, halves, () => 0);
-  }
-  let values: number[] = [];
-  if (content !== undefined && content.length > 0) {
-    const c = content;
-    const width = dtype === DT_FLOAT ? 4 : dtype === DT_DOUBLE ? 8 : dtype === DT_HALF ? 2 : 0;
-    if (width > 0) {
-      if (c.length % width !== 0) throw new WireError(`tensor_content has ${c.length} bytes, not a multiple of ${width}`, 0);
-      const dv = new DataView(c.buffer, c.byteOffset, c.byteLength);
-      for (let at = 0; at < c.length; at += width) {
-        values.push(width === 4 ? dv.getFloat32(at, true) : width === 8 ? dv.getFloat64(at, true) : halfToNumber(dv.getUint16(at, true)));
-      }
+  while (r.next()) {
+    if (r.field === 1) {
+      expectWire(r, 0);
+      dtype = Number(r.varint);
+    } else if (r.field === 2) shape = decodeShape(message(r));
+    else if (r.field === 4) {
+      expectWire(r, 2);
+      content = r.bytes();
     }
-  } else if (dtype === DT_FLOAT) values = floats;
+    else if (r.field === 5) pushRepeated(r, 4, floats);
+    else if (r.field === 6) pushRepeated(r, 8, doubles);
+    else if (r.field === 13) pushRepeated(r, 0, halves);
+  }
+  let values: number[];
+  if (content !== undefined && content.length > 0) values = contentValues(content, dtype);
+  else if (dtype === DT_FLOAT) values = floats;
   else if (dtype === DT_DOUBLE) values = doubles;
   else if (dtype === DT_HALF) values = halves.map((h) => halfToNumber(h & 0xffff));
+  else values = [];
   return { dtype, shape, values };
 }
 
-function decodePluginName(buf: Uint8Array): string | undefined {
+function decodePluginName(meta: WireReader): string | undefined {
   let name: string | undefined;
-  for (const f of wireFields(buf)) {
-    if (f.field !== 1 || f.wire !== 2) continue;
-    const pd = sub(buf, f);
-    for (const g of wireFields(pd)) if (g.field === 1 && g.wire === 2) name = readString(pd, g.start, g.end);
+  while (meta.next()) {
+    if (meta.field !== 1 || meta.wire !== 2) continue;
+    const pd = message(meta);
+    while (pd.next()) if (pd.field === 1 && pd.wire === 2) name = pd.string();
   }
   return name;
 }
 
-function decodeValue(buf: Uint8Array): SummaryValue {
+function decodeValue(r: WireReader): SummaryValue {
   let tag = "";
   let simpleValue: number | undefined;
   let tensor: TensorValue | undefined;
   let pluginName: string | undefined;
-  for (const f of wireFields(buf)) {
-    if (f.field === 1 && f.wire === 2) tag = readString(buf, f.start, f.end);
-    else if (f.field === 2) {
-      expectWire(f, 5);
-      simpleValue = readFloat(buf, f.at);
-    } else if (f.field === 8) tensor = decodeTensor(sub(buf, f));
-    else if (f.field === 9) pluginName = decodePluginName(sub(buf, f));
+  while (r.next()) {
+    if (r.field === 1 && r.wire === 2) tag = r.string();
+    else if (r.field === 2) {
+      expectWire(r, 5);
+      simpleValue = r.float();
+    } else if (r.field === 8) tensor = readTensor(message(r));
+    else if (r.field === 9) pluginName = decodePluginName(message(r));
   }
   return { tag, simpleValue, tensor, pluginName };
 }
@@ -162,17 +174,18 @@ export function decodeEvent(buf: Uint8Array): TfEvent {
   let step = 0;
   let fileVersion: string | undefined;
   const values: SummaryValue[] = [];
-  for (const f of wireFields(buf)) {
-    if (f.field === 1) {
-      expectWire(f, 1);
-      wallTime = readDouble(buf, f.at);
-    } else if (f.field === 2) {
-      expectWire(f, 0);
-      if (f.wire === 0) step = varintToInt64(f.varint);
-    } else if (f.field === 3 && f.wire === 2) fileVersion = readString(buf, f.start, f.end);
-    else if (f.field === 5) {
-      const s = sub(buf, f);
-      for (const g of wireFields(s)) if (g.field === 1) values.push(decodeValue(sub(s, g)));
+  const r = new WireReader(buf);
+  while (r.next()) {
+    if (r.field === 1) {
+      expectWire(r, 1);
+      wallTime = r.double();
+    } else if (r.field === 2) {
+      expectWire(r, 0);
+      step = varintToInt64(r.varint);
+    } else if (r.field === 3 && r.wire === 2) fileVersion = r.string();
+    else if (r.field === 5) {
+      const summary = message(r);
+      while (summary.next()) if (summary.field === 1) values.push(decodeValue(message(summary)));
     }
   }
   return { wallTime, step, fileVersion, values };

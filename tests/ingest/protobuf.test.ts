@@ -25,6 +25,11 @@ describe("protobuf wire format", () => {
     expect(fields.map((f) => [f.field, f.wire])).toEqual([[1, 0], [2, 2], [3, 5], [4, 1]]);
     expect(fields[0].wire === 0 && fields[0].varint).toBe(150);
     expect(fields[1].wire === 2 && [fields[1].start, fields[1].end]).toEqual([5, 12]);
+    // field 3 fixed32 float 1.0 (00 00 80 3f) and field 4 fixed64 double 1.0 (... f0 3f), little-endian
+    const dv = new DataView(msg.buffer);
+    expect(fields[2].wire === 5 && dv.getFloat32(fields[2].start, true)).toBe(1);
+    expect(fields[3].wire === 1 && dv.getFloat64(fields[3].start, true)).toBe(1);
+    expect(fields.map((f) => f.at)).toEqual([0, 3, 12, 17]);
     expect(() => [...wireFields(Uint8Array.from([0x12, 0x09, 0x41]))]).toThrow(/claims 9 bytes/);
     expect(() => [...wireFields(Uint8Array.from([0x0b]))]).toThrow(/wire type 3/); // a group start: refused
   });
