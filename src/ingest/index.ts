@@ -19,7 +19,7 @@ export { decodeEvent, decodeTensor, eventScalars, scalarOf, DT_DOUBLE, DT_FLOAT,
 export { decodeEventBytes, pointsByTag, type EventBytesResult } from "./event-file.js";
 export { EventFolderReader, isEventFileName, listEventFiles, type EventFileRef, type EventRun, type PollResult } from "./event-folder.js";
 export { detectDelimiter, parseDelimited, parseNumberCell, type CsvChunk, type CsvRecord, type Delimiter } from "./csv.js";
-export { episodeColumn, looksLikeMonitorCsv, MonitorCsvReader, readMonitorCsv, type Episode, type MonitorHeader } from "./monitor-csv.js";
+export { episodeCheckpoints, episodeColumn, looksLikeMonitorCsv, MonitorCsvReader, readMonitorCsv, type Episode, type MonitorHeader } from "./monitor-csv.js";
 export { rollingMean, windowCheckpoints, type StepValue, type WindowCheckpoint } from "./windows.js";
 export { DelimitedReader, JsonLinesReader, readDelimitedSeries, readJsonLinesSeries, STEP_COLUMNS, type TableOptions, type TableSeries } from "./table.js";
 export { detectFormat, parseFormat, INGEST_FORMATS, type IngestFormat } from "./detect.js";

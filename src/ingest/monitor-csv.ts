@@ -9,7 +9,7 @@
  */
 import { InputError } from "../errors.js";
 import { type CsvRecord, parseDelimited, parseNumberCell, Utf8Stream } from "./csv.js";
-import type { StepValue } from "./windows.js";
+import { type StepValue, type WindowCheckpoint, windowCheckpoints } from "./windows.js";
 
 export interface Episode {
   /** 0-based episode number in the file. */
@@ -187,4 +187,9 @@ export function episodeColumn(episodes: readonly Episode[], column: string, file
     if (typeof v !== "number") throw new InputError("ingest.value", `column ${column} of episode ${e.index} is ${JSON.stringify(v)}, expected a number`, file);
     return { step: e.step, value: v };
   });
+}
+
+/** Checkpoints of one column over step windows of `window` steps (see windows.ts for the rule). */
+export function episodeCheckpoints(episodes: readonly Episode[], column: string, window: number, level = 0.95, file = "monitor CSV"): WindowCheckpoint[] {
+  return windowCheckpoints(episodeColumn(episodes, column, file), window, level);
 }

@@ -2,7 +2,7 @@ import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { decodeEventBytes, pointsByTag } from "../../src/ingest/event-file.js";
-import { episodeColumn, looksLikeMonitorCsv, MonitorCsvReader, readMonitorCsv } from "../../src/ingest/monitor-csv.js";
+import { episodeCheckpoints, episodeColumn, looksLikeMonitorCsv, MonitorCsvReader, readMonitorCsv } from "../../src/ingest/monitor-csv.js";
 import { rollingMean, windowCheckpoints } from "../../src/ingest/windows.js";
 import { InputError } from "../../src/errors.js";
 import { trainingLog } from "../helpers/shared-fixtures.js";
@@ -34,6 +34,12 @@ describe("the monitor CSV of a real run (shared/fixtures/training-logs/README.md
       const expected = rollingMean(returns, p.step)!;
       expect(Math.abs(p.value - expected) / Math.abs(expected)).toBeLessThan(1e-7);
     }
+    // Window checkpoints of 2048 steps: the first pools the 10 episodes ending at 200..2000, so its mean
+    // is the trainer's first ep_rew_mean (it had seen exactly those 10 episodes at step 2048).
+    const first = episodeCheckpoints(episodes, "r", 2048)[0];
+    expect([first.step, first.count]).toEqual([2048, 10]);
+    expect(Math.abs(first.mean - rew[0].value) / Math.abs(first.mean)).toBeLessThan(1e-7);
+    expect(first.interval!.lower).toBeLessThan(first.mean);
     // a cross-check that can fail: with a 10-episode window the relation breaks
     expect(rew.some((p) => Math.abs(p.value - rollingMean(returns, p.step, 10)!) / Math.abs(p.value) > 1e-3)).toBe(true);
   });
