@@ -1,9 +1,10 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { formatError, InputError } from "../../src/errors.js";
+import { formatError } from "../../src/errors.js";
 import { compileGrid, goalDistances, GRID_EVENTS, parseGridMap, readGridConfig, type GridConfig } from "../../src/model/grid.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { designerReward } from "../../src/model/reward.js";
+import { catchInputError as catchError } from "../helpers/input-error.js";
 import { valueIteration } from "../../src/solve/dp.js";
 
 const ALL_FEATURES = [...GRID_EVENTS];
@@ -32,16 +33,6 @@ const stateByLabel = (m: FiniteModel, label: string) => {
   return s;
 };
 const UP = 0, RIGHT = 1, DOWN = 2, LEFT = 3;
-
-function catchError(f: () => unknown): InputError {
-  try {
-    f();
-  } catch (e) {
-    if (e instanceof InputError) return e;
-    throw e;
-  }
-  throw new Error("expected an InputError");
-}
 
 describe("parseGridMap: legend and errors", () => {
   it("reads every legend character into its cell kind", () => {
