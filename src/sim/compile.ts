@@ -33,16 +33,45 @@ export function checkNumbers(source: string, what: string, features: Record<stri
   }
 }
 
+/**
+ * Check what a module's `step` (or one outcome of `transitions`) returned, as the episode wrapper and
+ * the compiler both need it: a plain object (not a Promise: steps are synchronous) with a state, a
+ * features object when present, and a boolean `terminated` when present. Getters that throw become
+ * one line naming the call. Returns a plain copy so later reads do not run user getters again.
+ */
+export function checkStepResult<S>(source: string, what: string, r: unknown): { state: S; features: Record<string, number>; intent?: number; terminated: boolean; p?: unknown } {
+  return guard(source, what, () => {
+    if (r !== null && (typeof r === "object" || typeof r === "function") && typeof (r as { then?: unknown }).then === "function") {
+      throw new InputError("module.result", `${what} returned a Promise; step must be synchronous and return { state, features, intent, terminated }`, source);
+    }
+    if (!r || typeof r !== "object") throw new InputError("module.result", `${what} returned ${r === null ? "null" : typeof r}; step must return { state, features, intent, terminated }`, source);
+    const o = r as Record<string, unknown>;
+    const state = o.state as S;
+    if (state === undefined) throw new InputError("module.result", `${what} returned no state; step must return { state, features, intent, terminated }`, source);
+    const features = o.features ?? {};
+    if (typeof features !== "object" || features === null || Array.isArray(features)) throw new InputError("module.result", `${what} returned features that are not an object of numbers by name`, source);
+    const terminated = o.terminated;
+    if (terminated !== undefined && typeof terminated !== "boolean") throw new InputError("module.result", `${what} returned terminated = ${String(terminated).slice(0, 40)}; it must be true or false`, source);
+    const intent = o.intent as number | undefined;
+    return { state, features: { ...(features as Record<string, number>) }, intent, terminated: terminated === true, p: o.p };
+  });
+}
+
 function outcomesOf<S>(def: EnvDefinition<S>, state: S, a: number, source: string, label: string): Outcome<S>[] {
   const what = `step(${label}, ${def.actions[a]})`;
   if (def.transitions) {
-    const outs = guard(source, `transitions(${label}, ${def.actions[a]})`, () => def.transitions!(state, a));
-    if (!Array.isArray(outs) || outs.length === 0) throw new InputError("module.transitions", `transitions(${label}, ${def.actions[a]}) returned no outcomes`, source);
-    return outs;
+    const call = `transitions(${label}, ${def.actions[a]})`;
+    const outs = guard(source, call, () => def.transitions!(state, a));
+    if (!Array.isArray(outs) || outs.length === 0) throw new InputError("module.transitions", `${call} returned no outcomes`, source);
+    return outs.map((o, i) => {
+      const c = checkStepResult<S>(source, `${call} outcome ${i}`, o);
+      if (typeof c.p !== "number" || !(c.p > 0 && c.p <= 1)) throw new InputError("module.transitions", `${call} outcome ${i} has probability ${String(c.p).slice(0, 40)}; each p must be in (0, 1]`, source);
+      return { ...c, p: c.p };
+    });
   }
   // Deterministic module: two probes with different seeds must agree.
-  const r1 = guard(source, what, () => def.step(state, a, createRng("probe-1")));
-  const r2 = guard(source, what, () => def.step(state, a, createRng("probe-2")));
+  const r1 = checkStepResult<S>(source, what, guard(source, what, () => def.step(state, a, createRng("probe-1"))));
+  const r2 = checkStepResult<S>(source, what, guard(source, what, () => def.step(state, a, createRng("probe-2"))));
   const k = (r: typeof r1) => canonicalKey([r.state, r.features, r.intent ?? 0, r.terminated]);
   if (k(r1) !== k(r2)) {
     throw new InputError("module.stochastic", `${what} is random but the module has no transitions(); add transitions() or set finite: false`, source);
@@ -96,7 +125,7 @@ export function compileModuleStates<S>(def: EnvDefinition<S>, opts: CompileOptio
         if (terminalIds.has(next) && continuing.has(next)) {
           throw new InputError("module.terminalConflict", `state ${key(out.state)} is reached both with terminated=true and terminated=false; termination must depend on the state reached`, source);
         }
-        edges.push({ s: i, a, next, p: out.p, f: def.features.map((f) => out.features?.[f] ?? 0), intent: out.intent ?? 0 });
+        edges.push({ s: i, a, next, p: out.p, f: def.features.map((f) => (Object.hasOwn(out.features, f) ? out.features[f] : 0)), intent: out.intent ?? 0 });
       }
     }
   }

@@ -11,7 +11,7 @@
  */
 import { InputError } from "../errors.js";
 import type { Rng } from "../rng/rng.js";
-import { checkNumbers, guard } from "./compile.js";
+import { checkNumbers, checkStepResult, guard } from "./compile.js";
 import { canonicalKey, DEFAULT_MODULE_HORIZON, type EnvDefinition } from "./define.js";
 
 export interface EpisodeStep<S> {
@@ -105,16 +105,13 @@ export class Episode<S> {
     }
     const t = this.steps + 1;
     const what = `step ${t} (state ${stateText(this.def as EnvDefinition<unknown>, this.current)}, action ${this.def.actions[action]})`;
-    const r = guard(src, what, () => this.def.step(this.current as S, action, rng));
-    if (!r || typeof r !== "object" || !("state" in r) || r.state === undefined) {
-      throw new InputError("module.result", `${what} returned no state; step must return { state, features, intent, terminated }`, src);
-    }
-    const features = r.features ?? {};
+    const r = checkStepResult<S>(src, what, guard(src, what, () => this.def.step(this.current as S, action, rng)));
+    const features = r.features;
     const intent = r.intent ?? 0;
     if (this.validate) checkNumbers(src, what, features, r.intent, this.def.features);
     this.current = r.state;
     this.steps = t;
-    const terminated = r.terminated === true;
+    const terminated = r.terminated;
     const truncated = !terminated && t >= this.horizon;
     if (terminated) this.end = { how: "terminated", t };
     else if (truncated) this.end = { how: "truncated", t };

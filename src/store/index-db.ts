@@ -10,7 +10,7 @@
  * concurrent `gapwatch runs` read while a sweep is writing.
  */
 import Database from "better-sqlite3";
-import { existsSync, mkdirSync, readdirSync, readFileSync } from "node:fs";
+import { existsSync, mkdirSync, readdirSync, readFileSync, statSync } from "node:fs";
 import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { readRun, RUN_FILES } from "./run-store.js";
@@ -135,14 +135,20 @@ export class RunIndex {
   readonly file: string;
   private readonly db: Database.Database;
 
-  constructor(readonly runsDir: string) {
+  /** `inMemory`: a throw-away index that writes nothing to disk (for reading commands when there is no index file). */
+  constructor(readonly runsDir: string, opts: { inMemory?: boolean } = {}) {
     const dir = resolve(runsDir);
+    this.file = join(dir, INDEX_FILE);
+    if (opts.inMemory) {
+      this.db = new Database(":memory:");
+      this.db.exec(SCHEMA);
+      return;
+    }
     try {
       mkdirSync(dir, { recursive: true });
     } catch (err) {
       throw new InputError("store.runsDir", `cannot create the runs directory: ${(err as Error).message}; pass a writable --runs-dir`, dir);
     }
-    this.file = join(dir, INDEX_FILE);
     try {
       this.db = new Database(this.file);
       this.db.pragma("journal_mode = WAL");
@@ -281,6 +287,22 @@ export function openIndex(runsDir: string): RunIndex {
   const ix = new RunIndex(runsDir);
   if (missing) ix.rebuild();
   return ix;
+}
+
+/**
+ * Open the index of an existing runs folder for reading, creating nothing: a folder that does not exist
+ * is an input error (a mistyped --runs-dir used to create a folder and an empty index); a folder
+ * without index.db is read into a throw-away in-memory index (`persisted: false`).
+ */
+export function openIndexForReading(runsDir: string): { index: RunIndex; persisted: boolean } {
+  const dir = resolve(runsDir);
+  if (!existsSync(dir) || !statSync(dir).isDirectory()) {
+    throw new InputError("store.runsDirMissing", `there is no runs folder here; pass the --runs-dir that train or compare wrote to (default ./runs)`, dir);
+  }
+  if (existsSync(join(dir, INDEX_FILE))) return { index: new RunIndex(dir), persisted: true };
+  const index = new RunIndex(dir, { inMemory: true });
+  index.rebuild();
+  return { index, persisted: false };
 }
 
 /** Record one finished run in its runs directory's index (opens and closes the database). */

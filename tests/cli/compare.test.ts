@@ -1,4 +1,4 @@
-import { existsSync, readFileSync, rmSync } from "node:fs";
+import { existsSync, readdirSync, readFileSync, rmSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { memoryIO } from "../../src/cli/io.js";
@@ -55,6 +55,12 @@ describe("gapwatch compare / runs", () => {
     const text = await cli("runs", "--runs-dir", runsDir, "--verdict", "aligned");
     expect(text.code).toBe(0);
     expect(text.out).toMatch(/3 run\(s\)/);
+    // The status column: a run without its summary (killed mid-way) reads as interrupted, not finished.
+    expect(text.out.split("\n")[0]).toMatch(/\bstatus\b/);
+    expect(text.out).toMatch(/\bcomplete\b/);
+    rmSync(join(runsDir, all.runs[0].runId, "summary.json"));
+    const after = await cli("runs", "--runs-dir", runsDir, "--rebuild");
+    expect(after.out).toMatch(/\binterrupted\b/);
   });
 
   it("--run-timeout stops a run whose module step never returns and reports it as batch.timeout; a bad value exits 2 with one line", async () => {
@@ -73,16 +79,15 @@ describe("gapwatch compare / runs", () => {
     }
   });
 
-  it("a broken reward file fails its runs (reported) while the other variant completes; bad flags exit 2 with one line", async () => {
+  it("a broken reward file stops the sweep before any run (one line naming it, exit 2); bad flags exit 2 with one line", async () => {
     const runsDir = tempDir("cli-bad");
+    // Every variant is resolved before the first run: nothing is trained or written.
     const r = await cli("compare", "--env", "tests/fixtures/batch/corridor.json", "--rewards", "default,tests/fixtures/batch/bad-reward.json", "--seeds", "2", "--steps", "300", "--workers", "1", "--runs-dir", runsDir, "--bootstrap-reps", "100", "--json");
-    expect(r.code).toBe(0);
-    const doc = JSON.parse(r.out);
-    expect(doc.variants[0].runs).toBe(2);
-    expect(doc.variants[1]).toMatchObject({ runs: 0, failed: 2 });
-    expect(doc.failed).toHaveLength(2);
-    expect(doc.failed[0].code).toMatch(/^reward\./);
-    expect(doc.ranking).toEqual(["default", "tests/fixtures/batch/bad-reward.json"]);
+    expect(r.code).toBe(2);
+    expect(r.out).toBe("");
+    expect(r.err.trim().split("\n")).toHaveLength(1);
+    expect(r.err).toMatch(/\[reward\.[A-Za-z]+\].*bad-reward\.json/);
+    expect(readdirSync(runsDir)).toEqual([]);
     const bad = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "fast", "--learners", "nope", "--runs-dir", runsDir);
     expect(bad.code).toBe(2);
     expect(bad.err.trim().split("\n")).toHaveLength(1);
@@ -92,6 +97,13 @@ describe("gapwatch compare / runs", () => {
     expect(q.err).toMatch(/redis:\/\//);
     const v = await cli("runs", "--runs-dir", runsDir, "--verdict", "maybe");
     expect(v.code).toBe(2);
-    expect(existsSync(join(runsDir, "index.db"))).toBe(true);
+    // Reading commands create nothing: a mistyped runs folder is an error, a folder without an index stays without one.
+    const typo = join(runsDir, "nope");
+    const t = await cli("runs", "--runs-dir", typo);
+    expect(t.code).toBe(2);
+    expect(t.err).toContain("store.runsDirMissing");
+    expect(existsSync(typo)).toBe(false);
+    expect((await cli("runs", "--runs-dir", runsDir, "--json")).code).toBe(0);
+    expect(existsSync(join(runsDir, "index.db"))).toBe(false);
   });
 });

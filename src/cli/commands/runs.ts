@@ -5,7 +5,7 @@
 import type { Command } from "commander";
 import { resolve } from "node:path";
 import { InputError } from "../../errors.js";
-import { openIndex, RunIndex } from "../../store/index-db.js";
+import { openIndex, openIndexForReading, RunIndex } from "../../store/index-db.js";
 import { action, type CliContext } from "../context.js";
 import { emit, paint, table, useColor } from "../io.js";
 
@@ -29,7 +29,8 @@ export function registerRuns(program: Command, ctx: CliContext): void {
         }
         const runsDir = resolve(ctx.io.cwd, opts.runsDir ?? "runs");
         let rebuilt: ReturnType<RunIndex["rebuild"]> | undefined;
-        const ix = openIndex(runsDir);
+        // Listing creates nothing; --rebuild (an explicit write) may create the index file.
+        const { index: ix, persisted } = opts.rebuild ? { index: openIndex(runsDir), persisted: true } : openIndexForReading(runsDir);
         try {
           if (opts.rebuild) rebuilt = ix.rebuild();
           const runs = ix.listRuns({ env: opts.env, reward: opts.reward, learner: opts.learner, verdict: opts.verdict });
@@ -37,11 +38,12 @@ export function registerRuns(program: Command, ctx: CliContext): void {
           const doc = { index: ix.file, runs, comparisons, ...(rebuilt ? { rebuilt } : {}) };
           emit(ctx.io, Boolean(opts.json), doc, () => {
             const color = useColor(ctx.io);
-            let t = rebuilt ? `rebuilt ${ix.file}: ${rebuilt.runs} runs, ${rebuilt.comparisons} comparisons${rebuilt.skipped.length ? `, skipped ${rebuilt.skipped.join(", ")}` : ""}\n\n` : "";
+            let t = persisted ? "" : `(no index file in ${runsDir}: listed from the run folders, nothing written; gapwatch runs --rebuild writes one)\n\n`;
+            t += rebuilt ? `rebuilt ${ix.file}: ${rebuilt.runs} runs, ${rebuilt.comparisons} comparisons${rebuilt.skipped.length ? `, skipped ${rebuilt.skipped.join(", ")}` : ""}\n\n` : "";
             const vc = (v: string) => paint(color, v === "aligned" ? "green" : v === "decoupled" ? "red" : "yellow", v);
             t += table(
-              ["env", "reward", "learner", "seed", "verdict", "designer", "intent", "alerts", "run"],
-              runs.map((r) => [r.env, r.reward, r.learner, r.seed, vc(r.verdict), r.designer === null ? "-" : r.designer.toFixed(2), r.intent === null ? "-" : r.intent.toFixed(2), r.alerts, r.runId]),
+              ["env", "reward", "learner", "seed", "status", "verdict", "designer", "intent", "alerts", "run"],
+              runs.map((r) => [r.env, r.reward, r.learner, r.seed, r.status === "complete" ? r.status : paint(color, "yellow", r.status), vc(r.verdict), r.designer === null ? "-" : r.designer.toFixed(2), r.intent === null ? "-" : r.intent.toFixed(2), r.alerts, r.runId]),
               { color },
             );
             t += `${runs.length} run(s)\n`;
