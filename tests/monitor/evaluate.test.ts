@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { join } from "node:path";
-import { loadModelFile } from "../../src/model/format.js";
+import { loadModelFile } from "../../src/model/format/model-file.js";
 import { builtinScenarioNames, loadScenario } from "../../src/model/registry.js";
 import { ModelBuilder } from "../../src/model/builder.js";
 import { designerReward } from "../../src/model/reward.js";
