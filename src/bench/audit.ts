@@ -9,7 +9,7 @@ import { runAudit } from "../audit/run.js";
 import { builtinScenarioNames, loadScenario, resolveReward } from "../model/registry.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { valueIteration } from "../solve/dp.js";
+import { valueIteration } from "../solve/value-iteration.js";
 import { LAVA_VARIANT, lavaModel } from "./lava.js";
 
 export interface AuditTiming {

@@ -18,7 +18,9 @@ import { loadModelFile } from "../../src/model/format/model-file.js";
 import { builtinScenarioNames, loadScenario, readScenarioMeta, type TrapKind } from "../../src/model/registry.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel, RewardVariant } from "../../src/model/types.js";
-import { deterministicPolicy, evaluatePolicy, startValue, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy, startValue } from "../../src/solve/policy.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { solveVariant } from "../../src/solve/compare.js";
 
 /** Which check names each declared trap kind (our mapping; see README "Static audit and pressure"). */

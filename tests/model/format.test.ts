@@ -12,7 +12,10 @@ import { parseRewardFile } from "../../src/model/format/reward-file.js";
 import { DEFAULT_HORIZON, type ModelDocument } from "../../src/model/format/schema.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel, RewardVariant } from "../../src/model/types.js";
-import { actionValues, deterministicPolicy, evaluatePolicy, uniformPolicy, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy, uniformPolicy } from "../../src/solve/policy.js";
+import { actionValues } from "../../src/solve/sweeps.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 
 const here = dirname(fileURLToPath(import.meta.url));
 const fixtures = join(here, "..", "fixtures");

@@ -4,7 +4,7 @@ import { formatError, InputError } from "../../src/errors.js";
 import { compileGrid, goalDistances, GRID_EVENTS, parseGridMap, readGridConfig, type GridConfig } from "../../src/model/grid.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { designerReward } from "../../src/model/reward.js";
-import { valueIteration } from "../../src/solve/dp.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 
 const ALL_FEATURES = [...GRID_EVENTS];
 function cfg(extra: Partial<GridConfig> = {}): GridConfig {
