@@ -36,9 +36,6 @@ import { isCsr, stronglyConnectedComponents, subgraph, toCsr, type Digraph, type
 import { howardComponent } from "./mean-cycle/howard.js";
 import { karpComponent, karpTableLocal } from "./mean-cycle/karp.js";
 
-export type { Components, CsrDigraph, Digraph, EdgeListDigraph, GraphEdge } from "./mean-cycle/graph.js";
-export { stronglyConnectedComponents } from "./mean-cycle/graph.js";
-
 export type MeanCycleMethod = "karp" | "howard";
 
 export interface MeanCycleOptions {
