@@ -11,21 +11,9 @@
  * The agent acts greedily on Q1 + Q2 (lowest index on ties) and reports (Q1 + Q2) / 2 as its values.
  */
 import type { TabularEnv } from "../src/model/learner-view.js";
-import {
-  TWO32,
-  TabularAgent,
-  TabularRateSession,
-  argmaxRow,
-  drive,
-  driveAsync,
-  growFloat,
-  randomAction,
-  resolveTabular,
-  type Agent,
-  type TabularConfig,
-  type TrainOptions,
-  type TrainResult,
-} from "./common.js";
+import { drive, driveAsync, growFloat, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
+import { TWO32, argmaxRow, randomAction } from "./selection.js";
+import { TabularAgent, TabularRateSession, resolveTabular, type TabularConfig } from "./tabular.js";
 
 export const NAME = "double-q";
 const HALF = 2147483648;

@@ -11,20 +11,9 @@
  * It is on-policy for the ε-greedy policy, like SARSA, but the expectation removes the variance of a'.
  */
 import type { TabularEnv } from "../src/model/learner-view.js";
-import {
-  TWO32,
-  TabularAgent,
-  TabularRateSession,
-  argmaxRow,
-  drive,
-  driveAsync,
-  epsilonGreedy,
-  resolveTabular,
-  type Agent,
-  type TabularConfig,
-  type TrainOptions,
-  type TrainResult,
-} from "./common.js";
+import { drive, driveAsync, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
+import { TWO32, argmaxRow, epsilonGreedy } from "./selection.js";
+import { TabularAgent, TabularRateSession, resolveTabular, type TabularConfig } from "./tabular.js";
 
 export const NAME = "expected-sarsa";
 

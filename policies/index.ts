@@ -4,15 +4,17 @@
  */
 import type { TabularEnv } from "../src/model/learner-view.js";
 import { InputError } from "../src/errors.js";
-import { drive, driveAsync, type Session, type TrainOptions, type TrainResult } from "./common.js";
+import { drive, driveAsync, type Session, type TrainOptions, type TrainResult } from "./driver.js";
 import { QLearningSession, resolveQLearning, type QLearningConfig } from "./qlearning.js";
 import { SarsaSession, resolveSarsa, type SarsaConfig } from "./sarsa.js";
 import { ExpectedSarsaSession, resolveExpectedSarsa, type ExpectedSarsaConfig } from "./expected-sarsa.js";
 import { DoubleQSession, resolveDoubleQ, type DoubleQConfig } from "./double-q.js";
 import { LinearSarsaSession, resolveLinearSarsa, type LinearSarsaConfig } from "./linear-sarsa.js";
 
-export type { Agent, Session, TrainOptions, TrainResult, TrainStats, TabularConfig } from "./common.js";
-export { argmaxRow, epsilonGreedy, greedyProbability, drive, driveAsync } from "./common.js";
+export type { Agent, Session, TrainOptions, TrainResult, TrainStats } from "./driver.js";
+export type { TabularConfig } from "./tabular.js";
+export { argmaxRow, epsilonGreedy, greedyProbability } from "./selection.js";
+export { drive, driveAsync } from "./driver.js";
 export { scheduleValue, type Schedule, type ScheduleSpec } from "./schedules.js";
 export { trainQLearning, trainQLearningAsync, type QLearningConfig } from "./qlearning.js";
 export type { SarsaConfig, ExpectedSarsaConfig, DoubleQConfig, LinearSarsaConfig };

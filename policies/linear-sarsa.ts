@@ -15,22 +15,9 @@
 import type { TabularEnv } from "../src/model/learner-view.js";
 import { InputError } from "../src/errors.js";
 import { TileCoder, type TileCodingConfig } from "./tile-coding.js";
-import {
-  TWO32,
-  checkEnv,
-  drive,
-  driveAsync,
-  envRngOf,
-  newStats,
-  growFloat,
-  resolveTabular,
-  type Agent,
-  type Session,
-  type TabularConfig,
-  type TrainOptions,
-  type TrainResult,
-  type TrainStats,
-} from "./common.js";
+import { checkEnv, drive, driveAsync, envRngOf, newStats, growFloat, type Agent, type Session, type TrainOptions, type TrainResult, type TrainStats } from "./driver.js";
+import { TWO32 } from "./selection.js";
+import { resolveTabular, type TabularConfig } from "./tabular.js";
 import { constantValue, scheduleValue, toSchedule, type Schedule } from "./schedules.js";
 import type { Rng } from "../src/rng/rng.js";
 

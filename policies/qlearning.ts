@@ -16,19 +16,9 @@
  */
 import type { LearnerView, TabularEnv } from "../src/model/learner-view.js";
 import { sampleStart } from "../src/model/learner-view.js";
-import {
-  TWO32,
-  TabularAgent,
-  TabularRateSession,
-  drive,
-  driveAsync,
-  maxRow,
-  resolveTabular,
-  type Agent,
-  type TabularConfig,
-  type TrainOptions,
-  type TrainResult,
-} from "./common.js";
+import { drive, driveAsync, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
+import { TWO32, maxRow } from "./selection.js";
+import { TabularAgent, TabularRateSession, resolveTabular, type TabularConfig } from "./tabular.js";
 
 export const NAME = "q-learning";
 

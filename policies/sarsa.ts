@@ -11,17 +11,8 @@
  * Draw order per step: the ε-greedy draws for a' (one or two), then any environment draws.
  */
 import type { TabularEnv } from "../src/model/learner-view.js";
-import {
-  TabularAgent,
-  TabularRateSession,
-  drive,
-  driveAsync,
-  resolveTabular,
-  type Agent,
-  type TabularConfig,
-  type TrainOptions,
-  type TrainResult,
-} from "./common.js";
+import { drive, driveAsync, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
+import { TabularAgent, TabularRateSession, resolveTabular, type TabularConfig } from "./tabular.js";
 
 export const NAME = "sarsa";
 

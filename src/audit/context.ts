@@ -19,7 +19,9 @@
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { solveVariant, type SolveReport } from "../solve/compare.js";
-import { deterministicPolicy, evaluatePolicy, startValue, uniformPolicy, type Policy } from "../solve/dp.js";
+import { evaluatePolicy } from "../solve/evaluation.js";
+import { deterministicPolicy, startValue, uniformPolicy } from "../solve/policy.js";
+import type { Policy } from "../solve/sweeps.js";
 
 export interface AuditOptions {
   /** Discount (default: the model's). */

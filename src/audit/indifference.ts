@@ -30,7 +30,9 @@
  */
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
-import { evaluatePolicy, startValue, type Policy } from "../solve/dp.js";
+import { evaluatePolicy } from "../solve/evaluation.js";
+import { startValue } from "../solve/policy.js";
+import type { Policy } from "../solve/sweeps.js";
 
 export interface Lottery {
   /** Designer return when the risky behaviour succeeds. */

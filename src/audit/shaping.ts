@@ -33,6 +33,7 @@
  */
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
+import { choiceLoop, modelChoiceGraph } from "./choice-graph.js";
 import { maxMeanCycle, minMeanCycle } from "./cycles.js";
 
 /** One constraint F(s, a, s') = gamma Phi(s') - Phi(s), i.e. one outcome of a non-terminal state. */
@@ -174,34 +175,14 @@ export function checkPotentialShaping(model: FiniteModel, F: Float64Array, opts:
 
 /** The directed loop with the largest |mean F| beyond tol, preferring a positive one (gamma = 1). */
 function directedLoop(model: FiniteModel, F: Float64Array, tol: number): ShapingLoop | undefined {
-  const { nStates: nS, nActions: nA, saStart, next, prob, terminal } = model;
-  const start = new Int32Array(nS + 1);
-  for (let s = 0; s < nS; s++) {
-    let c = 0;
-    if (!terminal[s]) for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) if (prob[o] > 0) c++;
-    start[s + 1] = start[s] + c;
-  }
-  const to = new Int32Array(start[nS]);
-  const weight = new Float64Array(start[nS]);
-  const outcome = new Int32Array(start[nS]);
-  let j = 0;
-  for (let s = 0; s < nS; s++) {
-    if (terminal[s]) continue;
-    for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) {
-      if (!(prob[o] > 0)) continue;
-      to[j] = next[o];
-      weight[j] = F[o];
-      outcome[j] = o;
-      j++;
-    }
-  }
-  const graph = { n: nS, start, to, weight };
+  const graph = modelChoiceGraph(model, F, { positive: true });
   const hi = maxMeanCycle(graph);
   const lo = hi && hi.mean > tol ? hi : minMeanCycle(graph);
   const pick = hi && hi.mean > tol ? hi : lo && lo.mean < -tol ? lo : null;
   if (!pick) return undefined;
   const sum = pick.weights.reduce((x, y) => x + y, 0);
-  return { states: pick.vertices, outcomes: pick.edges.map((e) => outcome[e]), sum, mean: pick.mean };
+  const { states, outcomes } = choiceLoop(graph, pick);
+  return { states, outcomes, sum, mean: pick.mean };
 }
 
 /** Does reward `a` equal reward `b` plus potential-based shaping? Checks F = a - b. */

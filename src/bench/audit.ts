@@ -9,7 +9,8 @@ import { runAudit } from "../audit/run.js";
 import { builtinScenarioNames, loadScenario, resolveReward } from "../model/registry.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { valueIteration } from "../solve/dp.js";
+import { valueIteration } from "../solve/value-iteration.js";
+import { median } from "./harness.js";
 import { LAVA_VARIANT, lavaModel } from "./lava.js";
 
 export interface AuditTiming {
@@ -23,10 +24,6 @@ export interface AuditTiming {
 }
 
 const now = (): number => Number(process.hrtime.bigint()) / 1e9;
-const median = (xs: number[]): number => {
-  const s = [...xs].sort((a, b) => a - b);
-  return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2;
-};
 
 export function timeAudit(name: string, model: FiniteModel, variant: RewardVariant, runs: number, sensitivity: boolean): AuditTiming {
   const rd = designerReward(model, variant);

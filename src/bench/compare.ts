@@ -23,6 +23,7 @@ import { createHash } from "node:crypto";
 import { runCompare } from "../batch/compare.js";
 import { startRedis } from "../batch/redis-server.js";
 import { formatError, InputError } from "../errors.js";
+import { median } from "./harness.js";
 
 const out = (line = ""): void => {
   process.stdout.write(line + "\n");
@@ -102,11 +103,6 @@ function fingerprint(runsDir: string, stats: unknown): string {
   h.update(JSON.stringify(stats));
   return h.digest("hex").slice(0, 16);
 }
-
-const median = (xs: number[]) => {
-  const s = [...xs].sort((a, b) => a - b);
-  return s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2;
-};
 
 export async function benchCompare(args: Args): Promise<{ ok: boolean; summary: string[] }> {
   const seeds = Array.from({ length: args.seeds }, (_, i) => i + 1);

@@ -1,5 +1,5 @@
 /**
- * Our implementations on the lava benchmark: generic value iteration (src/solve/dp.ts) and tabular
+ * Our implementations on the lava benchmark: generic value iteration (src/solve/value-iteration.ts) and tabular
  * Q-learning (src/bench/ql.ts) over the FiniteModel of lava.ts, returning the CHECK line and the
  * time of the timed region only (PROBLEM.md section 7):
  *  - vi: `valueSweeps`, the sweeps of `valueIteration`. Its tables (`sweepPlan`: expected reward, live
@@ -11,7 +11,8 @@
  *    Model building, the learner view, checksums and the rollout are outside.
  */
 import { Xorshift32 } from "../rng/rng.js";
-import { actionValues, greedyActions, sweepPlan, valueSweeps, type Evaluation } from "../solve/dp.js";
+import { actionValues, greedyActions, type Evaluation } from "../solve/sweeps.js";
+import { sweepPlan, valueSweeps } from "../solve/value-iteration.js";
 import { prepareParallelSweeps } from "../solve/parallel.js";
 import { argmaxRow, greedyRollout, qlCheckLine, viCheckLine } from "./check.js";
 import { KIND_GOAL, KIND_LAVA, LAVA_GAMMA, lavaModel, type LavaProblem } from "./lava.js";

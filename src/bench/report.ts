@@ -16,7 +16,7 @@ import type { ComparisonDoc, ComparisonReportData } from "../report/data.js";
 import { renderComparisonReport } from "../report/comparison-report.js";
 import { Xorshift32 } from "../rng/rng.js";
 import type { RunResult } from "../store/types.js";
-import type { BenchEntry } from "./main.js";
+import { median, type BenchEntry } from "./harness.js";
 
 export const REPORT_VARIANTS = 20;
 export const REPORT_SEEDS = 10;
@@ -101,11 +101,6 @@ export async function reportChild(rounds: number, variants: number): Promise<voi
     process.stdout.write(`TIME report variants=${variants} runs=${data.runs.length} seconds=${s.toFixed(4)} bytes=${html.length}\n`);
   }
 }
-
-const median = (xs: number[]): number => {
-  const s = [...xs].sort((a, b) => a - b);
-  return s.length === 0 ? NaN : s.length % 2 ? s[(s.length - 1) / 2] : (s[s.length / 2 - 1] + s[s.length / 2]) / 2;
-};
 
 export const reportEntry: BenchEntry = {
   name: "report",

@@ -1,4 +1,6 @@
 export { runCheck, checkSubject, DEFAULT_CHECK_RUNS, DEFAULT_CHECK_SEED, type CheckOptions, type CheckReport } from "./run.js";
-export { PROPERTIES, propertiesFor, FREQUENCY_ALPHA, FREQUENCY_SAMPLES, type PropertyResult, type PropertySpec } from "./properties.js";
+export { PROPERTIES, propertiesFor } from "./property-list.js";
+export { FREQUENCY_ALPHA, FREQUENCY_SAMPLES } from "./properties/transition-frequencies.js";
+export type { PropertyResult, PropertySpec } from "./harness.js";
 export { subjectOf, type CheckSubject } from "./subject.js";
 export { chiSquareCdf, chiSquareQuantile, chiSquareSurvival, chiSquareTest, regularizedGammaP, lnGamma } from "./chisq.js";

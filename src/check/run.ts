@@ -6,7 +6,8 @@ import { InputError } from "../errors.js";
 import { loadEnv } from "../model/registry.js";
 import { setMaxStates } from "../sim/load.js";
 import { DEFAULT_MAX_STATES } from "../sim/define.js";
-import { propertiesFor, type PropertyResult } from "./properties.js";
+import type { PropertyResult } from "./harness.js";
+import { propertiesFor } from "./property-list.js";
 import { subjectOf, type CheckSubject } from "./subject.js";
 
 export interface CheckOptions {

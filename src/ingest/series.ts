@@ -3,7 +3,7 @@
  * choice of the designer and intent series among them. Names are data: Maps only.
  */
 import { InputError } from "../errors.js";
-import { didYouMean } from "../model/format.js";
+import { didYouMean } from "../model/format/json-errors.js";
 import type { ScalarPoint } from "./tf-event.js";
 
 export interface Series {

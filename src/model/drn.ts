@@ -68,7 +68,7 @@ import { readFileSync } from "node:fs";
 import { basename } from "node:path";
 import { InputError } from "../errors.js";
 import { ModelBuilder, PROB_TOLERANCE } from "./builder.js";
-import { DEFAULT_HORIZON } from "./format.js";
+import { DEFAULT_HORIZON } from "./format/schema.js";
 import type { FiniteModel } from "./types.js";
 
 export interface DrnParseOptions {

@@ -3,7 +3,7 @@
  * place besides the solvers that reads `model.intent`.
  *
  * Two evaluators return the same `Scores` shape:
- * - `evaluateExact`: iterative policy evaluation (src/solve/dp.ts `evaluatePolicy`) of the designer
+ * - `evaluateExact`: iterative policy evaluation (src/solve/evaluation.ts `evaluatePolicy`) of the designer
  *   reward and of the intent, from the start distribution. No sampling noise. It evaluates only the
  *   states the policy can reach from a start state (the start value depends on nothing else), with
  *   in-place sweeps ordered successors-first, which keeps a checkpoint cheap.
@@ -14,13 +14,16 @@
  * Normalization (both): 0 = the uniform-random policy, 1 = the optimal policy for that score
  * (`normalizeScore` from src/solve/compare.ts). The references are computed once per run by
  * `scoreReferences` (value iteration for each score; the uniform policy's values by the fixed-point
- * evaluator of src/solve/dp.ts, within 1e-9 absolute of the exact values, guaranteed for gamma < 1).
+ * evaluator of src/solve/evaluation.ts, within 1e-9 absolute of the exact values, guaranteed for gamma < 1).
  */
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import type { Rng } from "../rng/rng.js";
 import { normalizeScore } from "../solve/compare.js";
-import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, startValue, uniformPolicy, valueIteration, type Policy } from "../solve/dp.js";
+import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY } from "../solve/evaluation.js";
+import { startValue, uniformPolicy } from "../solve/policy.js";
+import type { Policy } from "../solve/sweeps.js";
+import { valueIteration } from "../solve/value-iteration.js";
 import { normalQuantile } from "../stats/normal.js";
 
 /** Scores of one policy. `designer` / `intent` are expected discounted returns from the start distribution. */

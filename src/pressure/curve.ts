@@ -19,7 +19,10 @@
  */
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { evaluatePolicy, startValue, uniformPolicy, valueIteration, type Policy } from "../solve/dp.js";
+import { evaluatePolicy } from "../solve/evaluation.js";
+import { startValue, uniformPolicy } from "../solve/policy.js";
+import type { Policy } from "../solve/sweeps.js";
+import { valueIteration } from "../solve/value-iteration.js";
 import { softValueIteration } from "../solve/soft.js";
 import { InputError } from "../errors.js";
 

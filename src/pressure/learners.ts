@@ -7,7 +7,8 @@ import { learnerView, viewEnv } from "../model/learner-view.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { createRng } from "../rng/rng.js";
-import { deterministicPolicy, evaluatePolicy, startValue } from "../solve/dp.js";
+import { evaluatePolicy } from "../solve/evaluation.js";
+import { deterministicPolicy, startValue } from "../solve/policy.js";
 
 export interface LearnerPoint {
   steps: number;

@@ -11,7 +11,7 @@
 import { readFileSync } from "node:fs";
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
-import type { Policy } from "../solve/dp.js";
+import type { Policy } from "../solve/sweeps.js";
 
 export const REFERENCE_SMOOTHING = 0.1;
 

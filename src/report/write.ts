@@ -5,7 +5,7 @@
  */
 import { existsSync, mkdirSync, readFileSync } from "node:fs";
 import { dirname, join, resolve } from "node:path";
-import { parseRewardFile } from "../model/format.js";
+import { parseRewardFile } from "../model/format/reward-file.js";
 import { loadEnv } from "../model/registry.js";
 import type { FiniteModel } from "../model/types.js";
 import { writeFileAtomic } from "../store/atomic.js";

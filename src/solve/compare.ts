@@ -10,7 +10,10 @@
  */
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { deterministicPolicy, evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, startValue, uniformPolicy, valueIteration, type SolveOptions } from "./dp.js";
+import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY } from "./evaluation.js";
+import { deterministicPolicy, startValue, uniformPolicy } from "./policy.js";
+import type { SolveOptions } from "./sweeps.js";
+import { valueIteration } from "./value-iteration.js";
 
 export interface OptimalSide {
   values: Float64Array;

@@ -21,14 +21,15 @@ import { fileURLToPath, pathToFileURL } from "node:url";
 import { Worker } from "node:worker_threads";
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
-import { actionValues, DEFAULT_TOL, defaultMaxIters, greedyActions, rangeSweepFor, sweepPlan, type Evaluation, type Solution, type SolveOptions, type SweepPlan, type SweepTables } from "./dp.js";
+import { actionValues, DEFAULT_TOL, defaultMaxIters, greedyActions, type Evaluation, type Solution, type SolveOptions } from "./sweeps.js";
+import { rangeSweepFor, sweepPlan, type SweepPlan, type SweepTables } from "./value-iteration.js";
 
 export interface ParallelOptions extends SolveOptions {
   /** Threads taking part in each sweep, the calling one included. Default 2. */
   threads?: number;
 }
 
-/** The arrays a sweep reads, in shared memory (see `SweepTables` in dp.ts). */
+/** The arrays a sweep reads, in shared memory (see `SweepTables` in value-iteration.ts). */
 export type SharedTables = SweepTables;
 
 /** Everything a worker needs (structured-cloned; the SharedArrayBuffers inside are shared, not copied). */

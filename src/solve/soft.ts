@@ -18,13 +18,15 @@
  * 1 - gamma for the normalized occupancy average when gamma < 1), and `start` = sum_s start(s) K(s).
  * Then V_soft = V^pi_r - K / beta holds exactly for the soft policy.
  *
- * Conventions as in dp.ts: V = 0 on terminal states, synchronous sweeps, stop after the first sweep
+ * Conventions as in sweeps.ts: V = 0 on terminal states, synchronous sweeps, stop after the first sweep
  * whose largest change is below `tol`. Pure; no I/O; one scratch row allocated per solve.
  */
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import { expectedPerStateAction } from "../model/reward.js";
-import { evaluatePolicy, iterateSweeps, startValue, uniformPolicy, type Policy, type SolveOptions } from "./dp.js";
+import { evaluatePolicy } from "./evaluation.js";
+import { startValue, uniformPolicy } from "./policy.js";
+import { iterateSweeps, type Policy, type SolveOptions } from "./sweeps.js";
 
 export interface SoftOptions extends SolveOptions {
   /** Inverse temperature, >= 0 (Infinity allowed). */

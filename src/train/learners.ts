@@ -4,7 +4,7 @@
  * serves the CLI, so Ctrl-C can stop a run.
  */
 import type { TabularEnv } from "../model/learner-view.js";
-import type { TrainOptions, TrainResult } from "../../policies/common.js";
+import type { TrainOptions, TrainResult } from "../../policies/driver.js";
 import { learnerEntry, learners } from "../../policies/index.js";
 
 export interface LearnerEntry {

@@ -22,7 +22,7 @@ import type { RunManifest, RunResult, RunStatus, RunSummary } from "../store/typ
 import { packageVersion } from "../util/paths.js";
 import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS, type TrainConfig, type TrainConfigInput } from "./config.js";
 import { getLearner } from "./learners.js";
-import type { Agent } from "../../policies/common.js";
+import type { Agent } from "../../policies/driver.js";
 
 export interface Progress {
   step: number;

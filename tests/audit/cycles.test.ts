@@ -1,15 +1,8 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import {
-  karpWalkTable,
-  maxMeanCycle,
-  minMeanCycle,
-  modelChoiceGraph,
-  stronglyConnectedComponents,
-  type EdgeListDigraph,
-  type GraphEdge,
-  type MeanCycle,
-} from "../../src/audit/cycles.js";
+import { modelChoiceGraph } from "../../src/audit/choice-graph.js";
+import { karpWalkTable, maxMeanCycle, minMeanCycle, type MeanCycle } from "../../src/audit/cycles.js";
+import { stronglyConnectedComponents, type EdgeListDigraph, type GraphEdge } from "../../src/audit/mean-cycle/graph.js";
 import { ModelBuilder } from "../../src/model/builder.js";
 import { createRng } from "../../src/rng/rng.js";
 import { InputError } from "../../src/errors.js";

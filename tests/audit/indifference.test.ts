@@ -3,7 +3,7 @@ import fc from "fast-check";
 import { failureProbability, indifferenceProbability, prefersRisk, riskAudit } from "../../src/audit/indifference.js";
 import { ModelBuilder } from "../../src/model/builder.js";
 import { designerReward } from "../../src/model/reward.js";
-import { deterministicPolicy } from "../../src/solve/dp.js";
+import { deterministicPolicy } from "../../src/solve/policy.js";
 import { InputError } from "../../src/errors.js";
 
 describe("indifferenceProbability: hand-computed lotteries (expected value of a two-outcome lottery)", () => {

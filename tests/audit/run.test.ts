@@ -13,11 +13,14 @@ import { prepareAudit } from "../../src/audit/context.js";
 import { bestLoop } from "../../src/audit/checks/reward-loop.js";
 import { weightIntervals } from "../../src/audit/checks/sensitivity.js";
 import { ModelBuilder } from "../../src/model/builder.js";
-import { exportModel, formatModelDocument, loadModelFile } from "../../src/model/format.js";
+import { exportModel, formatModelDocument } from "../../src/model/format/export.js";
+import { loadModelFile } from "../../src/model/format/model-file.js";
 import { builtinScenarioNames, loadScenario, readScenarioMeta, type TrapKind } from "../../src/model/registry.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel, RewardVariant } from "../../src/model/types.js";
-import { deterministicPolicy, evaluatePolicy, startValue, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy, startValue } from "../../src/solve/policy.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { solveVariant } from "../../src/solve/compare.js";
 
 /** Which check names each declared trap kind (our mapping; see README "Static audit and pressure"). */

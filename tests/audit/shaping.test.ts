@@ -4,7 +4,9 @@ import { checkPotentialShaping, checkRewardDifference, type ShapingConstraint } 
 import { ModelBuilder } from "../../src/model/builder.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel, RewardVariant } from "../../src/model/types.js";
-import { deterministicPolicy, evaluatePolicy, startValue, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy, startValue } from "../../src/solve/policy.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { createRng } from "../../src/rng/rng.js";
 
 /**

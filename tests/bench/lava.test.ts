@@ -9,7 +9,7 @@ import { KIND_GOAL, KIND_LAVA, lavaModel } from "../../src/bench/lava.js";
 import { runLavaQl, runLavaVi } from "../../src/bench/lava-run.js";
 import { checkKey, parseOutput } from "../../src/bench/peers.js";
 import { Xorshift32 } from "../../src/rng/rng.js";
-import { valueIteration } from "../../src/solve/dp.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 
 // PROBLEM.md section 8 / peers/testvectors.txt, copied verbatim.
 const VECTORS: [string, string][] = [

@@ -8,7 +8,7 @@ import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { runCli } from "../../src/cli/program.js";
 import { memoryIO } from "../../src/cli/io.js";
-import { exportModel, formatModelDocument } from "../../src/model/format.js";
+import { exportModel, formatModelDocument } from "../../src/model/format/export.js";
 import { loadScenario } from "../../src/model/registry.js";
 
 async function cli(args: string[]) {

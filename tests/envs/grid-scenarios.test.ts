@@ -8,7 +8,8 @@ import { describe, expect, it } from "vitest";
 import { loadScenario } from "../../src/model/registry.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { solveVariant } from "../../src/solve/compare.js";
-import { deterministicPolicy, evaluatePolicy } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy } from "../../src/solve/policy.js";
 import { envsDir } from "../../src/util/paths.js";
 
 const SCENARIOS = {

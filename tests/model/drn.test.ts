@@ -13,7 +13,8 @@ import { formatDrn, loadDrnFile, parseDrn } from "../../src/model/drn.js";
 import { builtinScenarioNames, loadScenario, resolveReward } from "../../src/model/registry.js";
 import { designerReward, expectedPerStateAction } from "../../src/model/reward.js";
 import type { FiniteModel } from "../../src/model/types.js";
-import { startValue, valueIteration } from "../../src/solve/dp.js";
+import { startValue } from "../../src/solve/policy.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { randomMdp } from "../helpers/random-mdp.js";
 
 const here = dirname(fileURLToPath(import.meta.url));

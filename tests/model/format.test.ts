@@ -5,22 +5,17 @@ import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { formatError, InputError } from "../../src/errors.js";
 import { ModelBuilder } from "../../src/model/builder.js";
-import {
-  DEFAULT_HORIZON,
-  didYouMean,
-  exportModel,
-  formatModelDocument,
-  jsonPath,
-  lineColumn,
-  loadModelFile,
-  locateJsonError,
-  parseModelFile,
-  parseRewardFile,
-  type ModelDocument,
-} from "../../src/model/format.js";
+import { exportModel, formatModelDocument } from "../../src/model/format/export.js";
+import { didYouMean, jsonPath, lineColumn, locateJsonError } from "../../src/model/format/json-errors.js";
+import { loadModelFile, parseModelFile } from "../../src/model/format/model-file.js";
+import { parseRewardFile } from "../../src/model/format/reward-file.js";
+import { DEFAULT_HORIZON, type ModelDocument } from "../../src/model/format/schema.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel, RewardVariant } from "../../src/model/types.js";
-import { actionValues, deterministicPolicy, evaluatePolicy, uniformPolicy, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy, uniformPolicy } from "../../src/solve/policy.js";
+import { actionValues } from "../../src/solve/sweeps.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 
 const here = dirname(fileURLToPath(import.meta.url));
 const fixtures = join(here, "..", "fixtures");

@@ -5,7 +5,7 @@ import { compileGrid, goalDistances, GRID_EVENTS, parseGridMap, readGridConfig, 
 import type { FiniteModel } from "../../src/model/types.js";
 import { designerReward } from "../../src/model/reward.js";
 import { catchInputError as catchError } from "../helpers/input-error.js";
-import { valueIteration } from "../../src/solve/dp.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 
 const ALL_FEATURES = [...GRID_EVENTS];
 function cfg(extra: Partial<GridConfig> = {}): GridConfig {

@@ -8,7 +8,7 @@ import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { compileTrack, compileTrackScenario, TRACK_EVENTS, trackStateIndex, type TrackConfig } from "../../src/model/track.js";
 import { formatError, InputError } from "../../src/errors.js";
-import { valueIteration } from "../../src/solve/dp.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import type { ScenarioMeta } from "../../src/model/registry.js";

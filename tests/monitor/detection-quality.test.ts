@@ -2,7 +2,7 @@
  * Detection quality of the monitor's defaults, judged against the exact truth of each learned final
  * greedy policy. Detector defaults were tuned on seeds 1-10 (src/monitor/tune.ts); this test asserts
  * on seeds 11-30 only. The truth is computed here independently of the monitor: full-model policy
- * evaluation (src/solve/dp.ts) of the final greedy policy saved in policy.json.
+ * evaluation (src/solve/evaluation.ts) of the final greedy policy saved in policy.json.
  * The truth thresholds and the pass mark are the project's acceptance rule (issue "Learners, checkpoint
  * monitor and decoupling alerts", Evidence required): "decoupled" whenever the final greedy policy loses
  * >= 30% of the achievable intent while its designer return is within 10% of optimal, "aligned"
@@ -15,7 +15,9 @@ import { afterAll, describe, expect, it } from "vitest";
 import { builtinScenarioNames, loadScenario } from "../../src/model/registry.js";
 import { designerReward } from "../../src/model/reward.js";
 import { normalizeScore } from "../../src/solve/compare.js";
-import { deterministicPolicy, evaluatePolicy, startValue, uniformPolicy, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy, startValue, uniformPolicy } from "../../src/solve/policy.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { runTraining } from "../../src/train/run.js";
 
 const SEEDS = Array.from({ length: 20 }, (_, i) => 11 + i);

@@ -1,14 +1,15 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { join } from "node:path";
-import { loadModelFile } from "../../src/model/format.js";
+import { loadModelFile } from "../../src/model/format/model-file.js";
 import { builtinScenarioNames, loadScenario } from "../../src/model/registry.js";
 import { ModelBuilder } from "../../src/model/builder.js";
 import { designerReward } from "../../src/model/reward.js";
 import { evaluateExact, evaluateMonteCarlo, scoreReferences, tQuantile975 } from "../../src/monitor/evaluate.js";
 import { createRng } from "../../src/rng/rng.js";
 import { normalQuantile } from "../../src/stats/normal.js";
-import { deterministicPolicy, evaluatePolicy, startValue } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy, startValue } from "../../src/solve/policy.js";
 
 describe("exact evaluation of a greedy policy", () => {
   const model = loadModelFile(join(__dirname, "../fixtures/models/sb-4x4.json"));

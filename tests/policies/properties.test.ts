@@ -2,7 +2,7 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { createRng, Xorshift32 } from "../../src/rng/rng.js";
-import { TWO32, epsilonGreedy, greedyProbability } from "../../policies/common.js";
+import { TWO32, epsilonGreedy, greedyProbability } from "../../policies/selection.js";
 import { scheduleValue, type Schedule } from "../../policies/schedules.js";
 import { learners, train, type LearnerName } from "../../policies/index.js";
 import { ModelBuilder } from "../../src/model/builder.js";

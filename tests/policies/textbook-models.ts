@@ -11,7 +11,7 @@ import { ModelBuilder } from "../../src/model/builder.js";
 import { designerReward } from "../../src/model/reward.js";
 import { learnerView, viewEnv, type LearnerView, type TabularEnv } from "../../src/model/learner-view.js";
 import type { FiniteModel } from "../../src/model/types.js";
-import type { Agent } from "../../policies/common.js";
+import type { Agent } from "../../policies/driver.js";
 
 /** Learner-facing env over a model whose single feature "reward" is the reward (weight 1). */
 export function envOf(model: FiniteModel): TabularEnv & { readonly view: LearnerView } {

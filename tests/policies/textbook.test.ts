@@ -5,7 +5,7 @@
 import { describe, expect, it } from "vitest";
 import { createRng } from "../../src/rng/rng.js";
 import { train, type LearnerName } from "../../policies/index.js";
-import type { Agent } from "../../policies/common.js";
+import type { Agent } from "../../policies/driver.js";
 import { cliffModel, envOf, greedyRollout, windyModel } from "./textbook-models.js";
 
 const SEEDS = [1, 2, 3, 4, 5];

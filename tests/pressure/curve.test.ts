@@ -10,7 +10,9 @@ import { defaultBetas, onsetIndex, pressureCurve, type PressurePoint } from "../
 import { parseReferencePolicy } from "../../src/pressure/reference.js";
 import { loadScenario, readScenarioMeta } from "../../src/model/registry.js";
 import { designerReward } from "../../src/model/reward.js";
-import { evaluatePolicy, startValue, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { startValue } from "../../src/solve/policy.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 
 const GRIDS = ["seed-vault-courier", "greenhouse-rounds", "ridge-survey"];
 

@@ -1,11 +1,14 @@
 /**
- * Invariants of the exact solvers (src/solve/dp.ts) on random small MDPs (fast-check).
+ * Invariants of the exact solvers (src/solve/) on random small MDPs (fast-check).
  * Sources: Bellman optimality and the policy improvement theorem (Sutton & Barto 2018, sections 3.6,
  * 4.2-4.4; Puterman 1994, Theorem 6.2.2 "v* >= v_pi for every policy", from memory).
  */
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { deterministicPolicy, evaluatePolicy, policyIteration, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { deterministicPolicy } from "../../src/solve/policy.js";
+import { policyIteration } from "../../src/solve/policy-iteration.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { ModelBuilder } from "../../src/model/builder.js";
 import { randomMdp } from "../helpers/random-mdp.js";
 

@@ -1,12 +1,16 @@
 /**
- * Exact solvers (src/solve/dp.ts) against textbook worked examples. Models are built here with
+ * Exact solvers (src/solve/: value-iteration.ts, policy-iteration.ts, evaluation.ts) against textbook worked examples. Models are built here with
  * ModelBuilder; reference values are from /work/shared/reference/REFERENCE_VALUES.md (section named
  * beside each check).
  */
 import { describe, expect, it } from "vitest";
 import { ModelBuilder } from "../../src/model/builder.js";
 import type { FiniteModel } from "../../src/model/types.js";
-import { actionValues, evaluatePolicy, greedyActions, policyIteration, sweepPlan, uniformPolicy, valueIteration, valueSweeps } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { uniformPolicy } from "../../src/solve/policy.js";
+import { policyIteration } from "../../src/solve/policy-iteration.js";
+import { actionValues, greedyActions } from "../../src/solve/sweeps.js";
+import { sweepPlan, valueIteration, valueSweeps } from "../../src/solve/value-iteration.js";
 
 /** A model whose single feature "r" is the reward, so `model.featureValues` is the per-outcome reward. */
 interface Built {

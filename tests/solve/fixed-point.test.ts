@@ -1,5 +1,5 @@
 /**
- * The fixed-point policy evaluator (`evaluatePolicy` with `accuracy`, src/solve/dp.ts) against an
+ * The fixed-point policy evaluator (`evaluatePolicy` with `accuracy`, src/solve/evaluation.ts) against an
  * independent method: v_pi = (I - gamma P_pi)^{-1} r_pi solved directly by Gaussian elimination with
  * partial pivoting on the dense matrix built here from the model's outcomes (Puterman 1994,
  * Theorem 6.1.1 and eq. 6.1.7, from memory; Golub & Van Loan 2013, Algorithm 3.4.1, from memory).
@@ -9,7 +9,9 @@ import { describe, expect, it } from "vitest";
 import { ModelBuilder } from "../../src/model/builder.js";
 import { randomMdp } from "../helpers/random-mdp.js";
 import type { FiniteModel } from "../../src/model/types.js";
-import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, policyChain, uniformPolicy, type Policy } from "../../src/solve/dp.js";
+import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, policyChain } from "../../src/solve/evaluation.js";
+import { uniformPolicy } from "../../src/solve/policy.js";
+import type { Policy } from "../../src/solve/sweeps.js";
 
 /** Dense direct solve of v = r_pi + gamma P_pi v (terminal states: v = 0), straight from the outcome lists. */
 function directSolve(model: FiniteModel, reward: Float64Array, policy: Policy, gamma: number): Float64Array {

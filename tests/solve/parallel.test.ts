@@ -15,7 +15,8 @@ import { InputError } from "../../src/errors.js";
 import { builtinScenarioNames, loadEnvSync } from "../../src/model/registry.js";
 import { designerReward } from "../../src/model/reward.js";
 import { randomMdp } from "../helpers/random-mdp.js";
-import { valueIteration, type Solution } from "../../src/solve/dp.js";
+import type { Solution } from "../../src/solve/sweeps.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { partition, prepareParallelSweeps, valueIterationParallel } from "../../src/solve/parallel.js";
 
 function expectSame(par: Solution, ref: Solution): void {

@@ -3,7 +3,9 @@ import fc from "fast-check";
 import { klFromReference, softValueIteration } from "../../src/solve/soft.js";
 import { ModelBuilder } from "../../src/model/builder.js";
 import type { FiniteModel } from "../../src/model/types.js";
-import { evaluatePolicy, startValue, uniformPolicy, valueIteration } from "../../src/solve/dp.js";
+import { evaluatePolicy } from "../../src/solve/evaluation.js";
+import { startValue, uniformPolicy } from "../../src/solve/policy.js";
+import { valueIteration } from "../../src/solve/value-iteration.js";
 import { createRng } from "../../src/rng/rng.js";
 import { InputError } from "../../src/errors.js";
 

@@ -17,7 +17,9 @@
 import type { AuditContext } from "../context.js";
 import { fmt, labelsOf, likelyStart, tracePolicy } from "../context.js";
 import type { Finding } from "../findings.js";
-import { evaluatePolicy, startValue, type Policy } from "../../solve/dp.js";
+import { evaluatePolicy } from "../../solve/evaluation.js";
+import { startValue } from "../../solve/policy.js";
+import type { Policy } from "../../solve/sweeps.js";
 import type { FiniteModel } from "../../model/types.js";
 
 /** Probability of ever entering a state flagged in `set`, from the start distribution, under `policy`. */

@@ -17,7 +17,7 @@
 import type { AuditContext } from "../context.js";
 import { fmt, labelsOf, likelyStart, tracePolicy } from "../context.js";
 import type { Finding } from "../findings.js";
-import { actionValues } from "../../solve/dp.js";
+import { actionValues } from "../../solve/sweeps.js";
 
 export interface Divergence {
   state: string;

@@ -15,7 +15,8 @@
  * Also reported: the designer-optimal policy's own recurrent loop, when its most likely path from the
  * most likely start repeats a state instead of ending.
  */
-import { maxMeanCycle, modelChoiceGraph } from "../cycles.js";
+import { choiceLoop, modelChoiceGraph } from "../choice-graph.js";
+import { maxMeanCycle } from "../cycles.js";
 import type { AuditContext } from "../context.js";
 import { actionNames, fmt, labelsOf, likelyStart, tracePolicy } from "../context.js";
 import type { Finding, LoopReport } from "../findings.js";
@@ -55,30 +56,11 @@ export function loopFromOutcomes(ctx: AuditContext, stateIds: number[], outcomes
 /** The best loop of the reachable choice graph, or null if the graph has no cycle. */
 export function bestLoop(ctx: AuditContext): LoopEvidence | null {
   const { model, rd, reachable } = ctx;
-  const g = modelChoiceGraph(model, rd, { minProb: ctx.opts.loopMinProb });
-  // Keep edges out of reachable states only (their targets are then reachable too).
-  const nS = model.nStates;
-  const start = new Int32Array(nS + 1);
-  for (let s = 0; s < nS; s++) start[s + 1] = start[s] + (reachable[s] ? g.start[s + 1] - g.start[s] : 0);
-  const m = start[nS];
-  const to = new Int32Array(m);
-  const weight = new Float64Array(m);
-  const orig = new Int32Array(m);
-  let j = 0;
-  for (let s = 0; s < nS; s++) {
-    if (!reachable[s]) continue;
-    for (let e = g.start[s]; e < g.start[s + 1]; e++) {
-      to[j] = g.to[e];
-      weight[j] = g.weight[e];
-      orig[j] = e;
-      j++;
-    }
-  }
-  const c = maxMeanCycle({ n: nS, start, to, weight });
+  const g = modelChoiceGraph(model, rd, { minProb: ctx.opts.loopMinProb, from: reachable });
+  const c = maxMeanCycle(g);
   if (!c) return null;
-  const outcomes = c.edges.map((e) => g.outcome[orig[e]]);
-  const acts = c.edges.map((e) => g.action[orig[e]]);
-  const ev = loopFromOutcomes(ctx, c.vertices, outcomes, acts);
+  const loop = choiceLoop(g, c);
+  const ev = loopFromOutcomes(ctx, loop.states, loop.outcomes, loop.actions);
   ev.meanDesignerPerStep = c.mean;
   return ev;
 }

@@ -23,7 +23,8 @@ import { fmt, likelyStart, tracePolicy } from "../context.js";
 import type { Finding } from "../findings.js";
 import { failureProbability, riskAudit } from "../indifference.js";
 import type { FiniteModel } from "../../model/types.js";
-import { deterministicPolicy, startValue, valueIteration } from "../../solve/dp.js";
+import { deterministicPolicy, startValue } from "../../solve/policy.js";
+import { valueIteration } from "../../solve/value-iteration.js";
 
 export function catastrophicStates(model: FiniteModel): Uint8Array {
   const { nStates: nS, nActions: nA, saStart, next, prob, terminal, intent, featureValues } = model;

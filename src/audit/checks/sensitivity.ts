@@ -6,7 +6,7 @@
  * every state it reaches from the start distribution, an action whose intent action value equals the
  * optimal intent value (Q_I*(s, pi(s)) >= V_I*(s) - 1e-9 (1 + |V_I*(s)|)); for discounted models this is
  * equivalent to V_I^pi = V_I* on the start distribution. Greedy ties go to the lowest action index as in
- * src/solve/dp.ts, so at an exact breakpoint the answer follows that tie rule.
+ * src/solve/sweeps.ts (`greedyActions`), so at an exact breakpoint the answer follows that tie rule.
  *
  * Search: outward steps w0 +- scale * 2^(k - 3), k = 0 .. 9 (scale = |w0|, or the largest |weight| of
  * the variant when w0 = 0, or 1), then 10 bisection steps on the first step that changes the answer;
@@ -22,7 +22,7 @@
 import type { AuditContext } from "../context.js";
 import { fmt } from "../context.js";
 import type { Finding } from "../findings.js";
-import { actionValues, expectedReward } from "../../solve/dp.js";
+import { actionValues, expectedReward } from "../../solve/sweeps.js";
 
 export interface WeightInterval {
   feature: string;

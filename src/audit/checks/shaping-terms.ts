@@ -12,6 +12,7 @@
  */
 import type { AuditContext } from "../context.js";
 import { actionNames, fmt, labelsOf } from "../context.js";
+import { choiceLoop, modelChoiceGraph } from "../choice-graph.js";
 import { maxMeanCycle } from "../cycles.js";
 import type { Finding } from "../findings.js";
 import { checkPotentialShaping, type ShapingCheck } from "../shaping.js";
@@ -82,40 +83,17 @@ export function shapingCheck(ctx: AuditContext): Finding[] {
 
 function termLoop(ctx: AuditContext, T: Float64Array) {
   const { model, reachable } = ctx;
-  const { nStates: nS, nActions: nA, saStart, next, prob, terminal } = model;
-  const thr = ctx.opts.loopMinProb - 1e-12;
-  const start = new Int32Array(nS + 1);
-  for (let s = 0; s < nS; s++) {
-    let c = 0;
-    if (!terminal[s] && reachable[s]) for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) if (prob[o] >= thr) c++;
-    start[s + 1] = start[s] + c;
-  }
-  const to = new Int32Array(start[nS]);
-  const weight = new Float64Array(start[nS]);
-  const outcome = new Int32Array(start[nS]);
-  const action = new Int32Array(start[nS]);
-  let j = 0;
-  for (let s = 0; s < nS; s++) {
-    if (terminal[s] || !reachable[s]) continue;
-    for (let a = 0; a < nA; a++)
-      for (let o = saStart[s * nA + a]; o < saStart[s * nA + a + 1]; o++) {
-        if (prob[o] < thr) continue;
-        to[j] = next[o];
-        weight[j] = T[o];
-        outcome[j] = o;
-        action[j] = a;
-        j++;
-      }
-  }
-  const c = maxMeanCycle({ n: nS, start, to, weight });
+  const g = modelChoiceGraph(model, T, { minProb: ctx.opts.loopMinProb, from: reachable });
+  const c = maxMeanCycle(g);
   if (!c) return null;
+  const { outcomes, actions } = choiceLoop(g, c);
   let im = 0;
-  for (const e of c.edges) im += model.intent[outcome[e]];
+  for (const o of outcomes) im += model.intent[o];
   return {
     mean: c.mean,
     intentMean: im / c.edges.length,
     stateIds: c.vertices,
     states: labelsOf(model, c.vertices),
-    actions: actionNames(model, c.edges.map((e) => action[e])),
+    actions: actionNames(model, actions),
   };
 }

@@ -1,5 +1,5 @@
 import type { Command } from "commander";
-import { exportModel } from "../../model/format.js";
+import { exportModel } from "../../model/format/export.js";
 import { loadEnv } from "../../model/registry.js";
 import { requireFinite } from "../../sim/finite.js";
 import { action, type CliContext } from "../context.js";

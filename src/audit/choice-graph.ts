@@ -1,0 +1,111 @@
+/**
+ * The "deterministic-choice graph" of a finite model (the loops an optimizer can ride forever on
+ * purpose), and the walk along one of its cycles that names the states, actions and outcomes of the
+ * loop. The reward-loop and shaping-term checks and the gamma = 1 shaping witness all build their loops
+ * here. Pure; no I/O.
+ */
+import { InputError } from "../errors.js";
+import type { FiniteModel } from "../model/types.js";
+import type { MeanCycle } from "./cycles.js";
+import type { CsrDigraph } from "./mean-cycle/graph.js";
+
+/** Label of a choice-graph edge: the (state, action) pair and which of its outcomes the edge is. */
+export interface ChoiceLabel {
+  state: number;
+  action: number;
+  /** Outcome index into the model's per-outcome arrays. */
+  outcome: number;
+}
+
+export interface ChoiceGraph extends CsrDigraph<ChoiceLabel> {
+  /** Action index per edge. */
+  action: Int32Array;
+  /** Outcome index per edge. */
+  outcome: Int32Array;
+  label: (edge: number) => ChoiceLabel;
+}
+
+export interface ChoiceGraphOptions {
+  /**
+   * Keep an outcome as an edge when its probability is at least this. Default 1: only certain
+   * outcomes, so every cycle of the graph can be ridden forever by choice. A value below 1 adds
+   * "optimistic" edges: a cycle that uses one is reachable with positive probability per lap but not
+   * guaranteed (the optimizer would need luck on that edge every lap). Compared with a 1e-12 slack.
+   */
+  minProb?: number;
+  /** Keep every outcome with positive probability instead (`minProb` is then not used). */
+  positive?: boolean;
+  /** Keep only the edges out of states s with `from[s]` non-zero (e.g. the reachable states). */
+  from?: ArrayLike<number>;
+}
+
+/**
+ * The deterministic-choice graph of a model: an edge s -> s' for every outcome of every (s, a) of a
+ * non-terminal s whose probability passes `minProb`, weighted with `rewardPerOutcome[o]` (normally the
+ * designer reward of a variant), labelled with the action and outcome. Terminal states have no edges.
+ * Edges are numbered in (state, action, outcome) order.
+ */
+export function modelChoiceGraph(model: FiniteModel, rewardPerOutcome: Float64Array, opts: ChoiceGraphOptions = {}): ChoiceGraph {
+  const minProb = opts.minProb ?? 1;
+  if (!(minProb > 0 && minProb <= 1)) throw new InputError("input.minProb", `minProb must be in (0, 1], got ${minProb}`, "choice graph options");
+  const nO = model.next.length;
+  if (rewardPerOutcome.length !== nO) {
+    throw new InputError("input.reward", `reward has ${rewardPerOutcome.length} entries, expected one per outcome (${nO})`, "choice graph reward");
+  }
+  const thr = minProb - 1e-12;
+  const positive = opts.positive === true;
+  const from = opts.from;
+  const keep = (p: number): boolean => (positive ? p > 0 : p >= thr);
+  const { nStates: nS, nActions: nA, saStart, prob, next, terminal } = model;
+  const start = new Int32Array(nS + 1);
+  for (let s = 0; s < nS; s++) {
+    let cnt = 0;
+    if (!terminal[s] && (!from || from[s])) for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) if (keep(prob[o])) cnt++;
+    start[s + 1] = start[s] + cnt;
+  }
+  const m = start[nS];
+  const to = new Int32Array(m);
+  const weight = new Float64Array(m);
+  const action = new Int32Array(m);
+  const outcome = new Int32Array(m);
+  const stateOf = new Int32Array(m);
+  let j = 0;
+  for (let s = 0; s < nS; s++) {
+    if (terminal[s] || (from && !from[s])) continue;
+    for (let a = 0; a < nA; a++) {
+      const k = s * nA + a;
+      for (let o = saStart[k]; o < saStart[k + 1]; o++) {
+        if (!keep(prob[o])) continue;
+        to[j] = next[o];
+        weight[j] = rewardPerOutcome[o];
+        action[j] = a;
+        outcome[j] = o;
+        stateOf[j] = s;
+        j++;
+      }
+    }
+  }
+  return {
+    n: nS,
+    start,
+    to,
+    weight,
+    action,
+    outcome,
+    label: (e: number) => ({ state: stateOf[e], action: action[e], outcome: outcome[e] }),
+  };
+}
+
+/**
+ * A cycle of a choice graph followed edge by edge: from `states[i]` the loop takes action `actions[i]`
+ * and outcome `outcomes[i]` to `states[(i + 1) % length]`.
+ */
+export interface ChoiceLoop {
+  states: number[];
+  actions: number[];
+  outcomes: number[];
+}
+
+export function choiceLoop(g: ChoiceGraph, c: MeanCycle): ChoiceLoop {
+  return { states: c.vertices, actions: c.edges.map((e) => g.action[e]), outcomes: c.edges.map((e) => g.outcome[e]) };
+}

@@ -1,0 +1,202 @@
+/** Model files (`gapwatch-mdp/1`, described in ./schema.ts): parse, validate, build. */
+import { readFileSync } from "node:fs";
+import { InputError } from "../../errors.js";
+import { ModelBuilder, PROB_TOLERANCE } from "../builder.js";
+import type { FiniteModel, RewardVariant } from "../types.js";
+import { clip, fail, hint, parseJsonText, type Path } from "./json-errors.js";
+import { CANONICAL_INT, checkFormatTag, DEFAULT_HORIZON, modelSchema, validate, type ModelDocument } from "./schema.js";
+
+/** Parse and validate the text of a gapwatch-mdp/1 model file; `where` names it in messages. */
+export function parseModelFile(text: string, where: string): FiniteModel {
+  const data = parseJsonText(text, where, "model");
+  checkFormatTag("model", data, where);
+  const doc = validate("model", modelSchema, data, where) as ModelDocument;
+  return buildFromDocument(doc, where);
+}
+
+/** Read and parse a model file. */
+export function loadModelFile(file: string): FiniteModel {
+  let text: string;
+  try {
+    text = readFileSync(file, "utf8");
+  } catch (e) {
+    throw new InputError("model.read", `cannot read the model file (${(e as NodeJS.ErrnoException).code ?? (e as Error).message}); check the path`, file);
+  }
+  return parseModelFile(text, file);
+}
+
+/** Semantic checks on a schema-valid document, then build through ModelBuilder. */
+function buildFromDocument(doc: ModelDocument, where: string): FiniteModel {
+  function F(code: string, path: Path, msg: string): never {
+    fail("model", code, where, path, msg);
+  }
+
+  if (!(doc.gamma > 0 && doc.gamma <= 1)) F("gamma", ["gamma"], `gamma must be in (0, 1], got ${doc.gamma}; use e.g. 0.99 (or 1 for an episodic task whose policies all terminate)`);
+
+  const nA = doc.actions.length;
+  {
+    const seen = new Map<string, number>();
+    doc.actions.forEach((a, i) => {
+      if (seen.has(a)) F("duplicateAction", ["actions", i], `action name ${JSON.stringify(a)} is also action ${seen.get(a)}; give every action a distinct name`);
+      seen.set(a, i);
+    });
+  }
+  const features = doc.features;
+  const nF = features.length;
+  const featureIndex = new Map<string, number>();
+  features.forEach((f, i) => {
+    if (featureIndex.has(f)) F("duplicateFeature", ["features", i], `feature ${JSON.stringify(f)} is declared twice (also at index ${featureIndex.get(f)}); remove the duplicate`);
+    featureIndex.set(f, i);
+  });
+
+  const nS = typeof doc.states === "number" ? doc.states : doc.states.length;
+  const labels = typeof doc.states === "number" ? Array.from({ length: nS }, (_, s) => String(s)) : doc.states;
+  const byLabel = new Map<string, number[]>();
+  labels.forEach((l, s) => {
+    const list = byLabel.get(l);
+    if (list) list.push(s);
+    else byLabel.set(l, [s]);
+  });
+  const stateRange = `0..${nS - 1}`;
+  const checkState = (s: number, path: Path, code = "stateIndex", what = "state index"): void => {
+    if (s < 0 || s >= nS) F(code, path, `${what} ${s} is out of range; states are ${stateRange} (${nS} declared in $.states)`);
+  };
+  const describeState = (s: number): string => (labels[s] === String(s) ? `state ${s}` : `state ${s} (${JSON.stringify(clip(labels[s]))})`);
+  /** A "<state>" key: an index as a decimal string, or a label. */
+  const resolveKey = (key: string, path: Path): number => {
+    const cands = new Set<number>(byLabel.get(key) ?? []);
+    if (CANONICAL_INT.test(key) && Number(key) < nS) cands.add(Number(key));
+    if (cands.size === 1) return [...cands][0];
+    if (cands.size === 0) {
+      const labelHint = typeof doc.states === "number" ? "" : hint(key, labels);
+      F("unknownState", path, `${JSON.stringify(clip(key))} is neither a state index in ${stateRange} nor a state label${labelHint}; use an index as a string ("3") or a label from $.states`);
+    }
+    F("ambiguousState", path, `${JSON.stringify(clip(key))} names states ${[...cands].sort((a, b) => a - b).join(" and ")} (it is a label and an index, or a repeated label); use the index of the state you mean, or make the labels unique`);
+  };
+
+  const terminal = new Uint8Array(nS);
+  doc.terminal.forEach((s, i) => {
+    checkState(s, ["terminal", i]);
+    terminal[s] = 1;
+  });
+
+  // Start distribution.
+  const start = new Float64Array(nS);
+  if (typeof doc.start === "number") {
+    checkState(doc.start, ["start"]);
+    start[doc.start] = 1;
+  } else {
+    const keys = Object.keys(doc.start);
+    if (keys.length === 0) F("start", ["start"], `the start distribution is empty; give at least one state with probability > 0, e.g. {"0": 1}`);
+    let sum = 0;
+    const from = new Map<number, string>();
+    for (const k of keys) {
+      const s = resolveKey(k, ["start", k]);
+      const p = doc.start[k];
+      if (!(p >= 0 && p <= 1 + PROB_TOLERANCE)) F("probability", ["start", k], `start probability ${p} is outside [0, 1]; give a probability`);
+      if (from.has(s)) F("duplicateStart", ["start", k], `${describeState(s)} is listed twice in the start distribution (also as ${JSON.stringify(from.get(s))}); merge the entries`);
+      from.set(s, k);
+      start[s] = p;
+      sum += p;
+    }
+    if (Math.abs(sum - 1) > PROB_TOLERANCE) F("startSum", ["start"], `start probabilities sum to ${sum}, expected 1 (within ${PROB_TOLERANCE}); rescale them so they sum to 1`);
+  }
+
+  // Transitions: each non-terminal pair exactly once.
+  const entryOf = new Int32Array(nS * nA).fill(-1);
+  const scratch = new Float64Array(nF);
+  const builder = new ModelBuilder({
+    name: doc.name,
+    nStates: nS,
+    actions: doc.actions,
+    features,
+    gamma: doc.gamma,
+    horizon: doc.horizon ?? DEFAULT_HORIZON,
+    stateLabels: labels,
+    source: where,
+  });
+  doc.transitions.forEach((t, ti) => {
+    const tp: Path = ["transitions", ti];
+    checkState(t.state, [...tp, "state"]);
+    if (t.action < 0 || t.action >= nA) F("actionIndex", [...tp, "action"], `action index ${t.action} is out of range; actions are 0..${nA - 1} (${doc.actions.map((a, i) => `${i}=${a}`).join(", ")})`);
+    const k = t.state * nA + t.action;
+    if (entryOf[k] >= 0) {
+      F("duplicateTransition", tp, `${describeState(t.state)} action ${t.action} (${doc.actions[t.action]}) already appears at $.transitions[${entryOf[k]}]; merge the two entries' outcomes into one`);
+    }
+    entryOf[k] = ti;
+    const isTerminal = terminal[t.state] === 1;
+    let sum = 0;
+    t.outcomes.forEach((o, oi) => {
+      const op: Path = [...tp, "outcomes", oi];
+      checkState(o.next, [...op, "next"], "nextState", "next state");
+      if (!(o.p >= 0 && o.p <= 1 + PROB_TOLERANCE)) F("probability", [...op, "p"], `probability ${o.p} is outside [0, 1]; give a probability`);
+      sum += o.p;
+      scratch.fill(0);
+      let nonzero = false;
+      for (const [f, v] of Object.entries(o.features ?? {})) {
+        const fi = featureIndex.get(f);
+        if (fi === undefined) {
+          F("unknownFeature", [...op, "features", f], `feature ${JSON.stringify(f)} is not declared${hint(f, features)}; declared features: ${features.length ? features.join(", ") : "none"}; add it to $.features or fix the name`);
+        }
+        scratch[fi!] = v;
+        if (v !== 0) nonzero = true;
+      }
+      const intent = o.intent ?? 0;
+      if (isTerminal) {
+        if (o.next !== t.state) F("terminalNotAbsorbing", [...op, "next"], `${describeState(t.state)} is terminal, so its outcomes must stay in it, but this one goes to ${o.next}; set "next": ${t.state} or remove the state from $.terminal`);
+        if (nonzero || intent !== 0) F("terminalNotAbsorbing", op, `${describeState(t.state)} is terminal, so its outcomes must carry zero features and zero intent; remove them, or remove the state from $.terminal`);
+      } else {
+        builder.addOutcome(t.state, t.action, o.next, o.p, scratch, intent);
+      }
+    });
+    if (Math.abs(sum - 1) > PROB_TOLERANCE) {
+      F("probabilitySum", [...tp, "outcomes"], `outcome probabilities of ${describeState(t.state)} action ${t.action} (${doc.actions[t.action]}) sum to ${sum}, expected 1 (within ${PROB_TOLERANCE}); fix the "p" values so they sum to 1`);
+    }
+  });
+  let missing = 0;
+  let firstMissing = -1;
+  for (let s = 0; s < nS; s++) {
+    if (terminal[s]) continue;
+    for (let a = 0; a < nA; a++) {
+      if (entryOf[s * nA + a] < 0) {
+        if (firstMissing < 0) firstMissing = s * nA + a;
+        missing++;
+      }
+    }
+  }
+  if (missing > 0) {
+    const s = Math.floor(firstMissing / nA);
+    const a = firstMissing % nA;
+    F(
+      "missingTransition",
+      ["transitions"],
+      `no entry for ${describeState(s)} action ${a} (${doc.actions[a]})${missing > 1 ? ` (${missing} non-terminal state-action pairs are missing in all)` : ""}; add {"state": ${s}, "action": ${a}, "outcomes": [...]} or list state ${s} in $.terminal`,
+    );
+  }
+
+  for (let s = 0; s < nS; s++) {
+    if (terminal[s]) builder.setTerminal(s);
+    if (start[s] !== 0) builder.setStart(s, start[s]);
+  }
+
+  if (doc.groups) {
+    const groups: (string | null)[] = new Array(nS).fill(null);
+    for (const [k, g] of Object.entries(doc.groups)) groups[resolveKey(k, ["groups", k])] = g;
+    builder.setGroups(groups);
+  }
+
+  if (doc.rewards) {
+    const variants: Record<string, RewardVariant> = {};
+    for (const [vname, v] of Object.entries(doc.rewards)) {
+      if (vname.length === 0) F("rewardName", ["rewards", vname], `a reward variant needs a non-empty name; rename the key`);
+      for (const f of Object.keys(v.weights)) {
+        if (!featureIndex.has(f)) {
+          F("unknownFeature", ["rewards", vname, "weights", f], `weight for undeclared feature ${JSON.stringify(f)}${hint(f, features)}; declared features: ${features.length ? features.join(", ") : "none"}; add it to $.features or fix the name`);
+        }
+      }
+      variants[vname] = { name: vname, weights: { ...v.weights } };
+    }
+    builder.setVariants(variants);
+  }
+  return builder.build();
+}
