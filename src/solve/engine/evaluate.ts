@@ -89,9 +89,9 @@ function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: Resolv
     const lo = compStart[c];
     const hi = compStart[c + 1];
     const m = hi - lo;
-    // Largest error among the exits' components (already solved).
+    // Largest error among the exits' components (already solved; skipped while every error is 0).
     let errIn = 0;
-    for (let q = lo; q < hi; q++) {
+    for (let q = lo; bound > 0 && q < hi; q++) {
       const i = members[q];
       for (let e = rowStart[i]; e < rowStart[i + 1]; e++) {
         const cj = comp[col[e]];

@@ -117,14 +117,16 @@ export function solveValuesEngine(model: FiniteModel, reward: Float64Array, opts
   let converged = true;
   let bound = 0;
   const nA = model.nActions;
+  const { saStart, next } = model;
   for (let c = 0; c < count; c++) {
     const lo = compStart[c];
     const hi = compStart[c + 1];
+    // Largest error among the components this one can leave to (skipped while every error is 0).
     let errIn = 0;
-    for (let q = lo; q < hi; q++) {
+    for (let q = lo; bound > 0 && q < hi; q++) {
       const k0 = states[q] * nA;
-      for (let o2 = model.saStart[k0]; o2 < model.saStart[k0 + nA]; o2++) {
-        const cj = compOfState[model.next[o2]];
+      for (let o2 = saStart[k0]; o2 < saStart[k0 + nA]; o2++) {
+        const cj = compOfState[next[o2]];
         if (cj >= 0 && cj !== c && err[cj] > errIn) errIn = err[cj];
       }
     }
