@@ -13,6 +13,7 @@ import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { deterministicPolicy, evaluatePolicy, uniformPolicy, valueIteration, type Policy } from "../../src/solve/dp.js";
 import { evaluatePolicyEngine, planValueIteration, stronglyConnected, valueIterationEngine } from "../../src/solve/engine/index.js";
+import { example41 } from "../helpers/example41.js";
 import { randomMdp } from "../helpers/random-mdp.js";
 
 const TIGHT = 1e-13;
@@ -48,25 +49,6 @@ function checkEvaluation(model: FiniteModel, reward: Float64Array, policy: Polic
   const eng = evaluatePolicyEngine(model, reward, policy, { gamma, accuracy: 1e-10, ...opts });
   expect(eng.converged).toBe(true);
   expect(maxDiff(eng.values, ref.values)).toBeLessThanOrEqual(ACCEPT);
-}
-
-/** Sutton & Barto 2018, Example 4.1: 4x4, terminal corners (0,0) and (3,3), reward -1, gamma 1 (as in dp.test.ts). */
-function example41(): { model: FiniteModel; reward: Float64Array } {
-  const b = new ModelBuilder({ name: "ex41", nStates: 16, actions: ["up", "down", "left", "right"], features: ["r"], gamma: 1, horizon: 1000 });
-  b.setTerminal(0).setTerminal(15).setStart(5, 1);
-  const d = [
-    [-1, 0],
-    [1, 0],
-    [0, -1],
-    [0, 1],
-  ];
-  for (let s = 1; s < 15; s++) {
-    const r = Math.floor(s / 4);
-    const c = s % 4;
-    d.forEach(([dr, dc], a) => b.addOutcome(s, a, Math.min(3, Math.max(0, r + dr)) * 4 + Math.min(3, Math.max(0, c + dc)), 1, [-1]));
-  }
-  const model = b.build();
-  return { model, reward: Float64Array.from(model.featureValues) };
 }
 
 describe("strongly connected components (Tarjan 1972)", () => {

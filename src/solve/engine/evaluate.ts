@@ -23,8 +23,8 @@ import type { FiniteModel } from "../../model/types.js";
 import { chainReward, evaluateFixedPoint, policyChain, type Policy, type PolicyChain } from "../dp.js";
 import { solveDense } from "./dense.js";
 import { solveOrder } from "./order.js";
+import { fillOver, maxOver, undiscountedSweeps, type ComponentResult, type ComponentSweeps } from "./sweeps.js";
 import {
-  certifiedTauMax,
   componentError,
   componentTarget,
   emptyStats,
@@ -112,15 +112,21 @@ function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: Resolv
         x[i] = NaN;
         converged = false;
       }
-    } else if (m <= o.directMax && denseComponent(chain, r, gamma, x, members, lo, hi, local, dense, rhs)) {
-      stats.directSolves++;
-      stats.backups += m;
     } else {
-      const target = componentTarget(o, errIn, iterative);
-      const res = gamma < 1 ? fixedPointComponent(chain, r, gamma, x, members, lo, hi, local, target, o.maxSweeps) : undiscountedComponent(chain, r, x, members, lo, hi, order.closed[c] === 0, target, o.maxSweeps, scratch);
-      stats.backups += res.backups;
-      localErr = res.bound;
-      if (!res.converged) converged = false;
+      const part = m <= o.directMax || gamma < 1 ? componentChain(chain, r, gamma, x, members, lo, hi, local) : null;
+      if (part && m <= o.directMax && denseComponent(part, gamma, x, members, lo, dense, rhs)) {
+        stats.directSolves++;
+        stats.backups += m;
+      } else {
+        const target = componentTarget(o, errIn, iterative);
+        const res =
+          part && gamma < 1
+            ? fixedPointComponent(part, gamma, x, members, lo, target, o.maxSweeps)
+            : undiscountedComponent(chain, r, x, members, lo, hi, order.closed[c] === 0, target, o.maxSweeps, scratch);
+        stats.backups += res.backups;
+        localErr = res.bound;
+        if (!res.converged) converged = false;
+      }
     }
     err[c] = componentError(o, localErr, errIn);
     if (err[c] > bound) bound = err[c];
@@ -128,88 +134,61 @@ function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: Resolv
   return { values: x, converged, errorBound: bound, stats };
 }
 
-/** Dense solve of one component (rows members[lo..hi)); false if singular (x untouched). */
-function denseComponent(
-  chain: PolicyChain,
-  r: Float64Array,
-  gamma: number,
-  x: Float64Array,
-  members: Int32Array,
-  lo: number,
-  hi: number,
-  local: Int32Array,
-  a: Float64Array,
-  b: Float64Array,
-): boolean {
-  const m = hi - lo;
-  const { rowStart, col, weight, self } = chain;
-  for (let q = 0; q < m; q++) local[members[lo + q]] = q;
-  a.fill(0, 0, m * m);
-  for (let q = 0; q < m; q++) {
-    const i = members[lo + q];
-    a[q * m + q] = 1 - gamma * self[i];
-    let acc = r[i];
-    for (let e = rowStart[i]; e < rowStart[i + 1]; e++) {
-      const j = col[e];
-      const lj = local[j];
-      if (lj >= 0) a[q * m + lj] -= gamma * weight[e];
-      else acc += gamma * weight[e] * x[j];
-    }
-    b[q] = acc;
-  }
-  const ok = solveDense(a, b, m);
-  for (let q = 0; q < m; q++) {
-    const i = members[lo + q];
-    local[i] = -1;
-    if (ok) x[i] = b[q];
-  }
-  return ok;
-}
-
-interface ComponentResult {
-  bound: number;
-  converged: boolean;
-  backups: number;
-}
-
-/** gamma < 1: the component as its own chain (rows in solve order, exits folded into r), solved by dp.ts's fixed-point evaluator. */
-function fixedPointComponent(
-  chain: PolicyChain,
-  r: Float64Array,
-  gamma: number,
-  x: Float64Array,
-  members: Int32Array,
-  lo: number,
-  hi: number,
-  local: Int32Array,
-  target: number,
-  maxSweeps: number,
-): ComponentResult {
+/**
+ * One component as a chain of its own: rows in solve order (members[lo..hi)), columns local, and the
+ * successors outside the component (already solved) folded into the reward: r_i + gamma sum w_ij x_j.
+ */
+function componentChain(chain: PolicyChain, r: Float64Array, gamma: number, x: Float64Array, members: Int32Array, lo: number, hi: number, local: Int32Array): { sub: PolicyChain; r: Float64Array } {
   const m = hi - lo;
   const { rowStart, col, weight, self } = chain;
   for (let q = 0; q < m; q++) local[members[lo + q]] = q;
   let nnz = 0;
   for (let q = lo; q < hi; q++) nnz += rowStart[members[q] + 1] - rowStart[members[q]];
-  const sub = { nStates: m, states: members.subarray(lo, hi), rowStart: new Int32Array(m + 1), col: new Int32Array(nnz), weight: new Float64Array(nnz), self: new Float64Array(m) };
+  const subStart = new Int32Array(m + 1);
+  const subCol = new Int32Array(nnz);
+  const subWeight = new Float64Array(nnz);
+  const subSelf = new Float64Array(m);
   const rl = new Float64Array(m);
   let f = 0;
   for (let q = 0; q < m; q++) {
     const i = members[lo + q];
-    sub.rowStart[q] = f;
-    sub.self[q] = self[i];
+    subStart[q] = f;
+    subSelf[q] = self[i];
     let acc = r[i];
     for (let e = rowStart[i]; e < rowStart[i + 1]; e++) {
       const lj = local[col[e]];
       if (lj >= 0) {
-        sub.col[f] = lj;
-        sub.weight[f++] = weight[e];
+        subCol[f] = lj;
+        subWeight[f++] = weight[e];
       } else acc += gamma * weight[e] * x[col[e]];
     }
     rl[q] = acc;
   }
-  sub.rowStart[m] = f;
+  subStart[m] = f;
   for (let q = 0; q < m; q++) local[members[lo + q]] = -1;
-  const ev = evaluateFixedPoint({ ...sub, col: sub.col.subarray(0, f), weight: sub.weight.subarray(0, f) }, rl, gamma, target, maxSweeps);
+  const sub = { nStates: m, states: members.subarray(lo, hi), rowStart: subStart, col: subCol.subarray(0, f), weight: subWeight.subarray(0, f), self: subSelf };
+  return { sub, r: rl };
+}
+
+/** Dense solve of (I - gamma P_in) v = r_in for one component; false if singular (x untouched). */
+function denseComponent(part: { sub: PolicyChain; r: Float64Array }, gamma: number, x: Float64Array, members: Int32Array, lo: number, a: Float64Array, b: Float64Array): boolean {
+  const { sub, r } = part;
+  const m = r.length;
+  a.fill(0, 0, m * m);
+  for (let q = 0; q < m; q++) {
+    a[q * m + q] = 1 - gamma * sub.self[q];
+    for (let e = sub.rowStart[q]; e < sub.rowStart[q + 1]; e++) a[q * m + sub.col[e]] -= gamma * sub.weight[e];
+    b[q] = r[q];
+  }
+  if (!solveDense(a, b, m)) return false;
+  for (let q = 0; q < m; q++) x[members[lo + q]] = b[q];
+  return true;
+}
+
+/** gamma < 1: the component's own chain solved by dp.ts's fixed-point evaluator (rows in solve order). */
+function fixedPointComponent(part: { sub: PolicyChain; r: Float64Array }, gamma: number, x: Float64Array, members: Int32Array, lo: number, target: number, maxSweeps: number): ComponentResult {
+  const m = part.r.length;
+  const ev = evaluateFixedPoint(part.sub, part.r, gamma, target, maxSweeps);
   for (let q = 0; q < m; q++) x[members[lo + q]] = ev.values[q];
   return { bound: ev.errorBound, converged: ev.converged, backups: ev.iters * m };
 }
@@ -229,7 +208,8 @@ function gsSweep(chain: PolicyChain, r: Float64Array, gamma: number, x: Float64A
   const { rowStart, col, weight, self } = chain;
   let delta = 0;
   const step = backward ? -1 : 1;
-  for (let q = backward ? hi - 1 : lo; backward ? q >= lo : q < hi; q += step) {
+  const end = backward ? lo - 1 : hi;
+  for (let q = backward ? hi - 1 : lo; q !== end; q += step) {
     const i = members[q];
     let acc = 0;
     for (let e = rowStart[i]; e < rowStart[i + 1]; e++) acc += weight[e] * x[col[e]];
@@ -241,8 +221,8 @@ function gsSweep(chain: PolicyChain, r: Float64Array, gamma: number, x: Float64A
   return delta;
 }
 
-/** max_i (r_i + gamma (P x)_i - x_i) over members[lo..hi): the signed synchronous residual's maximum, and its absolute maximum. */
-function residual(chain: PolicyChain, r: Float64Array, gamma: number, x: Float64Array, members: Int32Array, lo: number, hi: number): { max: number; abs: number } {
+/** Over members[lo..hi): the largest signed (r + gamma P x - x)_i and the largest absolute one. */
+function chainResidual(chain: PolicyChain, r: Float64Array, gamma: number, x: Float64Array, members: Int32Array, lo: number, hi: number): { max: number; abs: number } {
   const { rowStart, col, weight, self } = chain;
   let max = -Infinity;
   let abs = 0;
@@ -257,57 +237,28 @@ function residual(chain: PolicyChain, r: Float64Array, gamma: number, x: Float64
   return { max, abs };
 }
 
-/**
- * Sweeps (alternating forward / backward) until the change is below `tol` or `cap` sweeps; returns
- * the sweeps done.
- */
-function sweepUntil(chain: PolicyChain, r: Float64Array, gamma: number, x: Float64Array, members: Int32Array, lo: number, hi: number, tol: number, cap: number): { sweeps: number; delta: number } {
-  let sweeps = 0;
-  let delta = Infinity;
-  while (sweeps < cap && !(delta <= tol)) delta = gsSweep(chain, r, gamma, x, members, lo, hi, (sweeps++ & 1) === 1);
-  return { sweeps, delta };
+/** The chain's loops over one component, for the shared drivers of sweeps.ts. */
+export function chainSweeps(chain: PolicyChain, gamma: number, members: Int32Array, lo: number, hi: number): ComponentSweeps {
+  return {
+    m: hi - lo,
+    sweep: (r, x, backward) => gsSweep(chain, r, gamma, x, members, lo, hi, backward),
+    residual: (r, x) => chainResidual(chain, r, gamma, x, members, lo, hi),
+    maxOf: (x) => maxOver(x, members, lo, hi),
+    fill: (x, v) => fillOver(x, members, lo, hi, v),
+  };
 }
 
 /** gamma = 1, a component of more than directMax states: see the file comment. */
 function undiscountedComponent(chain: PolicyChain, r: Float64Array, x: Float64Array, members: Int32Array, lo: number, hi: number, exits: boolean, target: number, maxSweeps: number, s: Scratch): ComponentResult {
-  const m = hi - lo;
-  const n = r.length;
-  const tau = (s.tau ??= new Float64Array(n));
-  const ones = (s.ones ??= new Float64Array(n).fill(1));
-  let backups = 0;
-  // Expected steps before leaving: tau = 1 + P tau with the exits at 0 (tau is 0 outside this
-  // component). In a strongly connected component with an exit every member leaves with probability 1.
-  let tauCap = Infinity;
-  if (exits) {
-    let tol = 1e-9;
-    for (let round = 0; round < 8; round++) {
-      const sw = sweepUntil(chain, ones, 1, tau, members, lo, hi, tol, maxSweeps);
-      backups += (sw.sweeps + 1) * m;
-      let tauMax = 0;
-      for (let q = lo; q < hi; q++) if (tau[members[q]] > tauMax) tauMax = tau[members[q]];
-      tauCap = certifiedTauMax(residual(chain, ones, 1, tau, members, lo, hi).max, tauMax);
-      if (tauCap < Infinity || sw.delta > tol) break;
-      tol /= 100;
-    }
-    for (let q = lo; q < hi; q++) tau[members[q]] = 0;
-  }
-  if (!(tauCap < Infinity)) {
+  if (!exits) {
     // No exit: v = r + P v has a finite solution only with zero rewards (then v = 0).
     let allZero = true;
     for (let q = lo; q < hi; q++) if (r[members[q]] !== 0) allZero = false;
-    for (let q = lo; q < hi; q++) x[members[q]] = allZero ? 0 : NaN;
-    return { bound: allZero ? 0 : Infinity, converged: allZero, backups };
+    fillOver(x, members, lo, hi, allZero ? 0 : NaN);
+    return { bound: allZero ? 0 : Infinity, converged: allZero, backups: 0 };
   }
-  // Sweep x; check the certified bound whenever the change suggests it holds.
-  let tol = target / tauCap;
-  let sweepsLeft = maxSweeps;
-  for (;;) {
-    const sw = sweepUntil(chain, r, 1, x, members, lo, hi, tol, sweepsLeft);
-    sweepsLeft -= sw.sweeps;
-    backups += (sw.sweeps + 1) * m;
-    const bound = tauCap * residual(chain, r, 1, x, members, lo, hi).abs;
-    if (bound <= target) return { bound, converged: true, backups };
-    if (sweepsLeft <= 0) return { bound, converged: false, backups };
-    tol /= 10;
-  }
+  const n = r.length;
+  const tau = (s.tau ??= new Float64Array(n));
+  const ones = (s.ones ??= new Float64Array(n).fill(1));
+  return undiscountedSweeps(chainSweeps(chain, 1, members, lo, hi), r, x, ones, tau, true, target, maxSweeps);
 }

@@ -34,7 +34,8 @@
 import type { FiniteModel } from "../../model/types.js";
 import { actionValues, expectedReward, greedyActions } from "../dp.js";
 import { solveOrder, type SolveOrder } from "./order.js";
-import { certifiedTauMax, componentError, componentTarget, emptyStats, resolveOptions, type EngineOptions, type EngineResult, type ResolvedOptions } from "./types.js";
+import { discountedSweeps, fillOver, maxOver, undiscountedSweeps, type ComponentSweeps } from "./sweeps.js";
+import { componentError, componentTarget, emptyStats, resolveOptions, type EngineOptions, type EngineResult, type ResolvedOptions } from "./types.js";
 
 /**
  * The reward-independent part of the engine for one model: the components of the all-actions graph
@@ -113,7 +114,9 @@ export function solveValuesEngine(model: FiniteModel, reward: Float64Array, opts
   let rmin = 0;
   for (let i = 0; i < r.length; i++) if (r[i] < rmin) rmin = r[i];
   const lower = gamma < 1 ? rmin / (1 - gamma) : 0;
-  const ctx: Ctx = { model, r, gamma, V, states, tau: null, ones: null };
+  // gamma = 1 only, on first use: expected exit times (0 outside the current component), ones per (s, a).
+  let tau: Float64Array | null = null;
+  let ones: Float64Array | null = null;
   let converged = true;
   let bound = 0;
   const nA = model.nActions;
@@ -134,13 +137,26 @@ export function solveValuesEngine(model: FiniteModel, reward: Float64Array, opts
     if (hi - lo === 1) {
       stats.singletons++;
       stats.backups++;
-      const v = singletonValue(ctx, states[lo]);
+      const v = singletonValue(model, r, gamma, V, states[lo]);
       V[states[lo]] = v;
       if (!Number.isFinite(v)) converged = false;
     } else {
-      for (let q = lo; q < hi; q++) V[states[q]] = lower;
+      fillOver(V, states, lo, hi, lower);
       const target = componentTarget(o, errIn, iterative);
-      const res = gamma < 1 ? discountedComponent(ctx, lo, hi, target, o.maxSweeps) : undiscountedComponent(ctx, lo, hi, order.closed[c] === 0, target, o.maxSweeps);
+      const ops = greedySweeps(model, gamma, states, lo, hi);
+      const res =
+        gamma < 1
+          ? discountedSweeps(ops, r, V, gamma, target, o.maxSweeps)
+          : undiscountedSweeps(
+              ops,
+              r,
+              V,
+              (ones ??= new Float64Array(r.length).fill(1)),
+              (tau ??= new Float64Array(model.nStates)),
+              order.closed[c] === 0,
+              target,
+              o.maxSweeps,
+            );
       stats.backups += res.backups;
       localErr = res.bound;
       if (!res.converged) converged = false;
@@ -151,28 +167,8 @@ export function solveValuesEngine(model: FiniteModel, reward: Float64Array, opts
   return { values: V, converged, errorBound: bound, stats };
 }
 
-interface Ctx {
-  model: FiniteModel;
-  /** Expected reward per (state, action). */
-  r: Float64Array;
-  gamma: number;
-  V: Float64Array;
-  /** States in solve order. */
-  states: Int32Array;
-  /** gamma = 1 only, on first use: expected exit times (0 outside the current component), and ones per (s, a). */
-  tau: Float64Array | null;
-  ones: Float64Array | null;
-}
-
-interface ComponentResult {
-  bound: number;
-  converged: boolean;
-  backups: number;
-}
-
 /** Closed-form value of a one-state component (see the file comment). */
-function singletonValue(ctx: Ctx, s: number): number {
-  const { model, r, gamma, V } = ctx;
+function singletonValue(model: FiniteModel, r: Float64Array, gamma: number, V: Float64Array, s: number): number {
   const nA = model.nActions;
   const { saStart, next, prob } = model;
   let best = -Infinity;
@@ -245,55 +241,13 @@ function greedyResidual(model: FiniteModel, r: Float64Array, gamma: number, V: F
   return { max, abs };
 }
 
-/** Alternating sweeps until the change is <= tol or `cap` sweeps. */
-function sweepUntil(model: FiniteModel, r: Float64Array, gamma: number, V: Float64Array, states: Int32Array, lo: number, hi: number, tol: number, cap: number): { sweeps: number; delta: number } {
-  let sweeps = 0;
-  let delta = Infinity;
-  while (sweeps < cap && !(delta <= tol)) delta = greedySweep(model, r, gamma, V, states, lo, hi, (sweeps++ & 1) === 1);
-  return { sweeps, delta };
-}
-
-function discountedComponent(ctx: Ctx, lo: number, hi: number, target: number, maxSweeps: number): ComponentResult {
-  const factor = ctx.gamma / (1 - ctx.gamma);
-  const sw = sweepUntil(ctx.model, ctx.r, ctx.gamma, ctx.V, ctx.states, lo, hi, target / factor, maxSweeps);
-  return { bound: factor * sw.delta, converged: factor * sw.delta <= target, backups: sw.sweeps * (hi - lo) };
-}
-
-function undiscountedComponent(ctx: Ctx, lo: number, hi: number, exits: boolean, target: number, maxSweeps: number): ComponentResult {
-  const { model, V, states } = ctx;
-  const m = hi - lo;
-  let backups = 0;
-  let tauCap = Infinity;
-  if (exits) {
-    const tau = (ctx.tau ??= new Float64Array(model.nStates));
-    const ones = (ctx.ones ??= new Float64Array(model.nStates * model.nActions).fill(1));
-    // A policy that stays forever makes tau grow without bound: give the certificate a budget.
-    const budget = Math.min(maxSweeps, 20 * m + 1000);
-    let tol = 1e-9;
-    for (let round = 0; round < 8; round++) {
-      const sw = sweepUntil(model, ones, 1, tau, states, lo, hi, tol, budget);
-      backups += (sw.sweeps + 1) * m;
-      let tauMax = 0;
-      for (let q = lo; q < hi; q++) if (tau[states[q]] > tauMax) tauMax = tau[states[q]];
-      tauCap = certifiedTauMax(greedyResidual(model, ones, 1, tau, states, lo, hi).max, tauMax);
-      if (tauCap < Infinity || sw.delta > tol) break;
-      tol /= 100;
-    }
-    for (let q = lo; q < hi; q++) tau[states[q]] = 0;
-  }
-  if (!(tauCap < Infinity)) {
-    const sw = sweepUntil(model, ctx.r, 1, V, states, lo, hi, target, maxSweeps);
-    return { bound: Infinity, converged: sw.delta <= target, backups: backups + sw.sweeps * m };
-  }
-  let tol = target / tauCap;
-  let sweepsLeft = maxSweeps;
-  for (;;) {
-    const sw = sweepUntil(model, ctx.r, 1, V, states, lo, hi, tol, sweepsLeft);
-    sweepsLeft -= sw.sweeps;
-    backups += (sw.sweeps + 1) * m;
-    const bound = tauCap * greedyResidual(model, ctx.r, 1, V, states, lo, hi).abs;
-    if (bound <= target) return { bound, converged: true, backups };
-    if (sweepsLeft <= 0) return { bound, converged: false, backups };
-    tol /= 10;
-  }
+/** Value iteration's loops over one component, for the shared drivers of sweeps.ts. */
+export function greedySweeps(model: FiniteModel, gamma: number, states: Int32Array, lo: number, hi: number): ComponentSweeps {
+  return {
+    m: hi - lo,
+    sweep: (r, V, backward) => greedySweep(model, r, gamma, V, states, lo, hi, backward),
+    residual: (r, V) => greedyResidual(model, r, gamma, V, states, lo, hi),
+    maxOf: (x) => maxOver(x, states, lo, hi),
+    fill: (x, v) => fillOver(x, states, lo, hi, v),
+  };
 }
