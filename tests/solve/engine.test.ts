@@ -27,6 +27,7 @@ function checkOptimal(model: FiniteModel, reward: Float64Array, gamma: number, o
   const eng = valueIterationEngine(model, reward, { gamma, accuracy: 1e-10, ...opts });
   expect(eng.converged).toBe(true);
   expect(maxDiff(eng.values, ref.values)).toBeLessThanOrEqual(ACCEPT);
+  checkBound(eng, ref.values, gamma);
   const nA = model.nActions;
   for (let s = 0; s < model.nStates; s++) {
     if (model.terminal[s]) {
@@ -49,6 +50,19 @@ function checkEvaluation(model: FiniteModel, reward: Float64Array, policy: Polic
   const eng = evaluatePolicyEngine(model, reward, policy, { gamma, accuracy: 1e-10, ...opts });
   expect(eng.converged).toBe(true);
   expect(maxDiff(eng.values, ref.values)).toBeLessThanOrEqual(ACCEPT);
+  checkBound(eng, ref.values, gamma);
+}
+
+/**
+ * The engine's `errorBound` holds against the reference, whose own distance to the fixed point is at
+ * most gamma / (1 - gamma) * TIGHT after its last sweep (Puterman 1994, Theorem 6.3.1, from memory),
+ * plus rounding. gamma = 1: the reference has no such bound; only the acceptance check applies.
+ */
+function checkBound(eng: { values: Float64Array; errorBound: number }, ref: Float64Array, gamma: number): void {
+  if (gamma >= 1) return;
+  expect(eng.errorBound).toBeLessThanOrEqual(1e-10);
+  const scale = ref.reduce((m, x) => Math.max(m, Math.abs(x)), 1);
+  expect(maxDiff(eng.values, ref)).toBeLessThanOrEqual(eng.errorBound + (gamma / (1 - gamma)) * TIGHT + 1e-13 * scale);
 }
 
 describe("strongly connected components (Tarjan 1972)", () => {

@@ -105,9 +105,8 @@ export function solveValuesEngine(model: FiniteModel, reward: Float64Array, opts
   const gamma = o.gamma;
   const V = new Float64Array(model.nStates);
   const stats = emptyStats(count, order.largest);
-  // Component of each state (-1 terminal), to gather the errors of exits.
-  const compOfState = new Int32Array(model.nStates).fill(-1);
-  for (let c = 0; c < count; c++) for (let q = compStart[c]; q < compStart[c + 1]; q++) compOfState[states[q]] = c;
+  // Component of each state (-1 terminal), to gather the errors of exits: built once some error is not 0.
+  let compOfState: Int32Array | null = null;
   const err = new Float64Array(count);
   let iterative = 0;
   for (let c = 0; c < count; c++) if (compStart[c + 1] - compStart[c] > 1) iterative++;
@@ -126,7 +125,8 @@ export function solveValuesEngine(model: FiniteModel, reward: Float64Array, opts
     const hi = compStart[c + 1];
     // Largest error among the components this one can leave to (skipped while every error is 0).
     let errIn = 0;
-    for (let q = lo; bound > 0 && q < hi; q++) {
+    if (bound > 0 && compOfState === null) compOfState = componentOfState(model.nStates, states, compStart, count);
+    for (let q = lo; compOfState !== null && q < hi; q++) {
       const k0 = states[q] * nA;
       for (let o2 = saStart[k0]; o2 < saStart[k0 + nA]; o2++) {
         const cj = compOfState[next[o2]];
@@ -165,6 +165,12 @@ export function solveValuesEngine(model: FiniteModel, reward: Float64Array, opts
     if (err[c] > bound) bound = err[c];
   }
   return { values: V, converged, errorBound: bound, stats };
+}
+
+function componentOfState(nStates: number, states: Int32Array, compStart: Int32Array, count: number): Int32Array {
+  const out = new Int32Array(nStates).fill(-1);
+  for (let c = 0; c < count; c++) for (let q = compStart[c]; q < compStart[c + 1]; q++) out[states[q]] = c;
+  return out;
 }
 
 /** Closed-form value of a one-state component (see the file comment). */
