@@ -125,6 +125,54 @@ describe("Sutton & Barto 2018, Example 4.1 (4x4 gridworld, gamma = 1)", () => {
   });
 });
 
+describe("edge cases of gamma = 1 (hand-made models; values by hand from the Bellman equations)", () => {
+  /** 0 <-> 1 a closed class (no terminal reachable), 2 -> 0, 3 -> terminal 4; rewards given per state. */
+  function closedClass(r01: number): { model: FiniteModel; reward: Float64Array } {
+    const b = new ModelBuilder({ name: "closed", nStates: 5, actions: ["go"], features: ["r"], gamma: 1, horizon: 100 });
+    b.setTerminal(4).setStart(3, 1);
+    b.addOutcome(0, 0, 1, 1, [r01]);
+    b.addOutcome(1, 0, 0, 1, [0]);
+    b.addOutcome(2, 0, 0, 1, [0]);
+    b.addOutcome(3, 0, 4, 1, [2]);
+    const model = b.build();
+    return { model, reward: Float64Array.from(model.featureValues) };
+  }
+
+  it("a closed class with zero reward is worth 0; with reward its value is infinite (NaN here) and flagged", () => {
+    // v = r + v on a cycle: a solution exists only when the cycle's reward is 0 (then v = 0 on and into it).
+    const zero = closedClass(0);
+    const ev0 = evaluatePolicyEngine(zero.model, zero.reward, uniformPolicy(zero.model), { directMax: 0 });
+    expect(ev0.converged).toBe(true);
+    expect(Array.from(ev0.values)).toEqual([0, 0, 0, 2, 0]);
+    const one = closedClass(1);
+    for (const directMax of [0, 64]) {
+      const ev1 = evaluatePolicyEngine(one.model, one.reward, uniformPolicy(one.model), { directMax });
+      expect(ev1.converged).toBe(false);
+      expect(Number.isNaN(ev1.values[0]) && Number.isNaN(ev1.values[2])).toBe(true);
+      // The part that does terminate is unaffected: v(3) = 2.
+      expect(ev1.values[3]).toBe(2);
+    }
+  });
+
+  it("a self-loop of probability 1/2 with reward -1 before a terminal: v = -2 in one closed-form backup", () => {
+    // v = -1 + v / 2  =>  v = -2 (Sutton & Barto 2018, eq. 4.4 for a single state)
+    const b = new ModelBuilder({ name: "loop", nStates: 2, actions: ["stay", "quit"], features: ["r"], gamma: 1, horizon: 100 });
+    b.setTerminal(1).setStart(0, 1);
+    b.addOutcome(0, 0, 0, 0.5, [-1]).addOutcome(0, 0, 1, 0.5, [-1]);
+    b.addOutcome(0, 1, 1, 1, [-3]);
+    const model = b.build();
+    const reward = Float64Array.from(model.featureValues);
+    const vi = valueIterationEngine(model, reward);
+    expect(vi.values[0]).toBe(-2);
+    expect(vi.policy[0]).toBe(0);
+    expect(vi.stats.singletons).toBe(1);
+    expect(vi.stats.backups).toBe(1);
+    const ev = evaluatePolicyEngine(model, reward, uniformPolicy(model));
+    // Uniform: v = 0.5 * (-1 + v / 2) + 0.5 * (-3)  =>  0.75 v = -2  =>  v = -8/3
+    expect(ev.values[0]).toBeCloseTo(-8 / 3, 14);
+  });
+});
+
 describe("built-in scenarios: every variant's designer reward and the intent", () => {
   for (const name of builtinScenarioNames()) {
     it(`${name}: v*, greedy policy, v of the uniform and of the designer-optimal policy`, () => {
