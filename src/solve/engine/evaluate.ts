@@ -238,7 +238,7 @@ function chainResidual(chain: PolicyChain, r: Float64Array, gamma: number, x: Fl
 }
 
 /** The chain's loops over one component, for the shared drivers of sweeps.ts. */
-export function chainSweeps(chain: PolicyChain, gamma: number, members: Int32Array, lo: number, hi: number): ComponentSweeps {
+function chainSweeps(chain: PolicyChain, gamma: number, members: Int32Array, lo: number, hi: number): ComponentSweeps {
   return {
     m: hi - lo,
     sweep: (r, x, backward) => gsSweep(chain, r, gamma, x, members, lo, hi, backward),

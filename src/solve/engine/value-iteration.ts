@@ -248,7 +248,7 @@ function greedyResidual(model: FiniteModel, r: Float64Array, gamma: number, V: F
 }
 
 /** Value iteration's loops over one component, for the shared drivers of sweeps.ts. */
-export function greedySweeps(model: FiniteModel, gamma: number, states: Int32Array, lo: number, hi: number): ComponentSweeps {
+function greedySweeps(model: FiniteModel, gamma: number, states: Int32Array, lo: number, hi: number): ComponentSweeps {
   return {
     m: hi - lo,
     sweep: (r, V, backward) => greedySweep(model, r, gamma, V, states, lo, hi, backward),
