@@ -7,6 +7,7 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { ModelBuilder } from "../../src/model/builder.js";
+import { example41 } from "../helpers/example41.js";
 import { randomMdp } from "../helpers/random-mdp.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, policyChain } from "../../src/solve/evaluation.js";
@@ -122,21 +123,8 @@ describe("fixed-point policy evaluation (accuracy mode)", () => {
 
   it("gamma = 1 has no contraction bound: accuracy means synchronous sweeps with tol = accuracy (Sutton & Barto 2018, Example 4.1)", () => {
     // Sutton & Barto 2018, Figure 4.1 (k = infinity): v_pi of the equiprobable policy on the 4x4 grid.
-    const b = new ModelBuilder({ name: "ex41", nStates: 16, actions: ["up", "down", "left", "right"], features: ["r"], gamma: 1, horizon: 1000 });
-    b.setTerminal(0).setTerminal(15).setStart(5, 1);
-    const d = [
-      [-1, 0],
-      [1, 0],
-      [0, -1],
-      [0, 1],
-    ];
-    for (let s = 1; s < 15; s++) {
-      const r = Math.floor(s / 4);
-      const c = s % 4;
-      d.forEach(([dr, dc], a) => b.addOutcome(s, a, Math.min(3, Math.max(0, r + dr)) * 4 + Math.min(3, Math.max(0, c + dc)), 1, [-1]));
-    }
-    const m = b.build();
-    const ev = evaluatePolicy(m, Float64Array.from(m.featureValues), uniformPolicy(m), { accuracy: 1e-10 });
+    const { model: m, reward } = example41();
+    const ev = evaluatePolicy(m, reward, uniformPolicy(m), { accuracy: 1e-10 });
     expect(ev.errorBound).toBeUndefined();
     expect(Array.from(ev.values, (v) => Math.round(v * 1e6) / 1e6)).toEqual([0, -14, -20, -22, -14, -18, -20, -20, -20, -20, -18, -14, -22, -20, -14, 0]);
   });

@@ -4,6 +4,7 @@
  * with local vertex ids that Karp's and Howard's methods work on. Pure; no I/O.
  */
 import { InputError } from "../../errors.js";
+import { stronglyConnected } from "../../solve/engine/scc.js";
 
 /** One edge of an edge-list graph. */
 export interface GraphEdge<L = unknown> {
@@ -103,68 +104,13 @@ export interface Components {
   offset: Int32Array;
 }
 
-/** Strongly connected components by Tarjan's algorithm with an explicit stack (no recursion). */
+/**
+ * Strongly connected components by Tarjan's algorithm with an explicit stack (no recursion): the
+ * solver engine's (src/solve/engine/scc.ts), under this module's field names.
+ */
 export function stronglyConnectedComponents(n: number, start: Int32Array, to: Int32Array): Components {
-  const index = new Int32Array(n).fill(-1);
-  const low = new Int32Array(n);
-  const onStack = new Uint8Array(n);
-  const stack = new Int32Array(n);
-  let sp = 0;
-  const callV = new Int32Array(n);
-  const callE = new Int32Array(n);
-  let cp = 0;
-  const comp = new Int32Array(n).fill(-1);
-  const order = new Int32Array(n);
-  const offsets: number[] = [0];
-  let written = 0;
-  let counter = 0;
-  let count = 0;
-  for (let root = 0; root < n; root++) {
-    if (index[root] !== -1) continue;
-    index[root] = low[root] = counter++;
-    stack[sp++] = root;
-    onStack[root] = 1;
-    callV[cp] = root;
-    callE[cp] = start[root];
-    cp++;
-    while (cp > 0) {
-      const v = callV[cp - 1];
-      const e = callE[cp - 1];
-      if (e < start[v + 1]) {
-        callE[cp - 1] = e + 1;
-        const w = to[e];
-        if (index[w] === -1) {
-          index[w] = low[w] = counter++;
-          stack[sp++] = w;
-          onStack[w] = 1;
-          callV[cp] = w;
-          callE[cp] = start[w];
-          cp++;
-        } else if (onStack[w] && index[w] < low[v]) {
-          low[v] = index[w];
-        }
-        continue;
-      }
-      // v is finished.
-      cp--;
-      if (cp > 0) {
-        const parent = callV[cp - 1];
-        if (low[v] < low[parent]) low[parent] = low[v];
-      }
-      if (low[v] === index[v]) {
-        let w: number;
-        do {
-          w = stack[--sp];
-          onStack[w] = 0;
-          comp[w] = count;
-          order[written++] = w;
-        } while (w !== v);
-        offsets.push(written);
-        count++;
-      }
-    }
-  }
-  return { comp, count, order, offset: Int32Array.from(offsets) };
+  const c = stronglyConnected({ n, rowStart: start, col: to });
+  return { comp: c.comp, count: c.count, order: c.members, offset: c.compStart };
 }
 
 /** Intra-component CSR with local vertex ids 0..m-1. `verts[local]` is the global id. */
