@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
-import { builtinScenarioNames, readScenarioMeta } from "../../src/model/registry.js";
+import { builtinScenarioNames, readScenarioMeta } from "../../src/env/index.js";
 
 async function cli(...argv: string[]) {
   const io = memoryIO();

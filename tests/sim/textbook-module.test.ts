@@ -7,7 +7,8 @@ import { designerReward } from "../../src/model/reward.js";
 import { createRng } from "../../src/rng/rng.js";
 import { evaluatePolicy, uniformPolicy, valueIteration } from "../../src/solve/dp.js";
 import { moduleTabularEnv } from "../../src/sim/env.js";
-import { loadModuleEnv, type SimulatorHandle } from "../../src/sim/load.js";
+import { loadModuleEnv } from "../../src/env/resolve.js";
+import type { SimulatorHandle } from "../../src/sim/load.js";
 import type { EnvDefinition } from "../../src/sim/define.js";
 
 const FILE = "examples/textbook-4x4.ts";
