@@ -1,3 +1,4 @@
+import { mkdtempSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
@@ -136,12 +137,18 @@ describe("--max-states on every command that loads an environment", () => {
   // Sutton & Barto (2018), Example 4.1: the 4x4 gridworld has 16 cells, so a bound of 10 states
   // cannot hold it and a bound of 16 can.
   const MODULE = "examples/textbook-4x4.ts";
-  for (const cmd of ["solve", "audit", "pressure", "export", "train"]) {
+  const runsDir = mkdtempSync(join(tmpdir(), "gw-max-states-"));
+  const extra: Record<string, string[]> = {
+    train: ["--steps", "200", "--runs-dir", runsDir],
+    compare: ["--rewards", "default", "--seeds", "1", "--workers", "1", "--runs-dir", runsDir],
+  };
+  for (const cmd of ["solve", "audit", "pressure", "export", "train", "compare"]) {
     it(`${cmd} --max-states 10 refuses the 16-state module with one line (exit 2)`, async () => {
-      const r = await cli(cmd, "--env", MODULE, "--max-states", "10", ...(cmd === "train" ? ["--steps", "200", "--runs-dir", join(tmpdir(), "gw-max-states-runs")] : []));
+      const r = await cli(cmd, "--env", MODULE, "--max-states", "10", ...(extra[cmd] ?? []));
       expect(r.code).toBe(2);
       expect(r.err.trimEnd().split("\n")).toHaveLength(1);
-      expect(r.err).toMatch(/\[module\.tooManyStates\] .*textbook-4x4\.ts: more than 10 reachable states/);
+      // compare reports the first failed run's error.
+      expect(r.err).toMatch(/\[module\.tooManyStates\] .*textbook-4x4\.ts: (every run failed; first: )?more than 10 reachable states/);
     });
   }
   it("solve --max-states 16 compiles the same module (16 states)", async () => {

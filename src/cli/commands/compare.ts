@@ -15,7 +15,7 @@ import { InputError, EXIT } from "../../errors.js";
 import { BOOTSTRAP_DEFAULTS } from "../../stats/bootstrap.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { CAUTION, emit, paint, table, useColor } from "../io.js";
-import { envOption, jsonOption, reportOf, reportOption, runsDirOf, runsDirOption } from "../options.js";
+import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, runsDirOf, runsDirOption } from "../options.js";
 import { progressLine } from "../progress.js";
 
 interface CompareCliOptions {
@@ -32,6 +32,7 @@ interface CompareCliOptions {
   bootstrapSeed?: string;
   bootstrapReps?: string;
   runsDir?: string;
+  maxStates?: string;
   csv?: string;
   json?: boolean;
   /** --report: true for the default `<comparison-dir>/report.html`, or a file. */
@@ -96,6 +97,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .addOption(runsDirOption())
     .option("--csv <file>", "also write the per-run CSV here")
     .addOption(reportOption("the HTML report of the comparison", "<comparison-dir>/report.html"))
+    .addOption(maxStatesOption())
     .addOption(jsonOption())
     .action(
       action(ctx, async (opts: CompareCliOptions) => {
@@ -117,6 +119,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
             runTimeoutMs: opts.runTimeout === undefined ? undefined : runTimeoutMs(opts.runTimeout),
             bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
             reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: BOOTSTRAP_DEFAULTS.reps }),
+            maxStates: maxStatesOf(opts),
             csv: opts.csv === undefined ? undefined : resolve(ctx.io.cwd, opts.csv),
             report: reportOf(ctx.io, opts.report),
           },
