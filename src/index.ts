@@ -1,12 +1,15 @@
 /**
- * gapwatch's public entry point. Everything a CLI command does is callable from here.
+ * gapwatch's public entry point. Everything a CLI command does is callable from here: the command
+ * handlers are in src/app; this file never imports src/cli (only `runCli` loads it, on first call).
  */
 export { defineEnv, type EnvDefinition, type StepResult, type Outcome, type EnvProperty } from "./sim/define.js";
 export type { FiniteModel, RewardVariant, Layout } from "./model/types.js";
 export { ModelBuilder } from "./model/builder.js";
 export { designerReward, expectedPerStateAction } from "./model/reward.js";
 export { learnerView, viewEnv, type LearnerView, type TabularEnv, type StepOut } from "./model/learner-view.js";
-export { loadEnv, loadEnvSync, loadScenario, resolveReward, builtinScenarioNames, type LoadedEnv, type ScenarioMeta } from "./model/registry.js";
+export { loadEnv, loadEnvSync, loadScenario, resolveReward, builtinScenarioNames, loadFinite, loadFiniteVariant, requireFinite, type LoadedEnv, type FiniteEnv } from "./env/index.js";
+export type { ScenarioMeta, TrapKind } from "./model/scenario.js";
+export type { SimulatorHandle } from "./sim/load.js";
 export { parseModelFile, loadModelFile } from "./model/format/model-file.js";
 export { parseRewardFile } from "./model/format/reward-file.js";
 export { exportModel, formatModelDocument } from "./model/format/export.js";
@@ -14,9 +17,6 @@ export { DEFAULT_HORIZON, MODEL_FORMAT, REWARD_FORMAT, type ModelDocument } from
 export * from "./solve/index.js";
 export { createRng, Xorshift32, type Rng } from "./rng/rng.js";
 export { GapwatchError, InputError, EXIT, formatError } from "./errors.js";
-export { runCli } from "./cli/program.js";
-export { listEnvs } from "./cli/commands/envs.js";
-export { runSolve } from "./cli/commands/solve.js";
 export { runTraining, resolveTrainConfig } from "./train/run.js";
 export type { TrainConfig, TrainConfigInput } from "./train/config.js";
 export { readRun } from "./store/run-store.js";
@@ -31,7 +31,16 @@ export { indifferenceProbability } from "./audit/indifference.js";
 export { pressureCurve } from "./pressure/curve.js";
 export { runCheck } from "./check/run.js";
 export { writeReport, renderReportFor } from "./report/index.js";
-export { runDemo } from "./cli/commands/demo.js";
+export * from "./app/index.js";
 export { learners, train, defaultLearner } from "../policies/index.js";
 export * as stats from "./stats/index.js";
 export * as detectors from "./monitor/detectors/index.js";
+
+/**
+ * The whole CLI as a function (argv without the program name; returns the exit code). The CLI
+ * module is loaded on the first call, so importing the library does not load commander.
+ */
+export async function runCli(argv: string[], io?: import("./cli/io.js").CliIO): Promise<number> {
+  const cli = await import("./cli/program.js");
+  return cli.runCli(argv, io);
+}

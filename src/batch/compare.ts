@@ -16,6 +16,7 @@ import { canonicalJson } from "../store/run-store.js";
 import { COMPARISON_FILE, openIndex } from "../store/index-db.js";
 import { writeFileAtomic, writeJsonAtomic } from "../store/atomic.js";
 import type { RunResult } from "../store/types.js";
+import { BOOTSTRAP_DEFAULTS } from "../stats/bootstrap.js";
 import { getLearner } from "../train/learners.js";
 import { resolveTrainConfig } from "../train/run.js";
 import { aggregateComparison, comparisonCsv, type ComparisonStats, type RunRecord } from "./aggregate.js";
@@ -166,7 +167,7 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
       seeds: cfg.seeds,
       steps: cfg.steps ?? null,
       bootstrapSeed: cfg.bootstrapSeed,
-      bootstrapReps: cfg.reps ?? 2000,
+      bootstrapReps: cfg.reps ?? BOOTSTRAP_DEFAULTS.reps,
       backend: target ? "redis" : "local",
     };
     const { backend: _b, ...hashed } = config;
@@ -187,15 +188,3 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   }
 }
 
-/** A one-line progress bar with ETA (pure; the CLI redraws it on a TTY stderr). */
-export function progressLine(done: number, total: number, failed: number, elapsedMs: number, width = 24): string {
-  const frac = total > 0 ? done / total : 1;
-  const fill = Math.round(frac * width);
-  const bar = "#".repeat(fill) + ".".repeat(width - fill);
-  let eta = "--:--";
-  if (done > 0 && done < total) {
-    const s = Math.round(((elapsedMs / done) * (total - done)) / 1000);
-    eta = `${Math.floor(s / 60)}:${String(s % 60).padStart(2, "0")}`;
-  } else if (done >= total) eta = "0:00";
-  return `[${bar}] ${done}/${total} runs${failed ? `, ${failed} failed` : ""}  ETA ${eta}`;
-}

@@ -29,7 +29,7 @@ export function failureOf(err: unknown): RunFailure {
 }
 
 export async function executeLocal(job: BatchJob, runsDir: string): Promise<RunResult> {
-  return runTraining(job.input, { runsDir, sync: true });
+  return runTraining(job.input, { runsDir, sync: true, maxStates: job.maxStates });
 }
 
 /** Replace the run id (and the config's env / reward spec) inside a shipped run's files. */
@@ -83,7 +83,7 @@ export async function executeRemote(job: BatchJob): Promise<ShippedRun> {
       moved = true;
     }
     const runsDir = join(scratch, "runs");
-    const result = await runTraining(input, { runsDir, sync: true });
+    const result = await runTraining(input, { runsDir, sync: true, maxStates: job.maxStates });
     const files: Record<string, string> = {};
     for (const name of readdirSync(result.runDir)) {
       if (name.startsWith(".")) continue;

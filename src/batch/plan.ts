@@ -19,6 +19,8 @@ export interface SweepSpec {
   steps?: number;
   /** Extra TrainConfigInput keys applied to every run (checkpoints, monitor, ...). */
   base?: Omit<TrainConfigInput, "env" | "reward" | "learner" | "seed" | "steps">;
+  /** State bound when `env` is a simulator module (`--max-states`); a load option, not part of a run's config or job id. */
+  maxStates?: number;
 }
 
 /** Most runs one sweep may plan: beyond it a typo (--seeds 1000000000) would exhaust memory before any work. */
@@ -88,7 +90,13 @@ export function planSweep(spec: SweepSpec, opts: { ship?: boolean } = {}): Batch
         const key = `${reward}`;
         let files = cache.get(key);
         if (!files) cache.set(key, (files = shipFiles(input)));
-        jobs.push({ jobId: jobIdOf(input, files), input, ...(opts.ship && Object.keys(files).length ? { files } : {}), cell: { reward, learner, seed } });
+        jobs.push({
+          jobId: jobIdOf(input, files),
+          input,
+          ...(opts.ship && Object.keys(files).length ? { files } : {}),
+          ...(spec.maxStates !== undefined ? { maxStates: spec.maxStates } : {}),
+          cell: { reward, learner, seed },
+        });
       }
     }
   }

@@ -13,6 +13,8 @@ export interface BatchJob {
   input: TrainConfigInput;
   /** Input files by the spec string that names them in `input` (env / reward), with their text. */
   files?: Record<string, string>;
+  /** State bound when the env is a simulator module (`--max-states`); not part of the job id. */
+  maxStates?: number;
   /** Where the job sits in the matrix (for reports). */
   cell: { reward: string; learner: string; seed: number };
 }

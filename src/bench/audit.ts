@@ -6,7 +6,7 @@
  * Reported, never enforced.
  */
 import { runAudit } from "../audit/run.js";
-import { builtinScenarioNames, loadScenario, resolveReward } from "../model/registry.js";
+import { builtinScenarioNames, loadScenario, resolveReward } from "../env/index.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { valueIteration } from "../solve/value-iteration.js";

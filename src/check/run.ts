@@ -3,9 +3,7 @@
  * the report document. Pure apart from loading the environment.
  */
 import { InputError } from "../errors.js";
-import { loadEnv } from "../model/registry.js";
-import { setMaxStates } from "../sim/load.js";
-import { DEFAULT_MAX_STATES } from "../sim/define.js";
+import { loadEnv } from "../env/resolve.js";
 import type { PropertyResult } from "./harness.js";
 import { propertiesFor } from "./property-list.js";
 import { subjectOf, type CheckSubject } from "./subject.js";
@@ -57,10 +55,5 @@ export function checkSubject(subject: CheckSubject, opts: CheckOptions = {}): Ch
 }
 
 export async function runCheck(spec: string, opts: CheckOptions = {}): Promise<CheckReport> {
-  setMaxStates(opts.maxStates ?? DEFAULT_MAX_STATES);
-  try {
-    return checkSubject(subjectOf(await loadEnv(spec), spec), opts);
-  } finally {
-    setMaxStates(DEFAULT_MAX_STATES);
-  }
+  return checkSubject(subjectOf(await loadEnv(spec, { maxStates: opts.maxStates }), spec), opts);
 }

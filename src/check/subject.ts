@@ -3,10 +3,9 @@
  * A module is checked as written (its own reset/step/transitions); a built-in scenario or model file
  * through `modelSimulator`, so every property runs the same code on every kind.
  */
-import type { LoadedEnv } from "../model/registry.js";
+import type { LoadedEnv } from "../env/types.js";
 import type { FiniteModel } from "../model/types.js";
 import type { EnvDefinition } from "../sim/define.js";
-import type { SimulatorHandle } from "../sim/load.js";
 import { modelSimulator } from "../sim/model-sim.js";
 
 export interface CheckSubject<S = unknown> {
@@ -24,10 +23,10 @@ export interface CheckSubject<S = unknown> {
 
 export function subjectOf(env: LoadedEnv, spec = env.spec): CheckSubject {
   if (env.kind === "module") {
-    const h = env.simulator as SimulatorHandle;
+    const h = env.simulator;
     return { spec, kind: env.kind, source: h.source, def: h.def, model: env.model, states: h.states };
   }
-  const model = env.model!;
+  const model = env.model;
   const def = modelSimulator(model) as EnvDefinition<unknown>;
   return { spec, kind: env.kind, source: model.source ?? spec, def, model, states: Array.from({ length: model.nStates }, (_, i) => i) };
 }

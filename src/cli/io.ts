@@ -86,21 +86,7 @@ export function formatNumber(x: number, digits = 4): string {
   return x.toFixed(digits);
 }
 
-const BARS = "▁▂▃▄▅▆▇█";
-
-/** A sparkline of a series scaled to its own min..max (or a given range). Pure. */
-export function sparkline(values: number[], range?: [number, number]): string {
-  if (values.length === 0) return "";
-  const lo = range ? range[0] : Math.min(...values);
-  const hi = range ? range[1] : Math.max(...values);
-  return values
-    .map((v) => {
-      if (!Number.isFinite(v)) return " ";
-      const t = hi - lo < 1e-12 ? 0.5 : (v - lo) / (hi - lo);
-      return BARS[Math.max(0, Math.min(BARS.length - 1, Math.round(t * (BARS.length - 1))))];
-    })
-    .join("");
-}
+export { sparkline } from "../report/terminal.js";
 
 /** Print the result of a command: JSON document or human text. */
 export function emit(io: CliIO, json: boolean, doc: unknown, human: () => string): void {

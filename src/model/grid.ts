@@ -37,7 +37,7 @@ import { readFileSync } from "node:fs";
 import { join } from "node:path";
 import { InputError } from "../errors.js";
 import { ModelBuilder } from "./builder.js";
-import type { ScenarioMeta } from "./registry.js";
+import type { ScenarioMeta } from "./scenario.js";
 import type { FiniteModel } from "./types.js";
 
 export const GRID_EVENTS = ["step", "bump", "wait", "goal", "hazard", "pickup", "deliver", "tag", "tagFirst", "fragile", "slip"] as const;

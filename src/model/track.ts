@@ -34,7 +34,7 @@
 import { join } from "node:path";
 import { InputError } from "../errors.js";
 import { ModelBuilder } from "./builder.js";
-import type { ScenarioMeta } from "./registry.js";
+import type { ScenarioMeta } from "./scenario.js";
 import type { FiniteModel } from "./types.js";
 
 export const TRACK_ACTIONS = ["accelerate", "coast", "brake"] as const;

@@ -8,7 +8,7 @@
  * score), so one set of defaults serves every model whatever its reward scale.
  *
  * Detectors (defaults in `MONITOR_DEFAULTS`, tuned on seeds 1-10 of the built-in scenarios with
- * src/monitor/tune.ts; the test suite asserts on seeds 11-30):
+ * scripts/tune.ts; the test suite asserts on seeds 11-30):
  *
  * (a) "intent-drop": the intent score falls from its running peak while the designer return does not
  *     fall. A lower tabular CUSUM (src/monitor/detectors/cusum.ts) runs on the intent increments

@@ -1,8 +1,34 @@
 /**
- * Pictures for the terminal: a policy's route drawn on a grid map, and a track strip. Pure functions
- * of a model and a policy; no I/O.
+ * Pictures for the terminal: a policy's route drawn on a grid map, a track strip, and sparklines of a
+ * run's score series. Pure functions; no I/O.
  */
 import type { FiniteModel } from "../model/types.js";
+import type { RunResult } from "../store/types.js";
+
+const BARS = "▁▂▃▄▅▆▇█";
+
+/** A sparkline of a series scaled to its own min..max (or a given range). Pure. */
+export function sparkline(values: number[], range?: [number, number]): string {
+  if (values.length === 0) return "";
+  const lo = range ? range[0] : Math.min(...values);
+  const hi = range ? range[1] : Math.max(...values);
+  return values
+    .map((v) => {
+      if (!Number.isFinite(v)) return " ";
+      const t = hi - lo < 1e-12 ? 0.5 : (v - lo) / (hi - lo);
+      return BARS[Math.max(0, Math.min(BARS.length - 1, Math.round(t * (BARS.length - 1))))];
+    })
+    .join("");
+}
+
+/** Both normalized series of a run on one shared scale (so their levels compare). */
+export function sparklines(r: RunResult): { designer: string; intent: string } {
+  const d = r.checkpoints.map((c) => c.designerNorm);
+  const i = r.checkpoints.map((c) => c.intentNorm);
+  const lo = Math.min(0, ...d, ...i);
+  const hi = Math.max(1, ...d, ...i);
+  return { designer: sparkline(d, [lo, hi]), intent: sparkline(i, [lo, hi]) };
+}
 
 const ARROWS: Record<string, string> = { up: "↑", right: "→", down: "↓", left: "←", wait: "•", north: "↑", east: "→", south: "↓", west: "←" };
 

@@ -6,7 +6,7 @@
 import { existsSync, mkdirSync, readFileSync } from "node:fs";
 import { dirname, join, resolve } from "node:path";
 import { parseRewardFile } from "../model/format/reward-file.js";
-import { loadEnv } from "../model/registry.js";
+import { loadFinite } from "../env/resolve.js";
 import type { FiniteModel } from "../model/types.js";
 import { writeFileAtomic } from "../store/atomic.js";
 import { renderComparisonReport } from "./comparison-report.js";
@@ -32,7 +32,7 @@ export interface WriteReportOptions {
 async function tryModel(spec: string | undefined): Promise<FiniteModel | null> {
   if (!spec) return null;
   try {
-    return (await loadEnv(spec)).model ?? null;
+    return (await loadFinite(spec, { command: "report" })).model;
   } catch {
     return null;
   }

@@ -1,6 +1,6 @@
 export * from "./define.js";
 export { compileModule, compileModuleStates } from "./compile.js";
 export { moduleTabularEnv, type ModuleEnv } from "./env.js";
-export { loadModuleEnv, setMaxStates, type SimulatorHandle } from "./load.js";
+export { loadSimulator, type SimulatorHandle, type SimulatorLoadOptions, type LoadedSimulator } from "./load.js";
 export { Episode, isValidAction, type EpisodeStep, type EpisodeOptions } from "./episode.js";
 export { modelSimulator } from "./model-sim.js";

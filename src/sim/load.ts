@@ -5,7 +5,7 @@
  */
 import { pathToFileURL } from "node:url";
 import { InputError } from "../errors.js";
-import type { LoadedEnv } from "../model/registry.js";
+import type { FiniteModel } from "../model/types.js";
 import { compileModuleStates } from "./compile.js";
 import { DEFAULT_MAX_STATES, type EnvDefinition } from "./define.js";
 
@@ -16,10 +16,15 @@ export interface SimulatorHandle {
   states?: unknown[];
 }
 
-let maxStates = DEFAULT_MAX_STATES;
-/** Set the state bound for compiling modules (`--max-states`). */
-export function setMaxStates(n: number): void {
-  maxStates = n;
+export interface SimulatorLoadOptions {
+  /** State bound for compiling the module to a finite model (`--max-states`); default DEFAULT_MAX_STATES. */
+  maxStates?: number;
+}
+
+/** A loaded simulator module: its handle, and its finite model when it compiled to one. */
+export interface LoadedSimulator {
+  simulator: SimulatorHandle;
+  model?: FiniteModel;
 }
 
 export async function importModule(file: string): Promise<unknown> {
@@ -56,10 +61,11 @@ export function validateDefinition(value: unknown, file: string): EnvDefinition<
   return d as unknown as EnvDefinition<unknown>;
 }
 
-export async function loadModuleEnv(file: string): Promise<LoadedEnv> {
+/** Import, validate and (when it allows, within `maxStates`) compile a simulator module. */
+export async function loadSimulator(file: string, opts: SimulatorLoadOptions = {}): Promise<LoadedSimulator> {
   const def = validateDefinition(await importModule(file), file);
-  const compiled = compileModuleStates(def, { maxStates, source: file });
+  const compiled = compileModuleStates(def, { maxStates: opts.maxStates ?? DEFAULT_MAX_STATES, source: file });
   const model = compiled?.model;
   const simulator: SimulatorHandle = { def, source: file, states: compiled?.states };
-  return { model: model ? { ...model, source: file } : undefined, simulator, kind: "module", spec: file };
+  return { simulator, model: model ? { ...model, source: file } : undefined };
 }

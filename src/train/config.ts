@@ -6,6 +6,7 @@
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import type { DeepPartial, MonitorConfig } from "../monitor/monitor.js";
+import { defaultLearner } from "../../policies/index.js";
 
 export type EvaluationMode = "exact" | "mc" | "both";
 
@@ -36,7 +37,7 @@ export interface TrainConfig {
 export type TrainConfigInput = Partial<TrainConfig> & { env: string };
 
 export const TRAIN_DEFAULTS = {
-  learner: "q-learning",
+  learner: defaultLearner as string,
   seed: 1,
   checkpoints: 20,
   evaluation: "exact" as EvaluationMode,
@@ -45,7 +46,7 @@ export const TRAIN_DEFAULTS = {
    * Step-size and exploration schedules for the tabular learners, linear over the whole run:
    * alpha 0.2 -> 0.02 and epsilon 0.3 -> 0.05. Constant alpha = 0.1 leaves Q-learning's greedy policy
    * flipping between near-equal routes on slippery maps at the end of a run, and constant epsilon =
-   * 0.1 lets it settle early in a local optimum (tuning runs, seeds 1-10, src/monitor/tune.ts).
+   * 0.1 lets it settle early in a local optimum (tuning runs, seeds 1-10, scripts/tune.ts).
    */
   tabularSchedules: { alpha: [0.2, 0.02], epsilon: [0.3, 0.05] },
   /** Step budget per (state, action) pair when neither --steps nor the scenario gives one. */

@@ -10,12 +10,11 @@
 import { performance } from "node:perf_hooks";
 import { GapwatchError, InputError } from "../errors.js";
 import { learnerView, viewEnv } from "../model/learner-view.js";
-import { builtinScenarioNames, loadEnv, resolveReward, type LoadedEnv } from "../model/registry.js";
+import { builtinScenarioNames, loadEnv, loadFiniteVariant, type EnvLoadOptions, type LoadedEnv } from "../env/index.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferences, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
 import { Monitor, type Alert, type CheckpointRecord, type ScoreBounds } from "../monitor/monitor.js";
 import { createRng } from "../rng/rng.js";
-import { requireFinite } from "../sim/finite.js";
 import { defaultVariantName } from "../model/reward.js";
 import { RunWriter, runId as makeRunId } from "../store/run-store.js";
 import type { RunManifest, RunResult, RunStatus, RunSummary } from "../store/types.js";
@@ -41,6 +40,8 @@ export interface RunOptions {
   onProgress?: (p: Progress) => void;
   /** Train synchronously (no event-loop yields between checkpoints); default false. */
   sync?: boolean;
+  /** State bound when `env` is a simulator module (`--max-states`); not part of the run's config. */
+  maxStates?: number;
 }
 
 export interface ResolvedRun {
@@ -58,16 +59,16 @@ export interface ResolvedRun {
 const scenarioCache = new Map<string, LoadedEnv>();
 const referenceCache = new WeakMap<FiniteModel, Map<string, ScoreReferences>>();
 
-async function loadCached(spec: string): Promise<LoadedEnv> {
+async function loadCached(spec: string, opts: EnvLoadOptions): Promise<LoadedEnv> {
   if (builtinScenarioNames().includes(spec)) {
     let hit = scenarioCache.get(spec);
     if (!hit) {
-      hit = await loadEnv(spec);
+      hit = await loadEnv(spec, opts);
       scenarioCache.set(spec, hit);
     }
     return hit;
   }
-  return loadEnv(spec);
+  return loadEnv(spec, opts);
 }
 
 function cachedReferences(kind: LoadedEnv["kind"], model: FiniteModel, variant: RewardVariant): ScoreReferences {
@@ -81,15 +82,13 @@ function cachedReferences(kind: LoadedEnv["kind"], model: FiniteModel, variant: 
 }
 
 /** Fill every default of a config and load its environment and reward. Throws InputError on bad input. */
-export async function resolveTrainConfig(input: TrainConfigInput): Promise<ResolvedRun> {
+export async function resolveTrainConfig(input: TrainConfigInput, opts: EnvLoadOptions = {}): Promise<ResolvedRun> {
   if (!input.env) throw new InputError("config.env", "env is required (a built-in scenario name or a model file)", "--env");
-  const loaded = await loadCached(input.env);
-  const model = requireFinite(loaded, "train");
-  const variant = resolveReward(model, input.reward);
+  const { env: loaded, model, variant } = await loadFiniteVariant(input.env, input.reward, { command: "train", maxStates: opts.maxStates, load: loadCached });
   const learner = input.learner ?? TRAIN_DEFAULTS.learner;
   const { tabular } = getLearner(learner);
   const checkpoints = input.checkpoints ?? TRAIN_DEFAULTS.checkpoints;
-  const steps = input.steps ?? defaultSteps(model, checkpoints, loaded.scenario?.trainSteps);
+  const steps = input.steps ?? defaultSteps(model, checkpoints, loaded.kind === "scenario" ? loaded.scenario.trainSteps : undefined);
   const config: TrainConfig = {
     env: input.env,
     reward: input.reward ?? variant.name ?? defaultVariantName(model) ?? "default",
@@ -133,7 +132,7 @@ function sameOn(states: Int32Array, a: Int32Array, b: Int32Array): boolean {
 
 /** Run one training job and store it; resolves to the run's RunResult (also on interruption). */
 export async function runTraining(input: TrainConfigInput, opts: RunOptions): Promise<RunResult> {
-  const { config, model, variant, kind: loadedKind } = await resolveTrainConfig(input);
+  const { config, model, variant, kind: loadedKind } = await resolveTrainConfig(input, { maxStates: opts.maxStates });
   const id = makeRunId(config);
   const writer = new RunWriter(opts.runsDir, id);
   const root = createRng(config.seed);

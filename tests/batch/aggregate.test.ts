@@ -2,7 +2,7 @@ import fc from "fast-check";
 import wilsonLowerBound from "wilson-score";
 import { describe, expect, it } from "vitest";
 import { aggregateComparison, comparisonCsv, type RunRecord } from "../../src/batch/aggregate.js";
-import { progressLine } from "../../src/batch/compare.js";
+import { progressLine } from "../../src/cli/progress.js";
 import { jobIdOf, parseSeedList, planSweep } from "../../src/batch/plan.js";
 
 const rec = (reward: string, learner: string, seed: number, intent: number, extra: Partial<RunRecord> = {}): RunRecord => ({

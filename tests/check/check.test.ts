@@ -7,7 +7,7 @@ import { beforeAll, describe, expect, it } from "vitest";
 import { runCheck, type CheckReport } from "../../src/check/run.js";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
-import { builtinScenarioNames } from "../../src/model/registry.js";
+import { builtinScenarioNames } from "../../src/env/index.js";
 
 const FX = "tests/fixtures/envs";
 const RUNS = 25;

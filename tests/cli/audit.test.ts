@@ -9,7 +9,7 @@ import { describe, expect, it } from "vitest";
 import { runCli } from "../../src/cli/program.js";
 import { memoryIO } from "../../src/cli/io.js";
 import { exportModel, formatModelDocument } from "../../src/model/format/export.js";
-import { loadScenario } from "../../src/model/registry.js";
+import { loadScenario } from "../../src/env/index.js";
 
 async function cli(args: string[]) {
   const io = memoryIO();

@@ -7,7 +7,7 @@ import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
-import { builtinScenarioNames, readScenarioMeta } from "../../src/model/registry.js";
+import { builtinScenarioNames, readScenarioMeta } from "../../src/env/index.js";
 
 const dir = mkdtempSync(join(tmpdir(), "gapwatch-demo-"));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));

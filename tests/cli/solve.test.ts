@@ -1,7 +1,10 @@
+import { mkdtempSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
-import { builtinScenarioNames, readScenarioMeta } from "../../src/model/registry.js";
+import { builtinScenarioNames, readScenarioMeta } from "../../src/env/index.js";
 
 async function cli(...argv: string[]) {
   const io = memoryIO();
@@ -116,5 +119,46 @@ describe("gapwatch export", () => {
       const b = JSON.parse((await cli("solve", "--env", file, "--reward", v, "--json")).out);
       expect(b.regret).toBeCloseTo(a.regret, 9);
     }
+  });
+});
+
+describe("gapwatch export --json", () => {
+  it("accepts --json and prints the same model document as without it", async () => {
+    const plain = await cli("export", "--env", "ridge-survey");
+    const json = await cli("export", "--env", "ridge-survey", "--json");
+    expect(json.code).toBe(0);
+    expect(json.out).toBe(plain.out);
+    // The document format is gapwatch-mdp/1 (src/model/format.ts, MODEL_FORMAT).
+    expect(JSON.parse(json.out).format).toBe("gapwatch-mdp/1");
+  });
+});
+
+describe("--max-states on every command that loads an environment", () => {
+  // Sutton & Barto (2018), Example 4.1: the 4x4 gridworld has 16 cells, so a bound of 10 states
+  // cannot hold it and a bound of 16 can.
+  const MODULE = "examples/textbook-4x4.ts";
+  const runsDir = mkdtempSync(join(tmpdir(), "gw-max-states-"));
+  const extra: Record<string, string[]> = {
+    train: ["--steps", "200", "--runs-dir", runsDir],
+    compare: ["--rewards", "default", "--seeds", "1", "--workers", "1", "--runs-dir", runsDir],
+  };
+  for (const cmd of ["solve", "audit", "pressure", "export", "train", "compare"]) {
+    it(`${cmd} --max-states 10 refuses the 16-state module with one line (exit 2)`, async () => {
+      const r = await cli(cmd, "--env", MODULE, "--max-states", "10", ...(extra[cmd] ?? []));
+      expect(r.code).toBe(2);
+      expect(r.err.trimEnd().split("\n")).toHaveLength(1);
+      // compare reports the first failed run's error.
+      expect(r.err).toMatch(/\[module\.tooManyStates\] .*textbook-4x4\.ts: (every run failed; first: )?more than 10 reachable states/);
+    });
+  }
+  it("solve --max-states 16 compiles the same module (16 states)", async () => {
+    const r = await cli("solve", "--env", MODULE, "--max-states", "16", "--json");
+    expect(r.code).toBe(0);
+    expect(JSON.parse(r.out).states).toBe(16);
+  });
+  it("a bad --max-states value exits 2 with one line", async () => {
+    const r = await cli("solve", "--env", MODULE, "--max-states", "0");
+    expect(r.code).toBe(2);
+    expect(r.err).toMatch(/--max-states expects an integer >= 1/);
   });
 });

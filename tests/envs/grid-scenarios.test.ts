@@ -5,7 +5,7 @@
 import { readdirSync, readFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
-import { loadScenario } from "../../src/model/registry.js";
+import { loadScenario } from "../../src/env/index.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { solveVariant } from "../../src/solve/compare.js";
 import { evaluatePolicy } from "../../src/solve/evaluation.js";

@@ -6,7 +6,7 @@
 import { readdirSync, readFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
-import { loadScenario } from "../../src/model/registry.js";
+import { loadScenario } from "../../src/env/index.js";
 import { compileTrack, type TrackConfig } from "../../src/model/track.js";
 import { designerReward } from "../../src/model/reward.js";
 import { learnerView, viewEnv } from "../../src/model/learner-view.js";

@@ -599,7 +599,7 @@ describe("exportModel round trip", () => {
   });
 
   it("round-trips every built-in scenario", async () => {
-    const reg = await import("../../src/model/registry.js");
+    const reg = await import("../../src/env/index.js");
     const names = reg.builtinScenarioNames();
     expect(names.length).toBeGreaterThan(0);
     for (const name of names) {

@@ -11,7 +11,7 @@ import { formatError, InputError } from "../../src/errors.js";
 import { valueIteration } from "../../src/solve/value-iteration.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel } from "../../src/model/types.js";
-import type { ScenarioMeta } from "../../src/model/registry.js";
+import type { ScenarioMeta } from "../../src/model/scenario.js";
 import { cycleAverage } from "../helpers/cycle-average.js";
 
 const ALL = [...TRACK_EVENTS];

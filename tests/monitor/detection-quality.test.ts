@@ -12,7 +12,7 @@ import { mkdtempSync, readFileSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
-import { builtinScenarioNames, loadScenario } from "../../src/model/registry.js";
+import { builtinScenarioNames, loadScenario } from "../../src/env/index.js";
 import { designerReward } from "../../src/model/reward.js";
 import { normalizeScore } from "../../src/solve/compare.js";
 import { evaluatePolicy } from "../../src/solve/evaluation.js";

@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { join } from "node:path";
 import { loadModelFile } from "../../src/model/format/model-file.js";
-import { builtinScenarioNames, loadScenario } from "../../src/model/registry.js";
+import { builtinScenarioNames, loadScenario } from "../../src/env/index.js";
 import { ModelBuilder } from "../../src/model/builder.js";
 import { designerReward } from "../../src/model/reward.js";
 import { evaluateExact, evaluateMonteCarlo, scoreReferences, tQuantile975 } from "../../src/monitor/evaluate.js";

@@ -8,7 +8,7 @@
 import { describe, expect, it } from "vitest";
 import { defaultBetas, onsetIndex, pressureCurve, type PressurePoint } from "../../src/pressure/curve.js";
 import { parseReferencePolicy } from "../../src/pressure/reference.js";
-import { loadScenario, readScenarioMeta } from "../../src/model/registry.js";
+import { loadScenario, readScenarioMeta } from "../../src/env/index.js";
 import { designerReward } from "../../src/model/reward.js";
 import { evaluatePolicy } from "../../src/solve/evaluation.js";
 import { startValue } from "../../src/solve/policy.js";

@@ -14,7 +14,7 @@ import type { Browser } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 import { runAudit } from "../../src/audit/run.js";
 import { runCompare } from "../../src/batch/compare.js";
-import { loadEnv, resolveReward } from "../../src/model/registry.js";
+import { loadEnv, resolveReward } from "../../src/env/index.js";
 import { pressureCurve } from "../../src/pressure/curve.js";
 import { writeReport } from "../../src/report/write.js";
 import { readRun } from "../../src/store/run-store.js";

@@ -9,7 +9,8 @@ import { evaluatePolicy } from "../../src/solve/evaluation.js";
 import { uniformPolicy } from "../../src/solve/policy.js";
 import { valueIteration } from "../../src/solve/value-iteration.js";
 import { moduleTabularEnv } from "../../src/sim/env.js";
-import { loadModuleEnv, type SimulatorHandle } from "../../src/sim/load.js";
+import { loadModuleEnv } from "../../src/env/resolve.js";
+import type { SimulatorHandle } from "../../src/sim/load.js";
 import type { EnvDefinition } from "../../src/sim/define.js";
 
 const FILE = "examples/textbook-4x4.ts";

@@ -12,7 +12,7 @@ import { describe, expect, it } from "vitest";
 import { greedyRollout, viCheckLine } from "../../src/bench/check.js";
 import { LAVA_GAMMA, lavaModel } from "../../src/bench/lava.js";
 import { InputError } from "../../src/errors.js";
-import { builtinScenarioNames, loadEnvSync } from "../../src/model/registry.js";
+import { builtinScenarioNames, loadEnvSync } from "../../src/env/index.js";
 import { designerReward } from "../../src/model/reward.js";
 import { randomMdp } from "../helpers/random-mdp.js";
 import type { Solution } from "../../src/solve/sweeps.js";

@@ -1,28 +1,12 @@
 import type { Command } from "commander";
+import { runCheckCommand } from "../../app/check.js";
+import type { CheckReport } from "../../check/run.js";
+import { DEFAULT_CHECK_RUNS, DEFAULT_CHECK_SEED } from "../../check/run.js";
 import { EXIT } from "../../errors.js";
 import { parseSeed } from "../../rng/rng.js";
-import { DEFAULT_CHECK_RUNS, DEFAULT_CHECK_SEED, runCheck, type CheckReport } from "../../check/run.js";
-import { DEFAULT_MAX_STATES } from "../../sim/define.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { emit, paint, table, useColor } from "../io.js";
-
-/** The JSON document of `gapwatch check`. */
-export function checkDocument(r: CheckReport) {
-  return {
-    env: r.env,
-    seed: r.seed,
-    runs: r.runs,
-    properties: r.properties.map((p) => ({
-      name: p.name,
-      status: p.status,
-      runs: p.runs,
-      ...(p.note ? { note: p.note } : {}),
-      ...(p.counterexample ? { counterexample: p.counterexample } : {}),
-      ...(p.replay ? { replay: p.replay, path: p.path } : {}),
-    })),
-    passed: r.passed,
-  };
-}
+import { envOption, jsonOption, maxStatesOf, maxStatesOption } from "../options.js";
 
 export function formatCheck(r: CheckReport, color: boolean): string {
   const mark = (s: string) => (s === "passed" ? paint(color, "green", "PASS") : s === "failed" ? paint(color, "red", "FAIL") : paint(color, "yellow", "SKIP"));
@@ -46,20 +30,19 @@ export function registerCheck(program: Command, ctx: CliContext): void {
   program
     .command("check")
     .description("property-test an environment: determinism, refusals, finite features and intent, probabilities, step limit, transition frequencies, intent hidden from the learner")
-    .requiredOption("--env <env>", "built-in scenario name, model file (.json) or simulator module (.ts/.js)")
+    .addOption(envOption())
     .option("--runs <n>", `generated cases per property (default ${DEFAULT_CHECK_RUNS})`)
     .option("--seed <seed>", `fast-check seed (default ${DEFAULT_CHECK_SEED})`)
     .option("--property <name>", "run only this property")
     .option("--replay <path>", "replay a counterexample: the fast-check path printed with a failure (needs --property and the same --seed, --runs)")
-    .option("--max-states <n>", `state bound when compiling a module (default ${DEFAULT_MAX_STATES})`)
-    .option("--json", "print one JSON document")
+    .addOption(maxStatesOption())
+    .addOption(jsonOption())
     .action(
       action(ctx, async (opts: { env: string; runs?: string; seed?: string; property?: string; replay?: string; maxStates?: string; json?: boolean }) => {
         const runs = intOption(opts.runs, "--runs", { min: 1, def: DEFAULT_CHECK_RUNS });
         const seed = opts.seed === undefined ? DEFAULT_CHECK_SEED : parseSeed(opts.seed);
-        const maxStates = intOption(opts.maxStates, "--max-states", { min: 1, def: DEFAULT_MAX_STATES });
-        const report = await runCheck(opts.env, { runs, seed, property: opts.property, replay: opts.replay, maxStates });
-        emit(ctx.io, Boolean(opts.json), checkDocument(report), () => formatCheck(report, useColor(ctx.io)));
+        const { report, doc } = await runCheckCommand({ env: opts.env, runs, seed, property: opts.property, replay: opts.replay, maxStates: maxStatesOf(opts) });
+        emit(ctx.io, Boolean(opts.json), doc, () => formatCheck(report, useColor(ctx.io)));
         return report.passed ? EXIT.ok : EXIT.gate;
       }),
     );

@@ -6,15 +6,17 @@
  */
 import type { Command } from "commander";
 import { resolve } from "node:path";
-import { EXIT, GapwatchError, InputError } from "../../errors.js";
-import { comparisonCsv } from "../../batch/aggregate.js";
-import { progressLine, runCompare, type CompareResult } from "../../batch/compare.js";
+import { defaultLearner } from "../../../policies/index.js";
+import { runCompareCommand } from "../../app/compare.js";
+import type { CompareResult } from "../../batch/compare.js";
 import { MAX_SWEEP_RUNS, parseList, parseSeedList } from "../../batch/plan.js";
 import { defaultWorkers } from "../../batch/pool.js";
-import { writeReport } from "../../report/write.js";
-import { writeFileAtomic } from "../../store/atomic.js";
+import { InputError, EXIT } from "../../errors.js";
+import { BOOTSTRAP_DEFAULTS } from "../../stats/bootstrap.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { CAUTION, emit, paint, table, useColor } from "../io.js";
+import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, runsDirOf, runsDirOption } from "../options.js";
+import { progressLine } from "../progress.js";
 
 interface CompareCliOptions {
   env: string;
@@ -31,6 +33,7 @@ interface CompareCliOptions {
   bootstrapSeed?: string;
   bootstrapReps?: string;
   runsDir?: string;
+  maxStates?: string;
   csv?: string;
   json?: boolean;
   /** --report: true for the default `<comparison-dir>/report.html`, or a file. */
@@ -80,9 +83,9 @@ export function registerCompare(program: Command, ctx: CliContext): void {
   program
     .command("compare")
     .description("train every reward variant on the same seeds, locally or on many machines; rank by intent with bootstrap intervals")
-    .requiredOption("--env <env>", "built-in scenario name or model file (.json)")
+    .addOption(envOption())
     .requiredOption("--rewards <list>", "comma-separated reward variant names or reward files")
-    .option("--learners <list>", "comma-separated learners (default q-learning)")
+    .option("--learners <list>", `comma-separated learners (default ${defaultLearner})`)
     .option("--seeds <n>", "seeds 1..n (default 10)")
     .option("--seed-list <list>", "explicit seeds, e.g. 1,2,3 or 1-20")
     .option("--steps <n>", "environment steps per run (default: the scenario's)")
@@ -92,33 +95,36 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .option("--run-timeout <seconds>", "stop a run that takes longer than this and report it failed (batch.timeout); default: no limit")
     .option("--wait-timeout <seconds>", "with --queue: report the unfinished runs failed (batch.waitTimeout) when no run has finished for this long; default: wait")
     .option("--bootstrap-seed <s>", "seed of the bootstrap resampling (default 0)")
-    .option("--bootstrap-reps <n>", "bootstrap replicates (default 2000)")
-    .option("--runs-dir <dir>", "where run directories go (default ./runs)")
+    .option("--bootstrap-reps <n>", `bootstrap replicates (default ${BOOTSTRAP_DEFAULTS.reps})`)
+    .addOption(runsDirOption())
     .option("--csv <file>", "also write the per-run CSV here")
-    .option("--report [file]", "also write the HTML report of the comparison (default <comparison-dir>/report.html)")
-    .option("--json", "print one JSON document")
+    .addOption(reportOption("the HTML report of the comparison", "<comparison-dir>/report.html"))
+    .addOption(maxStatesOption())
+    .addOption(jsonOption())
     .action(
       action(ctx, async (opts: CompareCliOptions) => {
         if (opts.seeds !== undefined && opts.seedList !== undefined) throw new InputError("cli.conflict", "give --seeds or --seed-list, not both", "--seed-list");
         const seeds = opts.seedList !== undefined ? parseSeedList(opts.seedList) : Array.from({ length: intOption(opts.seeds, "--seeds", { def: 10, max: MAX_SWEEP_RUNS }) }, (_, i) => i + 1);
-        const runsDir = resolve(ctx.io.cwd, opts.runsDir ?? "runs");
         const showBar = ctx.io.stderrIsTTY && !opts.json;
         const t0 = Date.now();
-        const result = await runCompare(
+        const { result, report, doc } = await runCompareCommand(
           {
             env: opts.env,
             rewards: parseList(opts.rewards, "--rewards"),
-            learners: opts.learners ? parseList(opts.learners, "--learners") : ["q-learning"],
+            learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
             seeds,
             steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
-            runsDir,
+            runsDir: runsDirOf(ctx.io, opts),
             workers: intOption(opts.workers, "--workers", { def: defaultWorkers() }),
             queue: opts.queue,
             attempts: opts.attempts === undefined ? undefined : intOption(opts.attempts, "--attempts"),
             runTimeoutMs: opts.runTimeout === undefined ? undefined : runTimeoutMs(opts.runTimeout),
             waitTimeoutMs: opts.waitTimeout === undefined ? undefined : runTimeoutMs(opts.waitTimeout, "--wait-timeout"),
             bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
-            reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: 2000 }),
+            reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: BOOTSTRAP_DEFAULTS.reps }),
+            maxStates: maxStatesOf(opts),
+            csv: opts.csv === undefined ? undefined : resolve(ctx.io.cwd, opts.csv),
+            report: reportOf(ctx.io, opts.report),
           },
           {
             onNotice: (line) => ctx.io.err(`${showBar ? "\n" : ""}${line}\n`),
@@ -127,13 +133,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
             },
           },
         );
-        if (opts.csv) writeFileAtomic(resolve(ctx.io.cwd, opts.csv), comparisonCsv(opts.env, result.records));
-        if (result.doc.runDirs.length === 0 && result.stats.failed.length > 0) {
-          const f = result.stats.failed[0];
-          throw new GapwatchError(f.code, `every run failed; first: ${f.message}`, { where: f.where, exitCode: EXIT.badInput });
-        }
-        const report = opts.report ? await writeReport(result.dir, { out: typeof opts.report === "string" ? resolve(ctx.io.cwd, opts.report) : undefined }) : null;
-        emit(ctx.io, Boolean(opts.json), report ? { ...result.stats, report } : result.stats, () => compareText(result, useColor(ctx.io)));
+        emit(ctx.io, Boolean(opts.json), doc, () => compareText(result, useColor(ctx.io)));
         if (opts.json) ctx.io.err(`comparison: ${result.dir}\n`);
         else if (report) ctx.io.err(`report: ${report}\n`);
         return EXIT.ok;

@@ -1,41 +1,14 @@
 import type { Command } from "commander";
-import { builtinScenarioNames, loadScenario } from "../../model/registry.js";
+import { listEnvs } from "../../app/envs.js";
 import { action, type CliContext } from "../context.js";
 import { emit, table, useColor } from "../io.js";
-
-export interface EnvListing {
-  name: string;
-  family: string;
-  states: number;
-  actions: string[];
-  features: string[];
-  rewards: string[];
-  description: string;
-}
-
-/** List the built-in scenarios (callable from the public API too). */
-export function listEnvs(): { envs: EnvListing[] } {
-  return {
-    envs: builtinScenarioNames().map((name) => {
-      const { model, scenario } = loadScenario(name);
-      return {
-        name,
-        family: scenario!.family,
-        states: model.nStates,
-        actions: [...model.actions],
-        features: [...model.features],
-        rewards: Object.keys(model.variants ?? {}),
-        description: scenario!.description,
-      };
-    }),
-  };
-}
+import { jsonOption } from "../options.js";
 
 export function registerEnvs(program: Command, ctx: CliContext): void {
   program
     .command("envs")
     .description("list the built-in scenarios")
-    .option("--json", "print one JSON document")
+    .addOption(jsonOption())
     .action(
       action(ctx, (opts: { json?: boolean }) => {
         const doc = listEnvs();

@@ -1,4 +1,4 @@
-/** Every subcommand, in help order. Add a command: write src/cli/commands/<name>.ts and list it here. */
+/** Every subcommand, in help order. Add a command: its handler in src/app/<name>.ts, its flags in src/cli/commands/<name>.ts, listed here. */
 import type { CommandModule } from "../context.js";
 import { registerEnvs } from "./envs.js";
 import { registerExport } from "./export.js";

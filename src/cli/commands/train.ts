@@ -3,20 +3,19 @@
  * Exit codes: 0 done, 2 bad input, 3 an alert fired and --fail-on-alert was given, 130 interrupted.
  */
 import type { Command } from "commander";
-import { EXIT } from "../../errors.js";
+import { defaultLearner } from "../../../policies/index.js";
+import { runTrainCommand } from "../../app/train.js";
+import { EXIT, InputError } from "../../errors.js";
+import { sparklines } from "../../report/terminal.js";
+import { parseSeed } from "../../rng/rng.js";
 import type { RunResult } from "../../store/types.js";
 import type { EvaluationMode } from "../../train/config.js";
-import { runTraining, type Progress } from "../../train/run.js";
-import { indexRun } from "../../store/index-db.js";
-import { resolve } from "node:path";
+import type { Progress } from "../../train/run.js";
 import { action, intOption, type CliContext } from "../context.js";
-import { emit, paint, sparkline, table, useColor, type CliIO } from "../io.js";
-import { parseSeed } from "../../rng/rng.js";
-import { InputError } from "../../errors.js";
-import { writeReport } from "../../report/write.js";
-
-export { CAUTION } from "../io.js";
-import { CAUTION } from "../io.js";
+import { CAUTION, paint, table, emit, useColor, type CliIO } from "../io.js";
+import { withInterrupt } from "../interrupt.js";
+import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, rewardOption, runsDirOf, runsDirOption } from "../options.js";
+import { etaText, liveLine, progressBar } from "../progress.js";
 
 /**
  * Alerts grouped by kind, in order of first firing: a detector re-fires each time its condition starts
@@ -39,33 +38,8 @@ export function alertsText(alerts: readonly { step: number; kind: string; messag
   return t;
 }
 
-/** The JSON document of `gapwatch train`. */
-export function trainDocument(r: RunResult) {
-  return {
-    runDir: r.runDir,
-    env: r.config.env,
-    reward: r.config.reward,
-    learner: r.config.learner,
-    seed: r.config.seed,
-    verdict: r.verdict,
-    status: r.status,
-    reason: r.reason,
-    checkpoints: r.checkpoints.map((c) => ({ step: c.step, designer: c.designer, intent: c.intent, designerNorm: c.designerNorm, intentNorm: c.intentNorm })),
-    alerts: r.alerts.map((a) => ({ step: a.step, kind: a.kind, message: a.message })),
-  };
-}
-
 export function verdictColor(v: RunResult["verdict"]): "green" | "red" | "yellow" {
   return v === "aligned" ? "green" : v === "decoupled" ? "red" : "yellow";
-}
-
-/** Both normalized series on one shared scale (so their levels compare). */
-export function sparklines(r: RunResult): { designer: string; intent: string } {
-  const d = r.checkpoints.map((c) => c.designerNorm);
-  const i = r.checkpoints.map((c) => c.intentNorm);
-  const lo = Math.min(0, ...d, ...i);
-  const hi = Math.max(1, ...d, ...i);
-  return { designer: sparkline(d, [lo, hi]), intent: sparkline(i, [lo, hi]) };
 }
 
 /** Human summary of a run. Pure. */
@@ -90,22 +64,18 @@ export function trainText(r: RunResult, color: boolean): string {
   return t;
 }
 
-/** A one-line progress bar with a live readout, redrawn in place on a TTY stderr. */
-export function progressReporter(io: CliIO, label: string): { update(p: Progress): void; done(): void } {
-  if (!io.stderrIsTTY) return { update() {}, done() {} };
-  const width = 24;
+/** The run's progress bar with a live readout and an ETA, redrawn in place on a TTY stderr. */
+export function progressReporter(io: CliIO, label: string, enabled = true): { update(p: Progress): void; done(): void } {
+  const line = liveLine(io, enabled);
+  const t0 = Date.now();
   let alerts = 0;
   return {
     update(p) {
       alerts += p.alerts.length;
-      const frac = Math.min(1, p.step / p.steps);
-      const filled = Math.round(frac * width);
-      const bar = "#".repeat(filled) + "-".repeat(width - filled);
-      io.err(`\r${label} [${bar}] ${String(Math.round(frac * 100)).padStart(3)}%  designer ${p.record.designerNorm.toFixed(2)}  intent ${p.record.intentNorm.toFixed(2)}  alerts ${alerts}   `);
+      const pct = Math.round(Math.min(1, p.step / p.steps) * 100);
+      line.draw(`${label} ${progressBar(p.step, p.steps)} ${String(pct).padStart(3)}%  designer ${p.record.designerNorm.toFixed(2)}  intent ${p.record.intentNorm.toFixed(2)}  alerts ${alerts}  ETA ${etaText(p.step, p.steps, Date.now() - t0)}`);
     },
-    done() {
-      io.err("\r\u001b[2K");
-    },
+    done: () => line.done(),
   };
 }
 
@@ -119,6 +89,7 @@ export interface TrainCliOptions {
   eval?: string;
   mcEpisodes?: string;
   runsDir?: string;
+  maxStates?: string;
   failOnAlert?: boolean;
   json?: boolean;
   /** --report: true for the default `<runDir>/report.html`, or a file. */
@@ -131,32 +102,23 @@ export function parseEvaluation(v: string | undefined): EvaluationMode | undefin
   throw new InputError("cli.eval", `--eval expects exact, mc or both, got "${v}"`, "--eval");
 }
 
-/** SIGINT handler for the duration of a run: the first Ctrl-C stops training and stores what there is. */
-export function withInterrupt<T>(fn: (signal: { aborted: boolean }) => Promise<T>): Promise<T> {
-  const signal = { aborted: false };
-  const onInt = () => {
-    signal.aborted = true;
-  };
-  process.once("SIGINT", onInt);
-  return fn(signal).finally(() => process.removeListener("SIGINT", onInt));
-}
-
 export function registerTrain(program: Command, ctx: CliContext): void {
   program
     .command("train")
     .description("train a learner on the designer reward while the monitor watches the held-out intent; verdict aligned / decoupled / inconclusive")
-    .requiredOption("--env <env>", "built-in scenario name or model file (.json)")
-    .option("--reward <reward>", "reward variant name or reward file (default: the variant named default, else the first)")
-    .option("--learner <learner>", "q-learning, sarsa, expected-sarsa, double-q, linear-sarsa (default q-learning)")
+    .addOption(envOption())
+    .addOption(rewardOption())
+    .option("--learner <learner>", `q-learning, sarsa, expected-sarsa, double-q, linear-sarsa (default ${defaultLearner})`)
     .option("--steps <n>", "environment steps (default: sized to the model, a few seconds at most)")
     .option("--seed <s>", "seed of every random stream (default 1)")
     .option("--checkpoints <k>", "number of checkpoints (default 20)")
     .option("--eval <mode>", "checkpoint scoring: exact, mc or both (default exact)")
     .option("--mc-episodes <n>", "rollouts per checkpoint with --eval mc|both (default 300)")
-    .option("--runs-dir <dir>", "where run directories go (default ./runs)")
+    .addOption(runsDirOption())
     .option("--fail-on-alert", "exit 3 when any alert fired (for CI gating of reward changes)")
-    .option("--report [file]", "also write the HTML report of the run (default <run-dir>/report.html)")
-    .option("--json", "print one JSON document")
+    .addOption(reportOption("the HTML report of the run", "<run-dir>/report.html"))
+    .addOption(maxStatesOption())
+    .addOption(jsonOption())
     .action(
       action(ctx, async (opts: TrainCliOptions) => {
         const input = {
@@ -169,13 +131,14 @@ export function registerTrain(program: Command, ctx: CliContext): void {
           evaluation: parseEvaluation(opts.eval),
           mcEpisodes: opts.mcEpisodes === undefined ? undefined : intOption(opts.mcEpisodes, "--mc-episodes", { min: 2 }),
         };
-        const runsDir = resolve(ctx.io.cwd, opts.runsDir ?? "runs");
-        const progress = opts.json ? { update() {}, done() {} } : progressReporter(ctx.io, `${opts.env} ${opts.reward ?? ""}`.trim());
-        const r = await withInterrupt((signal) => runTraining(input, { runsDir, signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()));
-        indexRun(runsDir, r);
-        const report = opts.report ? await writeReport(r.runDir, { out: typeof opts.report === "string" ? resolve(ctx.io.cwd, opts.report) : undefined }) : null;
-        emit(ctx.io, Boolean(opts.json), report ? { ...trainDocument(r), report } : trainDocument(r), () => trainText(r, useColor(ctx.io)));
-        if (report && !opts.json) ctx.io.err(`report: ${report}\n`);
+        const maxStates = maxStatesOf(opts);
+        const progress = progressReporter(ctx.io, `${opts.env} ${opts.reward ?? ""}`.trim(), !opts.json);
+        const { value: out } = await withInterrupt((signal) =>
+          runTrainCommand({ input, runsDir: runsDirOf(ctx.io, opts), report: reportOf(ctx.io, opts.report), maxStates, signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()),
+        );
+        const r = out.result;
+        emit(ctx.io, Boolean(opts.json), out.doc, () => trainText(r, useColor(ctx.io)));
+        if (out.report && !opts.json) ctx.io.err(`report: ${out.report}\n`);
         if (r.status === "interrupted") return EXIT.interrupted;
         if (opts.failOnAlert && r.alerts.length > 0) return EXIT.gate;
         return EXIT.ok;

@@ -1,7 +1,7 @@
 /**
  * Hand-run tuning script for the monitor's detector defaults (not part of the test suite):
  *
- *   npx tsx src/monitor/tune.ts [seedFrom=1] [seedTo=10] [learners=q-learning,sarsa,expected-sarsa,double-q]
+ *   npx tsx scripts/tune.ts [seedFrom=1] [seedTo=10] [learners=q-learning,sarsa,expected-sarsa,double-q]
  *
  * For every built-in scenario, each of its gaming and sound variants, each tabular learner and each
  * seed, it trains with the default config and exact evaluation, then compares the verdict with the
@@ -12,8 +12,8 @@
 import { mkdtempSync, rmSync } from "node:fs";
 import { tmpdir } from "node:os";
 import { join } from "node:path";
-import { builtinScenarioNames, loadScenario } from "../model/registry.js";
-import { runTraining } from "../train/run.js";
+import { builtinScenarioNames, loadScenario } from "../src/env/index.js";
+import { runTraining } from "../src/train/run.js";
 
 /** A hand-run script prints its table on stdout. */
 const say = (line: string): void => void process.stdout.write(line + "\n");
@@ -23,7 +23,7 @@ const learners = learnerList.split(",");
 const dir = mkdtempSync(join(tmpdir(), "gapwatch-tune-"));
 const t0 = Date.now();
 for (const env of builtinScenarioNames()) {
-  const meta = loadScenario(env).scenario!;
+  const meta = loadScenario(env).scenario;
   for (const reward of [...meta.gaming, ...meta.sound]) {
     for (const learner of learners) {
       const counts = { decoupled: 0, aligned: 0, inconclusive: 0 };

@@ -1,0 +1,39 @@
+/**
+ * Options several commands share, built once so their flags and help texts are the same everywhere,
+ * and their parsers (paths resolved against the CLI's working directory, integers checked).
+ */
+import { Option } from "commander";
+import { resolve } from "node:path";
+import { DEFAULT_MAX_STATES } from "../sim/define.js";
+import { intOption } from "./context.js";
+import type { CliIO } from "./io.js";
+
+/** `--env`: what every command that loads an environment accepts. */
+export const envOption = (): Option => new Option("--env <env>", "built-in scenario name, model file (.json) or simulator module (.ts/.js)").makeOptionMandatory();
+
+export const rewardOption = (): Option => new Option("--reward <reward>", "reward variant name or reward file (default: the variant named default, else the first)");
+
+export const maxStatesOption = (): Option => new Option("--max-states <n>", `state bound when compiling a simulator module (default ${DEFAULT_MAX_STATES})`);
+
+export const jsonOption = (): Option => new Option("--json", "print one JSON document");
+
+/** `--runs-dir`; `role` says what the folder is for in this command. */
+export const runsDirOption = (role = "where run directories go"): Option => new Option("--runs-dir <dir>", `${role} (default ./runs)`);
+
+/** `--report [file]`: also write an HTML report, by default at `where`. */
+export const reportOption = (what: string, where: string): Option => new Option("--report [file]", `also write ${what} (default ${where})`);
+
+/** `--max-states` as a number (default DEFAULT_MAX_STATES). */
+export function maxStatesOf(opts: { maxStates?: string }): number {
+  return intOption(opts.maxStates, "--max-states", { min: 1, def: DEFAULT_MAX_STATES });
+}
+
+/** `--runs-dir` as an absolute path (default ./runs). */
+export function runsDirOf(io: CliIO, opts: { runsDir?: string }): string {
+  return resolve(io.cwd, opts.runsDir ?? "runs");
+}
+
+/** `--report [file]`: absent, true (the default place), or the file as an absolute path. */
+export function reportOf(io: CliIO, report: boolean | string | undefined): boolean | string | undefined {
+  return typeof report === "string" ? resolve(io.cwd, report) : report;
+}

@@ -1,0 +1,103 @@
+/**
+ * Resolving `--env` and `--reward`. `--env` is a built-in scenario name (a folder in `envs/`), a path to
+ * a model file (`*.json`, format gapwatch-mdp/1) or a path to a simulator module (`*.ts`, `*.js`).
+ * `--reward` is a variant name known to the model or a path to a reward file (gapwatch-reward/1).
+ * `loadFiniteVariant` is the sequence every command that works on a finite model runs:
+ * load the environment, require its finite model, resolve the reward.
+ */
+import { existsSync, readFileSync } from "node:fs";
+import { resolve } from "node:path";
+import { InputError } from "../errors.js";
+import { loadModelFile } from "../model/format/model-file.js";
+import { parseRewardFile } from "../model/format/reward-file.js";
+import { defaultVariantName } from "../model/reward.js";
+import type { FiniteModel, RewardVariant } from "../model/types.js";
+import { loadSimulator } from "../sim/load.js";
+import { builtinScenarioNames, loadScenario } from "./scenarios.js";
+import type { EnvLoadOptions, FiniteEnv, LoadedEnv, ModuleEnv } from "./types.js";
+
+/** Resolve `--env` synchronously for built-ins and model files. */
+export function loadEnvSync(spec: string): FiniteEnv {
+  if (/\.json$/i.test(spec)) {
+    const file = resolve(spec);
+    if (!existsSync(file)) throw new InputError("env.notFound", `model file not found`, spec);
+    return { model: loadModelFile(file), kind: "file", spec };
+  }
+  const names = builtinScenarioNames();
+  if (names.includes(spec)) return loadScenario(spec);
+  if (/\.(m?[jt]s)$/i.test(spec)) throw new InputError("env.module", `simulator modules load asynchronously; use loadEnv()`, spec);
+  throw new InputError(
+    "env.unknown",
+    `unknown environment "${spec}"; built-in scenarios: ${names.join(", ")}; or pass a path to a model file (.json) or a simulator module (.ts/.js)`,
+    "--env",
+  );
+}
+
+/** Load a simulator module file as an environment (compiled within `maxStates` when it allows). */
+export async function loadModuleEnv(file: string, opts: EnvLoadOptions = {}): Promise<ModuleEnv> {
+  const { simulator, model } = await loadSimulator(file, { maxStates: opts.maxStates });
+  return { kind: "module", model, simulator, spec: file };
+}
+
+/** Resolve `--env`: built-in scenario, model file, or simulator module. */
+export async function loadEnv(spec: string, opts: EnvLoadOptions = {}): Promise<LoadedEnv> {
+  if (/\.(m?[jt]s)$/i.test(spec)) {
+    if (!existsSync(resolve(spec))) throw new InputError("env.notFound", `simulator module not found`, spec);
+    return loadModuleEnv(resolve(spec), opts);
+  }
+  return loadEnvSync(spec);
+}
+
+/** Resolve `--reward` against a model: a known variant name, a reward-file path, or the default. */
+export function resolveReward(model: FiniteModel, spec?: string): RewardVariant {
+  const known = model.variants ?? {};
+  if (spec === undefined) {
+    const name = defaultVariantName(model);
+    if (!name) throw new InputError("reward.none", `${model.name} has no reward variants; pass --reward <file.json>`, "--reward");
+    return known[name];
+  }
+  if (known[spec]) return known[spec];
+  if (/\.json$/i.test(spec)) {
+    const file = resolve(spec);
+    if (!existsSync(file)) throw new InputError("reward.notFound", "reward file not found", spec);
+    return parseRewardFile(readFileSync(file, "utf8"), spec);
+  }
+  const names = Object.keys(known);
+  throw new InputError(
+    "reward.unknown",
+    `unknown reward variant "${spec}" for ${model.name}; known: ${names.length ? names.join(", ") : "none"}; or pass a path to a reward file`,
+    "--reward",
+  );
+}
+
+/** The finite model of a loaded environment, or a clear error for commands that need one. */
+export function requireFinite(env: LoadedEnv, command: string): FiniteModel {
+  if (!env.model) {
+    throw new InputError("env.noModel", `${command} needs a finite model; this environment does not provide one (declare states or a model)`, env.spec);
+  }
+  return env.model;
+}
+
+export interface FiniteLoadOptions extends EnvLoadOptions {
+  /** The command named in the error when the environment has no finite model. */
+  command: string;
+  /** How to load `--env` (default `loadEnv`; training passes its per-process scenario cache). */
+  load?: (spec: string, opts: EnvLoadOptions) => Promise<LoadedEnv>;
+}
+
+/** Load `--env` and require its finite model. */
+export async function loadFinite(envSpec: string, opts: FiniteLoadOptions): Promise<{ env: FiniteEnv; model: FiniteModel }> {
+  const env = await (opts.load ?? loadEnv)(envSpec, { maxStates: opts.maxStates });
+  const model = requireFinite(env, opts.command);
+  return { env: env as FiniteEnv, model };
+}
+
+/** Load `--env`, require a finite model, resolve `--reward` against it. */
+export async function loadFiniteVariant(
+  envSpec: string,
+  rewardSpec: string | undefined,
+  opts: FiniteLoadOptions,
+): Promise<{ env: FiniteEnv; model: FiniteModel; variant: RewardVariant }> {
+  const { env, model } = await loadFinite(envSpec, opts);
+  return { env, model, variant: resolveReward(model, rewardSpec) };
+}
