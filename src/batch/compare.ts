@@ -15,7 +15,7 @@ import { InputError } from "../errors.js";
 import { canonicalJson } from "../store/run-store.js";
 import { COMPARISON_FILE, openIndex } from "../store/index-db.js";
 import { writeFileAtomic, writeJsonAtomic } from "../store/atomic.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { getLearner } from "../train/learners.js";
 import { aggregateComparison, comparisonCsv, type ComparisonStats, type RunRecord } from "./aggregate.js";
 import { failureOf, writeShippedRun } from "./execute.js";

@@ -19,7 +19,7 @@ import { availableParallelism } from "node:os";
 import { createRequire } from "node:module";
 import { fileURLToPath, pathToFileURL } from "node:url";
 import { Worker } from "node:worker_threads";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import type { BatchJob, RunFailure, ShippedRun } from "./types.js";
 
 export type PoolRequest = { id: number; kind: "local"; job: BatchJob; runsDir: string } | { id: number; kind: "remote"; job: BatchJob; runsDir?: undefined };

@@ -26,7 +26,7 @@
  */
 import { Job, Queue, QueueEvents, UnrecoverableError, Worker, type ConnectionOptions } from "bullmq";
 import { InputError } from "../errors.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { failureOf, writeShippedRun } from "./execute.js";
 import { PoolError, WorkerPool } from "./pool.js";
 import type { BatchJob, RunFailure, RunOutcome, ShippedRun } from "./types.js";

@@ -10,7 +10,7 @@ import { basename, dirname, isAbsolute, join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import { readRun, RUN_FILES } from "../store/run-store.js";
-import type { RunManifest, RunResult } from "../store/types.js";
+import type { RunManifest, RunResult } from "../run/schema.js";
 
 /** audit.json (from `gapwatch audit`). */
 export interface AuditDoc {

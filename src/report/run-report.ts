@@ -5,7 +5,7 @@
  * the manifest to reproduce it, and the caution.
  */
 import type { FiniteModel } from "../model/types.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { drawingBlock, renderAuditSection } from "./audit.js";
 import { chartFigure, curvesSpec, rawCurvesSpec, type AlertMark } from "./charts.js";
 import type { RunReportData } from "./data.js";

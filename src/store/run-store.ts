@@ -14,10 +14,8 @@ import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import { basename, join, resolve } from "node:path";
 import pino from "pino";
 import { GapwatchError, InputError } from "../errors.js";
-import type { Alert, CheckpointRecord } from "../monitor/monitor.js";
-import type { TrainConfig } from "../train/config.js";
 import { appendJsonLine, writeJsonAtomic } from "./atomic.js";
-import type { RunManifest, RunResult, RunSummary } from "./types.js";
+import type { Alert, CheckpointRecord, RunManifest, RunPolicyFile, RunResult, RunSummary, TrainConfig } from "../run/schema.js";
 
 export const RUN_FILES = {
   manifest: "manifest.json",
@@ -100,7 +98,7 @@ export class RunWriter {
     this.alertLog.warn({ step: a.step, kind: a.kind, magnitude: a.magnitude }, a.message);
   }
 
-  writePolicy(doc: object): void {
+  writePolicy(doc: RunPolicyFile): void {
     writeJsonAtomic(this.path("policy"), doc);
   }
 

@@ -13,14 +13,14 @@ import { learnerView, viewEnv } from "../model/learner-view.js";
 import { builtinScenarioNames, loadEnv, resolveReward, type LoadedEnv } from "../model/registry.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferences, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
-import { Monitor, type Alert, type CheckpointRecord, type ScoreBounds } from "../monitor/monitor.js";
+import { Monitor, type ScoreBounds } from "../monitor/monitor.js";
 import { createRng } from "../rng/rng.js";
 import { requireFinite } from "../sim/finite.js";
 import { defaultVariantName } from "../model/reward.js";
 import { RunWriter, runId as makeRunId } from "../store/run-store.js";
-import type { RunManifest, RunResult, RunStatus, RunSummary } from "../store/types.js";
+import type { Alert, CheckpointRecord, RunManifest, RunResult, RunStatus, RunSummary, TrainConfig, TrainConfigInput } from "../run/schema.js";
 import { packageVersion } from "../util/paths.js";
-import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS, type TrainConfig, type TrainConfigInput } from "./config.js";
+import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS } from "./config.js";
 import { getLearner } from "./learners.js";
 import type { Agent } from "../../policies/common.js";
 

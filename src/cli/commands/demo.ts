@@ -7,7 +7,7 @@ import type { Command } from "commander";
 import { resolve } from "node:path";
 import { builtinScenarioNames, readScenarioMeta } from "../../model/registry.js";
 import { parseSeed } from "../../rng/rng.js";
-import type { RunResult } from "../../store/types.js";
+import type { RunResult } from "../../run/schema.js";
 import { runTraining } from "../../train/run.js";
 import { action, type CliContext } from "../context.js";
 import { emit, paint, table, useColor } from "../io.js";

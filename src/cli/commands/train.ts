@@ -4,8 +4,7 @@
  */
 import type { Command } from "commander";
 import { EXIT } from "../../errors.js";
-import type { RunResult } from "../../store/types.js";
-import type { EvaluationMode } from "../../train/config.js";
+import type { EvaluationMode, RunResult } from "../../run/schema.js";
 import { runTraining, type Progress } from "../../train/run.js";
 import { indexRun } from "../../store/index-db.js";
 import { resolve } from "node:path";
