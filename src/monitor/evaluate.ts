@@ -13,14 +13,14 @@
  *
  * Normalization (both): 0 = the uniform-random policy, 1 = the optimal policy for that score
  * (`normalizeScore` from src/solve/compare.ts). The references are computed once per run by
- * `scoreReferences` (value iteration for each score; the uniform policy's values by the fixed-point
- * evaluator of src/solve/dp.ts, within 1e-9 absolute of the exact values, guaranteed for gamma < 1).
+ * `scoreReferences` through `solveOptima` (src/solve/compare.ts, shared with `solveVariant`: value
+ * iteration for each score; the uniform policy's values by the fixed-point evaluator of
+ * src/solve/dp.ts, within 1e-9 absolute of the exact values, guaranteed for gamma < 1).
  */
-import { designerReward } from "../model/reward.js";
-import type { FiniteModel, RewardVariant } from "../model/types.js";
+import type { FiniteModel } from "../model/types.js";
 import type { Rng } from "../rng/rng.js";
-import { normalizeScore } from "../solve/compare.js";
-import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY, startValue, uniformPolicy, valueIteration, type Policy } from "../solve/dp.js";
+import { normalizeScore, solveOptima } from "../solve/compare.js";
+import { evaluatePolicy, startValue, type Policy } from "../solve/dp.js";
 import { normalQuantile } from "../stats/normal.js";
 
 /** Scores of one policy. `designer` / `intent` are expected discounted returns from the start distribution. */
@@ -71,21 +71,21 @@ export interface ScoreReferences {
   intentOptimalPolicy: Int32Array;
 }
 
-export function scoreReferences(model: FiniteModel, variant: RewardVariant, gamma = model.gamma): ScoreReferences {
-  const rd = designerReward(model, variant, gamma);
-  const dOpt = valueIteration(model, rd, { gamma });
-  const iOpt = valueIteration(model, model.intent, { gamma });
-  // Uniform-random baseline: the fixed point to within FIXED_POINT_ACCURACY (1e-9 absolute, guaranteed).
-  const random = evaluatePolicyMany(model, [rd, model.intent], uniformPolicy(model), { gamma, accuracy: FIXED_POINT_ACCURACY }).map((e) => startValue(model, e.values));
+/**
+ * The references of the designer reward vector `rd` (src/model/reward.ts `designerReward`; the
+ * caller computes it once and hands the same vector to the learner).
+ */
+export function scoreReferences(model: FiniteModel, rd: Float64Array, gamma = model.gamma): ScoreReferences {
+  const opt = solveOptima(model, rd, { gamma });
   return {
     gamma,
     designerReward: rd,
-    designerOptimal: startValue(model, dOpt.values),
-    designerRandom: random[0],
-    intentOptimal: startValue(model, iOpt.values),
-    intentRandom: random[1],
-    designerOptimalPolicy: dOpt.policy,
-    intentOptimalPolicy: iOpt.policy,
+    designerOptimal: startValue(model, opt.designer.values),
+    designerRandom: opt.random.designer,
+    intentOptimal: startValue(model, opt.intent.values),
+    intentRandom: opt.random.intent,
+    designerOptimalPolicy: opt.designer.policy,
+    intentOptimalPolicy: opt.intent.policy,
   };
 }
 

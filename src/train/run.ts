@@ -16,7 +16,7 @@ import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, sc
 import { Monitor, type ScoreBounds } from "../monitor/monitor.js";
 import { createRng } from "../rng/rng.js";
 import { requireFinite } from "../sim/finite.js";
-import { defaultVariantName } from "../model/reward.js";
+import { defaultVariantName, designerReward } from "../model/reward.js";
 import { RunWriter, runId as makeRunId } from "../store/run-store.js";
 import type { Alert, CheckpointRecord, RunManifest, RunResult, RunStatus, RunSummary, TrainConfig, TrainConfigInput } from "../run/schema.js";
 import { packageVersion } from "../util/paths.js";
@@ -56,7 +56,13 @@ export interface ResolvedRun {
  * once per process and shared by every run on them (batch jobs and seed sweeps run many).
  */
 const scenarioCache = new Map<string, LoadedEnv>();
-const referenceCache = new WeakMap<FiniteModel, Map<string, ScoreReferences>>();
+const referenceCache = new WeakMap<FiniteModel, Map<string, RunRewards>>();
+
+/** The designer reward vector of a run and the monitor's score references built on that same vector. */
+interface RunRewards {
+  designer: Float64Array;
+  refs: ScoreReferences;
+}
 
 async function loadCached(spec: string): Promise<LoadedEnv> {
   if (builtinScenarioNames().includes(spec)) {
@@ -70,14 +76,22 @@ async function loadCached(spec: string): Promise<LoadedEnv> {
   return loadEnv(spec);
 }
 
-function cachedReferences(kind: LoadedEnv["kind"], model: FiniteModel, variant: RewardVariant): ScoreReferences {
-  if (kind !== "scenario") return scoreReferences(model, variant, model.gamma);
+/**
+ * The designer reward vector of the variant at the model's discount, computed once, and the score
+ * references on it: training hands the same vector to the learner and to the monitor's references.
+ */
+function cachedRewards(kind: LoadedEnv["kind"], model: FiniteModel, variant: RewardVariant): RunRewards {
+  const compute = (): RunRewards => {
+    const designer = designerReward(model, variant, model.gamma);
+    return { designer, refs: scoreReferences(model, designer, model.gamma) };
+  };
+  if (kind !== "scenario") return compute();
   let byVariant = referenceCache.get(model);
   if (!byVariant) referenceCache.set(model, (byVariant = new Map()));
   const key = JSON.stringify(variant);
-  let refs = byVariant.get(key);
-  if (!refs) byVariant.set(key, (refs = scoreReferences(model, variant, model.gamma)));
-  return refs;
+  let hit = byVariant.get(key);
+  if (!hit) byVariant.set(key, (hit = compute()));
+  return hit;
 }
 
 /** Fill every default of a config and load its environment and reward. Throws InputError on bad input. */
@@ -143,7 +157,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
   const every = checkpointEvery(config);
 
   const t0 = performance.now();
-  const refs = cachedReferences(loadedKind, model, variant);
+  const { designer: rd, refs } = cachedRewards(loadedKind, model, variant);
   let monitorMs = performance.now() - t0;
   /** Monitor time spent inside the training loop (checkpoints), subtracted from the training time. */
   let checkpointMs = 0;
@@ -193,7 +207,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
   };
 
   const learner = getLearner(config.learner);
-  const env = viewEnv(learnerView(model, refs.designerReward));
+  const env = viewEnv(learnerView(model, rd));
   const trainOpts = { steps: config.steps, rng: explore, envRng, checkpointEvery: every, onCheckpoint, signal: opts.signal };
   const tTrain = performance.now();
   let status: RunStatus = "complete";
