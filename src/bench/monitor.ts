@@ -15,7 +15,7 @@ import { Monitor } from "../monitor/monitor.js";
 import { Xorshift32 } from "../rng/rng.js";
 import { TRAIN_DEFAULTS } from "../train/config.js";
 import { trainQLearning } from "../../policies/qlearning.js";
-import { lavaModel } from "./lava.js";
+import { LAVA_VARIANT, lavaModel } from "./lava.js";
 import { QL_ALPHA, QL_EPSILON, QL_GAMMA, QL_SEED, QL_STEPS } from "./lava-run.js";
 
 export interface MonitorBench {
@@ -49,7 +49,7 @@ export function measureMonitor(rounds = 3, steps = QL_STEPS, checkpoints: number
 
     let monitorMs = 0;
     const m0 = performance.now();
-    const refs = scoreReferences(model, problem.reward, model.gamma);
+    const refs = scoreReferences(model, LAVA_VARIANT, model.gamma);
     const monitor = new Monitor();
     const refsMs = performance.now() - m0;
     monitorMs += refsMs;

@@ -17,7 +17,8 @@
  * iteration for each score; the uniform policy's values by the fixed-point evaluator of
  * src/solve/dp.ts, within 1e-9 absolute of the exact values, guaranteed for gamma < 1).
  */
-import type { FiniteModel } from "../model/types.js";
+import { designerReward } from "../model/reward.js";
+import type { FiniteModel, RewardVariant } from "../model/types.js";
 import type { Rng } from "../rng/rng.js";
 import { normalizeScore, solveOptima } from "../solve/compare.js";
 import { evaluatePolicy, startValue, type Policy } from "../solve/dp.js";
@@ -71,11 +72,15 @@ export interface ScoreReferences {
   intentOptimalPolicy: Int32Array;
 }
 
+export function scoreReferences(model: FiniteModel, variant: RewardVariant, gamma = model.gamma): ScoreReferences {
+  return scoreReferencesFor(model, designerReward(model, variant, gamma), gamma);
+}
+
 /**
- * The references of the designer reward vector `rd` (src/model/reward.ts `designerReward`; the
- * caller computes it once and hands the same vector to the learner).
+ * The references of a designer reward vector `rd` already computed (src/model/reward.ts
+ * `designerReward`), so a caller that also hands `rd` to a learner computes it once.
  */
-export function scoreReferences(model: FiniteModel, rd: Float64Array, gamma = model.gamma): ScoreReferences {
+export function scoreReferencesFor(model: FiniteModel, rd: Float64Array, gamma = model.gamma): ScoreReferences {
   const opt = solveOptima(model, rd, { gamma });
   return {
     gamma,

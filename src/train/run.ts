@@ -12,7 +12,7 @@ import { GapwatchError, InputError } from "../errors.js";
 import { learnerView, viewEnv } from "../model/learner-view.js";
 import { builtinScenarioNames, loadEnv, resolveReward, type LoadedEnv } from "../model/registry.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferences, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
+import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferencesFor, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
 import { Monitor, type ScoreBounds } from "../monitor/monitor.js";
 import { createRng } from "../rng/rng.js";
 import { requireFinite } from "../sim/finite.js";
@@ -83,7 +83,7 @@ async function loadCached(spec: string): Promise<LoadedEnv> {
 function cachedRewards(kind: LoadedEnv["kind"], model: FiniteModel, variant: RewardVariant): RunRewards {
   const compute = (): RunRewards => {
     const designer = designerReward(model, variant, model.gamma);
-    return { designer, refs: scoreReferences(model, designer, model.gamma) };
+    return { designer, refs: scoreReferencesFor(model, designer, model.gamma) };
   };
   if (kind !== "scenario") return compute();
   let byVariant = referenceCache.get(model);
