@@ -12,7 +12,7 @@
 import { mkdirSync } from "node:fs";
 import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
-import { canonicalJson } from "../store/run-store.js";
+import { canonicalJson } from "../util/canonical-json.js";
 import { COMPARISON_FILE, openIndex } from "../store/index-db.js";
 import { writeFileAtomic, writeJsonAtomic } from "../store/atomic.js";
 import type { RunResult } from "../run/schema.js";

@@ -6,7 +6,8 @@
 import fc from "fast-check";
 import { GapwatchError, InputError } from "../errors.js";
 import { createRng, type Rng } from "../rng/rng.js";
-import { canonicalKey, type EnvDefinition, type Outcome } from "../sim/define.js";
+import { type EnvDefinition, type Outcome } from "../sim/define.js";
+import { canonicalJson } from "../util/canonical-json.js";
 import { stateText } from "../sim/episode.js";
 import { chiSquareTest } from "./chisq.js";
 import { featureKey, outcomeKey, play, stateKey, Violation } from "./drive.js";
@@ -138,7 +139,7 @@ const text = (sub: CheckSubject<S>, s: unknown) => stateText(sub.def as EnvDefin
 // termination and observation.
 function record(sub: CheckSubject<S>, seed: number, actions: number[]): string[] {
   const t = play(sub, seed, actions);
-  const obs = (s: S) => (sub.def.observe ? canonicalKey(sub.def.observe(s)) : "");
+  const obs = (s: S) => (sub.def.observe ? canonicalJson(sub.def.observe(s)) : "");
   const out = [`start ${stateKey(sub.def, t.start)} ${obs(t.start)}`];
   for (const st of t.steps) out.push(`state ${stateKey(sub.def, st.state)} features ${featureKey(st.features)} intent ${st.intent} terminated ${st.terminated} ${obs(st.state)}`);
   return out;
@@ -257,7 +258,7 @@ const resetValid: PropertySpec = {
       }
       if (def.observe) {
         const o = def.observe(s);
-        if (!Array.isArray(o) || !o.every((x) => typeof x === "number" && Number.isFinite(x))) throw new Violation(`observe(${k}) = ${canonicalKey(o)}; expected an array of finite numbers`);
+        if (!Array.isArray(o) || !o.every((x) => typeof x === "number" && Number.isFinite(x))) throw new Violation(`observe(${k}) = ${canonicalJson(o)}; expected an array of finite numbers`);
         if (dim === undefined) dim = o.length;
         else if (o.length !== dim) throw new Violation(`observe(${k}) has ${o.length} entries, another start state had ${dim}`);
       }
