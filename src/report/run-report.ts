@@ -13,7 +13,7 @@ import { esc } from "./escape.js";
 import { page } from "./page.js";
 import { renderPressureSection } from "./pressure.js";
 import { alertList, caution, facts, footer, manifestBlock, num, pct, scoreKey, sectionOpen, verdictBand, type ListedAlert } from "./sections.js";
-import { likelyPath } from "./terminal.js";
+import { likelyPath } from "../model/likely-path.js";
 
 export function numberedAlerts(run: Pick<RunResult, "alerts">, prefix = ""): ListedAlert[] {
   return run.alerts.map((a, i) => ({ label: `${prefix}${i + 1}`, step: a.step, kind: a.kind, magnitude: a.magnitude, message: a.message }));

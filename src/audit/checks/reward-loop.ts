@@ -17,7 +17,8 @@
  */
 import { maxMeanCycle, modelChoiceGraph } from "../cycles.js";
 import type { AuditContext } from "../context.js";
-import { actionNames, fmt, labelsOf, likelyStart, tracePolicy } from "../context.js";
+import { actionNames, fmt, labelsOf } from "../context.js";
+import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding, LoopReport } from "../findings.js";
 
 export interface LoopEvidence extends LoopReport {
