@@ -19,6 +19,7 @@
  */
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
+import { sampleOutcome, samplingTables, sampleStart } from "../model/sampler.js";
 import type { Rng } from "../rng/rng.js";
 import { normalizeScore, solveOptima } from "../solve/compare.js";
 import { evaluatePolicy, startValue, type Policy } from "../solve/dp.js";
@@ -284,8 +285,9 @@ function maxAbs(x: Float64Array): number {
 /**
  * Monte Carlo estimate of the same scores: `episodes` rollouts of the deterministic policy from the
  * start distribution, through the model's transition probabilities. `actions = null` rolls out the
- * uniform-random policy instead (one `rng.int(nActions)` per step). Draws: one `rng.float()` per
- * start when there are several start states, one per step when the pair has several outcomes.
+ * uniform-random policy instead (one `rng.int(nActions)` per step). Draws (src/model/sampler.ts): one
+ * `rng.float()` per start when there are several start states, one per step when the pair has several
+ * outcomes.
  */
 export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, actions: Int32Array | null, opts: MonteCarloOptions): MonteCarloScores {
   const gamma = refs.gamma;
@@ -294,41 +296,21 @@ export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, ac
   const nA = model.nActions;
   const rd = refs.designerReward;
   const ri = model.intent;
-  const { saStart, next, prob, terminal, start } = model;
-  const starts: number[] = [];
-  for (let s = 0; s < model.nStates; s++) if (start[s] > 0) starts.push(s);
+  const { next, terminal } = model;
+  const tables = samplingTables(model);
   let sd = 0;
   let sd2 = 0;
   let si = 0;
   let si2 = 0;
   let cut = 0;
   for (let e = 0; e < opts.episodes; e++) {
-    let s = starts[0];
-    if (starts.length > 1) {
-      const u = rng.float();
-      let c = 0;
-      s = starts[starts.length - 1];
-      for (const st of starts) {
-        c += start[st];
-        if (u < c) {
-          s = st;
-          break;
-        }
-      }
-    }
+    let s = sampleStart(tables, rng);
     let gd = 0;
     let gi = 0;
     let disc = 1;
     let t = 0;
     while (!terminal[s] && t < horizon) {
-      const k = s * nA + (actions ? clampAction(actions[s], nA) : rng.int(nA));
-      let o = saStart[k];
-      const hi = saStart[k + 1] - 1;
-      if (o !== hi) {
-        const u = rng.float();
-        let c = prob[o];
-        while (o < hi && !(u < c)) c += prob[++o];
-      }
+      const o = sampleOutcome(tables, s, actions ? clampAction(actions[s], nA) : rng.int(nA), rng);
       gd += disc * rd[o];
       gi += disc * ri[o];
       disc *= gamma;
