@@ -17,6 +17,7 @@
 import { availableParallelism } from "node:os";
 import type { Worker } from "node:worker_threads";
 import type { RunResult } from "../run/schema.js";
+import { logger } from "../util/log.js";
 import { startWorker } from "../util/worker.js";
 import type { BatchJob, RunFailure, ShippedRun } from "./types.js";
 
@@ -105,7 +106,9 @@ export class WorkerPool {
       slot.task = null;
       slot.ready = false;
       if (t) clearTimeout(t.timer);
-      if (t) t.reject(new PoolError({ code: "batch.thread", message: `worker thread died: ${(err as Error)?.message ?? String(err)}`, exitCode: 1 }));
+      const message = `worker thread died: ${(err as Error)?.message ?? String(err)}`;
+      logger().info({ event: "thread-died", jobId: t?.req.job.jobId }, message);
+      if (t) t.reject(new PoolError({ code: "batch.thread", message, exitCode: 1 }));
       const i = this.slots.indexOf(slot);
       if (i >= 0 && !this.closed) {
         this.slots[i] = this.makeSlot();
@@ -157,7 +160,9 @@ export class WorkerPool {
     const i = this.slots.indexOf(slot);
     if (i >= 0 && !this.closed) this.slots[i] = this.makeSlot();
     slot.worker.terminate().catch(() => undefined);
-    t.reject(new PoolError(timeoutFailure(t.req.job, t.timeoutMs as number)));
+    const failure = timeoutFailure(t.req.job, t.timeoutMs as number);
+    logger().info({ event: "timeout", jobId: t.req.job.jobId }, failure.message);
+    t.reject(new PoolError(failure));
   }
 
   private submit(req: Omit<PoolRequest, "id">, opts: PoolRunOptions): Promise<RunResult | ShippedRun> {

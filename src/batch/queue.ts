@@ -27,6 +27,7 @@
 import { Job, Queue, QueueEvents, UnrecoverableError, Worker, type ConnectionOptions } from "bullmq";
 import { InputError } from "../errors.js";
 import type { RunResult } from "../run/schema.js";
+import { logger } from "../util/log.js";
 import { failureOf, writeShippedRun } from "./execute.js";
 import { PoolError, WorkerPool } from "./pool.js";
 import type { BatchJob, RunFailure, RunOutcome, ShippedRun } from "./types.js";
@@ -166,10 +167,15 @@ export interface QueueWorkerHandle {
 export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions = {}): Promise<QueueWorkerHandle> {
   const concurrency = Math.max(1, opts.concurrency ?? 1);
   const pool = new WorkerPool(concurrency);
+  const log = logger().child({ queue: target.name });
+  const event: NonNullable<WorkerOptions["onEvent"]> = (kind, jobId, detail) => {
+    log.info({ event: kind, jobId }, detail);
+    opts.onEvent?.(kind, jobId, detail);
+  };
   const worker = new Worker<JobData, ShippedRun>(
     target.name,
     async (job) => {
-      opts.onEvent?.("active", job.id as string, `${job.data.job.cell.reward} ${job.data.job.cell.learner} seed ${job.data.job.cell.seed} (attempt ${job.attemptsMade + 1})`);
+      event("active", job.id as string, `${job.data.job.cell.reward} ${job.data.job.cell.learner} seed ${job.data.job.cell.seed} (attempt ${job.attemptsMade + 1})`);
       try {
         return await pool.runRemote(job.data.job, { timeoutMs: job.data.runTimeoutMs });
       } catch (err) {
@@ -186,10 +192,10 @@ export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions 
       maxStalledCount: QUEUE_DEFAULTS.maxStalledCount,
     },
   );
-  worker.on("completed", (job) => opts.onEvent?.("completed", job.id as string, job.returnvalue?.runId ?? ""));
-  worker.on("failed", (job, err) => opts.onEvent?.("failed", job?.id ?? "?", err.message));
+  worker.on("completed", (job) => event("completed", job.id as string, job.returnvalue?.runId ?? ""));
+  worker.on("failed", (job, err) => event("failed", job?.id ?? "?", err.message));
   // Connection errors: ioredis reconnects by itself; report them so an operator sees a lost Redis.
-  worker.on("error", (err) => opts.onEvent?.("error", "-", err.message));
+  worker.on("error", (err) => event("error", "-", err.message));
   await worker.waitUntilReady();
   return {
     worker,

@@ -19,6 +19,7 @@ import { requireFinite } from "../sim/finite.js";
 import { defaultVariantName, designerReward } from "../model/reward.js";
 import { RunWriter, runId as makeRunId } from "../store/run-store.js";
 import type { Alert, CheckpointRecord, RunManifest, RunResult, RunStatus, RunSummary, TrainConfig, TrainConfigInput } from "../run/schema.js";
+import { logger } from "../util/log.js";
 import { packageVersion } from "../util/paths.js";
 import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS } from "./config.js";
 import { getLearner } from "./learners.js";
@@ -150,6 +151,8 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
   const { config, model, variant, kind: loadedKind } = await resolveTrainConfig(input);
   const id = makeRunId(config);
   const writer = new RunWriter(opts.runsDir, id);
+  const log = logger().child({ runId: id, env: config.env, reward: config.reward, seed: config.seed });
+  log.info({ learner: config.learner, steps: config.steps, checkpoints: config.checkpoints, evaluation: config.evaluation }, "run started");
   const root = createRng(config.seed);
   const explore = root.fork("explore");
   const envRng = root.fork("env");
@@ -200,6 +203,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     const { record, alerts } = monitor.observe(step, stats.episodes, scores, { bounds, mc });
     writer.appendCheckpoint(record);
     for (const a of alerts) writer.logAlert(a);
+    log.debug({ step, designerNorm: record.designerNorm, intentNorm: record.intentNorm, alerts: alerts.length }, "checkpoint");
     const dt = performance.now() - c0;
     monitorMs += dt;
     checkpointMs += dt;
@@ -263,6 +267,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     };
     writer.writeSummary(summary);
     writer.close();
+    log.info({ status, verdict: v.verdict, steps, alerts: monitor.alerts.length }, "run finished");
     return {
       runId: id,
       runDir: writer.dir,
