@@ -17,7 +17,6 @@ import {
   TabularRateSession,
   argmaxRow,
   drive,
-  driveAsync,
   growFloat,
   randomAction,
   resolveTabular,
@@ -115,8 +114,4 @@ export class DoubleQSession extends TabularRateSession {
 
 export function trainDoubleQ(env: TabularEnv, config: Partial<DoubleQConfig>, opts: TrainOptions): TrainResult {
   return drive(new DoubleQSession(env, resolveDoubleQ(config), opts), opts);
-}
-
-export function trainDoubleQAsync(env: TabularEnv, config: Partial<DoubleQConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new DoubleQSession(env, resolveDoubleQ(config), opts), opts);
 }

@@ -17,7 +17,6 @@ import {
   TabularRateSession,
   argmaxRow,
   drive,
-  driveAsync,
   epsilonGreedy,
   resolveTabular,
   type Agent,
@@ -74,8 +73,4 @@ export class ExpectedSarsaSession extends TabularRateSession {
 
 export function trainExpectedSarsa(env: TabularEnv, config: Partial<ExpectedSarsaConfig>, opts: TrainOptions): TrainResult {
   return drive(new ExpectedSarsaSession(env, resolveExpectedSarsa(config), opts), opts);
-}
-
-export function trainExpectedSarsaAsync(env: TabularEnv, config: Partial<ExpectedSarsaConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new ExpectedSarsaSession(env, resolveExpectedSarsa(config), opts), opts);
 }

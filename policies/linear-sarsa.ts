@@ -19,7 +19,6 @@ import {
   TWO32,
   checkEnv,
   drive,
-  driveAsync,
   envRngOf,
   newStats,
   growFloat,
@@ -283,8 +282,4 @@ export class LinearSarsaSession implements Session {
 
 export function trainLinearSarsa(env: TabularEnv, config: Partial<LinearSarsaConfig>, opts: TrainOptions): TrainResult {
   return drive(new LinearSarsaSession(env, resolveLinearSarsa(config), opts), opts);
-}
-
-export function trainLinearSarsaAsync(env: TabularEnv, config: Partial<LinearSarsaConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new LinearSarsaSession(env, resolveLinearSarsa(config), opts), opts);
 }

@@ -21,7 +21,6 @@ import {
   TabularAgent,
   TabularRateSession,
   drive,
-  driveAsync,
   maxRow,
   resolveTabular,
   type Agent,
@@ -249,9 +248,4 @@ export function isDeterministic(view: LearnerView): boolean {
 /** Train Q-learning for `opts.steps` environment steps (see `drive` for checkpoints and stopping). */
 export function trainQLearning(env: TabularEnv, config: Partial<QLearningConfig>, opts: TrainOptions): TrainResult {
   return drive(new QLearningSession(env, resolveQLearning(config), opts), opts);
-}
-
-/** As `trainQLearning`, yielding to the event loop between chunks (Ctrl-C can set `signal.aborted`). */
-export function trainQLearningAsync(env: TabularEnv, config: Partial<QLearningConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new QLearningSession(env, resolveQLearning(config), opts), opts);
 }

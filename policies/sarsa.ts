@@ -15,7 +15,6 @@ import {
   TabularAgent,
   TabularRateSession,
   drive,
-  driveAsync,
   resolveTabular,
   type Agent,
   type TabularConfig,
@@ -73,8 +72,4 @@ export class SarsaSession extends TabularRateSession {
 
 export function trainSarsa(env: TabularEnv, config: Partial<SarsaConfig>, opts: TrainOptions): TrainResult {
   return drive(new SarsaSession(env, resolveSarsa(config), opts), opts);
-}
-
-export function trainSarsaAsync(env: TabularEnv, config: Partial<SarsaConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new SarsaSession(env, resolveSarsa(config), opts), opts);
 }

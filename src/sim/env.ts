@@ -1,7 +1,7 @@
 /**
  * A simulator module as a `TabularEnv` for learners: states get integer ids as they are discovered
  * (by key), the designer reward is the variant's weighted sum of the step's features, and intent is
- * dropped here (the monitor reads it separately through `moduleRollout`).
+ * dropped here (only the compiled model, src/sim/compile.ts, carries it to the monitor).
  */
 import { InputError } from "../errors.js";
 import type { StepOut, TabularEnv } from "../model/learner-view.js";
