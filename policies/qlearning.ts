@@ -15,7 +15,7 @@
  * over the view's typed arrays.
  */
 import type { LearnerView, TabularEnv } from "../src/model/learner-view.js";
-import { sampleStart } from "../src/model/sampler.js";
+import { sampleStart } from "../src/model/learner-view.js";
 import {
   TWO32,
   TabularAgent,

@@ -10,6 +10,9 @@ import type { Rng } from "../rng/rng.js";
 import { sampleOutcome, samplingTables, sampleStart } from "./sampler.js";
 import type { FiniteModel } from "./types.js";
 
+/** The sampler (sampler.ts), re-exported: learners (policies/) import from this module only. */
+export { sampleOutcome, sampleStart };
+
 export interface LearnerView {
   readonly name: string;
   readonly nStates: number;
