@@ -11,7 +11,7 @@
  * The agent acts greedily on Q1 + Q2 (lowest index on ties) and reports (Q1 + Q2) / 2 as its values.
  */
 import type { TabularEnv } from "../src/model/learner-view.js";
-import { drive, driveAsync, growFloat, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
+import { drive, growFloat, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
 import { TWO32, argmaxRow, randomAction } from "./selection.js";
 import { TabularAgent, TabularRateSession, resolveTabular, type TabularConfig } from "./tabular.js";
 
@@ -103,8 +103,4 @@ export class DoubleQSession extends TabularRateSession {
 
 export function trainDoubleQ(env: TabularEnv, config: Partial<DoubleQConfig>, opts: TrainOptions): TrainResult {
   return drive(new DoubleQSession(env, resolveDoubleQ(config), opts), opts);
-}
-
-export function trainDoubleQAsync(env: TabularEnv, config: Partial<DoubleQConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new DoubleQSession(env, resolveDoubleQ(config), opts), opts);
 }

@@ -11,7 +11,7 @@
  * It is on-policy for the ε-greedy policy, like SARSA, but the expectation removes the variance of a'.
  */
 import type { TabularEnv } from "../src/model/learner-view.js";
-import { drive, driveAsync, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
+import { drive, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
 import { TWO32, argmaxRow, epsilonGreedy } from "./selection.js";
 import { TabularAgent, TabularRateSession, resolveTabular, type TabularConfig } from "./tabular.js";
 
@@ -63,8 +63,4 @@ export class ExpectedSarsaSession extends TabularRateSession {
 
 export function trainExpectedSarsa(env: TabularEnv, config: Partial<ExpectedSarsaConfig>, opts: TrainOptions): TrainResult {
   return drive(new ExpectedSarsaSession(env, resolveExpectedSarsa(config), opts), opts);
-}
-
-export function trainExpectedSarsaAsync(env: TabularEnv, config: Partial<ExpectedSarsaConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new ExpectedSarsaSession(env, resolveExpectedSarsa(config), opts), opts);
 }

@@ -16,7 +16,7 @@ export type { TabularConfig } from "./tabular.js";
 export { argmaxRow, epsilonGreedy, greedyProbability } from "./selection.js";
 export { drive, driveAsync } from "./driver.js";
 export { scheduleValue, type Schedule, type ScheduleSpec } from "./schedules.js";
-export { trainQLearning, trainQLearningAsync, type QLearningConfig } from "./qlearning.js";
+export { trainQLearning, type QLearningConfig } from "./qlearning.js";
 export type { SarsaConfig, ExpectedSarsaConfig, DoubleQConfig, LinearSarsaConfig };
 
 /** A learner config tagged with the learner's name; omitted fields take the learner's defaults. */
@@ -84,9 +84,4 @@ function strip(config: LearnerConfig): object {
 /** Train the named learner on env for opts.steps environment steps. */
 export function train(env: TabularEnv, config: LearnerConfig, opts: TrainOptions): TrainResult {
   return learnerEntry(config.learner).train(env, strip(config), opts);
-}
-
-/** As `train`, yielding to the event loop between chunks (so Ctrl-C can set `signal.aborted`). */
-export function trainAsync(env: TabularEnv, config: LearnerConfig, opts: TrainOptions): Promise<TrainResult> {
-  return learnerEntry(config.learner).trainAsync(env, strip(config), opts);
 }

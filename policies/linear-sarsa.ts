@@ -15,7 +15,7 @@
 import type { TabularEnv } from "../src/model/learner-view.js";
 import { InputError } from "../src/errors.js";
 import { TileCoder, type TileCodingConfig } from "./tile-coding.js";
-import { checkEnv, drive, driveAsync, envRngOf, newStats, growFloat, type Agent, type Session, type TrainOptions, type TrainResult, type TrainStats } from "./driver.js";
+import { checkEnv, drive, envRngOf, newStats, growFloat, type Agent, type Session, type TrainOptions, type TrainResult, type TrainStats } from "./driver.js";
 import { TWO32 } from "./selection.js";
 import { resolveTabular, type TabularConfig } from "./tabular.js";
 import { constantValue, scheduleValue, toSchedule, type Schedule } from "./schedules.js";
@@ -270,8 +270,4 @@ export class LinearSarsaSession implements Session {
 
 export function trainLinearSarsa(env: TabularEnv, config: Partial<LinearSarsaConfig>, opts: TrainOptions): TrainResult {
   return drive(new LinearSarsaSession(env, resolveLinearSarsa(config), opts), opts);
-}
-
-export function trainLinearSarsaAsync(env: TabularEnv, config: Partial<LinearSarsaConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new LinearSarsaSession(env, resolveLinearSarsa(config), opts), opts);
 }

@@ -16,7 +16,7 @@
  */
 import type { LearnerView, TabularEnv } from "../src/model/learner-view.js";
 import { sampleStart } from "../src/model/learner-view.js";
-import { drive, driveAsync, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
+import { drive, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
 import { TWO32, maxRow } from "./selection.js";
 import { TabularAgent, TabularRateSession, resolveTabular, type TabularConfig } from "./tabular.js";
 
@@ -239,9 +239,4 @@ export function isDeterministic(view: LearnerView): boolean {
 /** Train Q-learning for `opts.steps` environment steps (see `drive` for checkpoints and stopping). */
 export function trainQLearning(env: TabularEnv, config: Partial<QLearningConfig>, opts: TrainOptions): TrainResult {
   return drive(new QLearningSession(env, resolveQLearning(config), opts), opts);
-}
-
-/** As `trainQLearning`, yielding to the event loop between chunks (Ctrl-C can set `signal.aborted`). */
-export function trainQLearningAsync(env: TabularEnv, config: Partial<QLearningConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new QLearningSession(env, resolveQLearning(config), opts), opts);
 }

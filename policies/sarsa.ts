@@ -11,7 +11,7 @@
  * Draw order per step: the ε-greedy draws for a' (one or two), then any environment draws.
  */
 import type { TabularEnv } from "../src/model/learner-view.js";
-import { drive, driveAsync, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
+import { drive, type Agent, type TrainOptions, type TrainResult } from "./driver.js";
 import { TabularAgent, TabularRateSession, resolveTabular, type TabularConfig } from "./tabular.js";
 
 export const NAME = "sarsa";
@@ -64,8 +64,4 @@ export class SarsaSession extends TabularRateSession {
 
 export function trainSarsa(env: TabularEnv, config: Partial<SarsaConfig>, opts: TrainOptions): TrainResult {
   return drive(new SarsaSession(env, resolveSarsa(config), opts), opts);
-}
-
-export function trainSarsaAsync(env: TabularEnv, config: Partial<SarsaConfig>, opts: TrainOptions): Promise<TrainResult> {
-  return driveAsync(new SarsaSession(env, resolveSarsa(config), opts), opts);
 }

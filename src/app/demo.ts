@@ -6,7 +6,7 @@ import { defaultLearner } from "../../policies/index.js";
 import { builtinScenarioNames, readScenarioMeta } from "../env/scenarios.js";
 import { sparklines } from "../report/terminal.js";
 import { writeReport } from "../report/write.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { runTraining } from "../train/run.js";
 
 export interface DemoRow {

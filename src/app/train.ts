@@ -1,7 +1,7 @@
 /** `gapwatch train`: one training run watched by the monitor, indexed, with an optional HTML report. */
 import { indexRun } from "../store/index-db.js";
-import type { RunResult } from "../store/types.js";
-import type { TrainConfigInput } from "../train/config.js";
+import type { RunResult } from "../run/schema.js";
+import type { TrainConfigInput } from "../run/schema.js";
 import { runTraining, type Progress } from "../train/run.js";
 import { writeReport } from "../report/write.js";
 

@@ -23,7 +23,7 @@ import { aggregateIqm, aggregateMean, aggregateMedian, scoreMatrix, type ScoreMa
 import { stratifiedBootstrapCI } from "../stats/bootstrap.js";
 import { probabilityOfImprovementCI } from "../stats/improvement.js";
 import { wilsonInterval } from "../stats/wilson.js";
-import type { Verdict } from "../monitor/monitor.js";
+import type { Verdict } from "../run/schema.js";
 
 /** One run of the sweep as the aggregation reads it. */
 export interface RunRecord {

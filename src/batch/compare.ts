@@ -12,10 +12,10 @@
 import { mkdirSync } from "node:fs";
 import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
-import { canonicalJson } from "../store/run-store.js";
+import { canonicalJson } from "../util/canonical-json.js";
 import { COMPARISON_FILE, openIndex } from "../store/index-db.js";
 import { writeFileAtomic, writeJsonAtomic } from "../store/atomic.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { BOOTSTRAP_DEFAULTS } from "../stats/bootstrap.js";
 import { getLearner } from "../train/learners.js";
 import { resolveTrainConfig } from "../train/run.js";

@@ -17,7 +17,7 @@ import { GapwatchError, InputError } from "../errors.js";
 import { checkShippedRun, runFolderInside } from "./job-guard.js";
 import { readRun, runId as makeRunId, RUN_FILES } from "../store/run-store.js";
 import { writeFileAtomic } from "../store/atomic.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { runTraining } from "../train/run.js";
 import type { BatchJob, RunFailure, ShippedRun } from "./types.js";
 import { sha256 } from "./plan.js";

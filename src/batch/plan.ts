@@ -7,8 +7,8 @@ import { createHash } from "node:crypto";
 import { existsSync, readFileSync } from "node:fs";
 import { resolve } from "node:path";
 import { InputError } from "../errors.js";
-import { canonicalJson } from "../store/run-store.js";
-import type { TrainConfigInput } from "../train/config.js";
+import { canonicalJson } from "../util/canonical-json.js";
+import type { TrainConfigInput } from "../run/schema.js";
 import type { BatchJob } from "./types.js";
 
 export interface SweepSpec {

@@ -11,15 +11,14 @@
  * `worker.terminate()` (the only way to stop a synchronous loop such as a module's `while (true)`),
  * fails with code "batch.timeout", and its thread is replaced; the other jobs go on.
  *
- * From the build (dist/*.js) a thread loads pool-worker.js directly; from source (.ts, tests and
- * `tsx`) it boots through tsx's `tsImport`, so the same code runs in both without a build step.
+ * Threads run pool-worker.ts, started by src/util/worker.ts (the built .js, or through tsx from source).
  * A thread that dies (crash, out of memory) fails its job with code "batch.thread" and is replaced.
  */
 import { availableParallelism } from "node:os";
-import { createRequire } from "node:module";
-import { fileURLToPath, pathToFileURL } from "node:url";
-import { Worker } from "node:worker_threads";
-import type { RunResult } from "../store/types.js";
+import type { Worker } from "node:worker_threads";
+import type { RunResult } from "../run/schema.js";
+import { logger } from "../util/log.js";
+import { startWorker } from "../util/worker.js";
 import type { BatchJob, RunFailure, ShippedRun } from "./types.js";
 
 export type PoolRequest = { id: number; kind: "local"; job: BatchJob; runsDir: string } | { id: number; kind: "remote"; job: BatchJob; runsDir?: undefined };
@@ -35,17 +34,8 @@ export function defaultWorkers(): number {
   return Math.max(1, availableParallelism());
 }
 
-const BOOT = `
-const { workerData } = require("node:worker_threads");
-import(workerData.tsxApi).then((m) => m.tsImport(workerData.entry, workerData.entry)).catch((e) => { setImmediate(() => { throw e; }); });
-`;
-
 function spawnThread(): Worker {
-  const self = fileURLToPath(import.meta.url);
-  if (self.endsWith(".js")) return new Worker(new URL("./pool-worker.js", import.meta.url));
-  const entry = pathToFileURL(self.replace(/pool\.ts$/, "pool-worker.ts")).href;
-  const tsxApi = pathToFileURL(createRequire(import.meta.url).resolve("tsx/esm/api")).href.replace(/\.cjs$/, ".mjs");
-  return new Worker(BOOT, { eval: true, workerData: { entry, tsxApi } });
+  return startWorker(import.meta.url, "pool-worker");
 }
 
 export interface PoolRunOptions {
@@ -116,7 +106,9 @@ export class WorkerPool {
       slot.task = null;
       slot.ready = false;
       if (t) clearTimeout(t.timer);
-      if (t) t.reject(new PoolError({ code: "batch.thread", message: `worker thread died: ${(err as Error)?.message ?? String(err)}`, exitCode: 1 }));
+      const message = `worker thread died: ${(err as Error)?.message ?? String(err)}`;
+      logger().info({ event: "thread-died", jobId: t?.req.job.jobId }, message);
+      if (t) t.reject(new PoolError({ code: "batch.thread", message, exitCode: 1 }));
       const i = this.slots.indexOf(slot);
       if (i >= 0 && !this.closed) {
         this.slots[i] = this.makeSlot();
@@ -168,7 +160,9 @@ export class WorkerPool {
     const i = this.slots.indexOf(slot);
     if (i >= 0 && !this.closed) this.slots[i] = this.makeSlot();
     slot.worker.terminate().catch(() => undefined);
-    t.reject(new PoolError(timeoutFailure(t.req.job, t.timeoutMs as number)));
+    const failure = timeoutFailure(t.req.job, t.timeoutMs as number);
+    logger().info({ event: "timeout", jobId: t.req.job.jobId }, failure.message);
+    t.reject(new PoolError(failure));
   }
 
   private submit(req: Omit<PoolRequest, "id">, opts: PoolRunOptions): Promise<RunResult | ShippedRun> {

@@ -31,7 +31,8 @@
  */
 import { Job, Queue, QueueEvents, UnrecoverableError, Worker, type ConnectionOptions } from "bullmq";
 import { GapwatchError, InputError } from "../errors.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
+import { logger } from "../util/log.js";
 import { failureOf, writeShippedRun } from "./execute.js";
 import { checkJobForWorker, type WorkerPolicy } from "./job-guard.js";
 import { PoolError, WorkerPool } from "./pool.js";
@@ -282,6 +283,11 @@ export interface QueueWorkerHandle {
 export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions = {}): Promise<QueueWorkerHandle> {
   const concurrency = Math.max(1, opts.concurrency ?? 1);
   const pool = new WorkerPool(concurrency);
+  const log = logger().child({ queue: target.name });
+  const event: NonNullable<WorkerOptions["onEvent"]> = (kind, jobId, detail) => {
+    log.info({ event: kind, jobId }, detail);
+    opts.onEvent?.(kind, jobId, detail);
+  };
   const worker = new Worker<JobData, ShippedRun>(
     target.name,
     async (job) => {
@@ -290,7 +296,7 @@ export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions 
         const checked = checkJobForWorker(job.data, opts);
         const timeoutMs = job.data.runTimeoutMs;
         if (timeoutMs !== undefined && !(typeof timeoutMs === "number" && timeoutMs > 0 && timeoutMs <= 2_147_483_647)) throw new InputError("batch.job", "the job's run timeout is not a positive number of ms", "queued job");
-        opts.onEvent?.("active", job.id as string, `${checked.cell?.reward} ${checked.cell?.learner} seed ${checked.cell?.seed} (attempt ${job.attemptsMade + 1})`);
+        event("active", job.id as string, `${checked.cell?.reward} ${checked.cell?.learner} seed ${checked.cell?.seed} (attempt ${job.attemptsMade + 1})`);
         return await pool.runRemote(checked, { timeoutMs });
       } catch (err) {
         const f = err instanceof PoolError ? err.failure : failureOf(err);
@@ -306,8 +312,8 @@ export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions 
       maxStalledCount: QUEUE_DEFAULTS.maxStalledCount,
     },
   );
-  worker.on("completed", (job) => opts.onEvent?.("completed", job.id as string, job.returnvalue?.runId ?? ""));
-  worker.on("failed", (job, err) => opts.onEvent?.("failed", job?.id ?? "?", err.message));
+  worker.on("completed", (job) => event("completed", job.id as string, job.returnvalue?.runId ?? ""));
+  worker.on("failed", (job, err) => event("failed", job?.id ?? "?", err.message));
   try {
     await readyOrFail([worker], target, opts.connectTimeoutMs ?? 5000, "--queue");
   } catch (err) {
@@ -320,7 +326,7 @@ export async function startQueueWorker(target: QueueTarget, opts: WorkerOptions 
   worker.on("error", (err) => {
     if (Date.now() - lastError < 10_000) return;
     lastError = Date.now();
-    opts.onEvent?.("error", "-", `${target.url}: ${err.message}`);
+    event("error", "-", `${target.url}: ${err.message}`);
   });
   return {
     worker,

@@ -4,8 +4,7 @@
  * worker on another machine needs no shared disk. A `RunOutcome` is what comes back: the RunResult of
  * a completed run, or a failure with its typed error code.
  */
-import type { TrainConfigInput } from "../train/config.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult, TrainConfigInput } from "../run/schema.js";
 
 export interface BatchJob {
   /** Deterministic: SHA-256 of the canonical input config and of the shipped file texts (see plan.ts). */

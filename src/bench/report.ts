@@ -15,7 +15,7 @@ import { performance } from "node:perf_hooks";
 import type { ComparisonDoc, ComparisonReportData } from "../report/data.js";
 import { renderComparisonReport } from "../report/comparison-report.js";
 import { Xorshift32 } from "../rng/rng.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { median, type BenchEntry } from "./harness.js";
 
 export const REPORT_VARIANTS = 20;

@@ -3,32 +3,19 @@
  *
  * The regularized lower incomplete gamma function P(a, x) uses the power series for x < a + 1 and the
  * continued fraction for Q = 1 - P otherwise (modified Lentz), the standard pair of expansions
- * (Abramowitz & Stegun 6.5.29 and 6.5.31); ln Gamma by the Lanczos approximation (g = 7, 9 terms).
+ * (Abramowitz & Stegun 6.5.29 and 6.5.31); ln Gamma from src/stats/gamma.ts (Lanczos).
  * The chi-square CDF with k degrees of freedom is P(k/2, x/2); the quantile inverts it by bisection
  * on a bracket, refined by Newton steps. Tests compare against jstat and a published table.
  */
 
-const LANCZOS = [
-  0.99999999999980993, 676.5203681218851, -1259.1392167224028, 771.32342877765313, -176.61502916214059, 12.507343278686905,
-  -0.13857109526572012, 9.9843695780195716e-6, 1.5056327351493116e-7,
-];
-
-/** ln Gamma(z) for z > 0. */
-export function lnGamma(z: number): number {
-  if (z < 0.5) return Math.log(Math.PI / Math.sin(Math.PI * z)) - lnGamma(1 - z);
-  const x = z - 1;
-  let a = LANCZOS[0];
-  const t = x + 7.5;
-  for (let i = 1; i < 9; i++) a += LANCZOS[i] / (x + i);
-  return 0.5 * Math.log(2 * Math.PI) + (x + 0.5) * Math.log(t) - t + Math.log(a);
-}
+import { logGamma } from "../stats/gamma.js";
 
 /** Regularized lower incomplete gamma P(a, x), a > 0, x >= 0. */
 export function regularizedGammaP(a: number, x: number): number {
   if (!(a > 0) || !(x >= 0)) return NaN;
   if (x === 0) return 0;
   if (!Number.isFinite(x)) return 1;
-  const lnPre = a * Math.log(x) - x - lnGamma(a);
+  const lnPre = a * Math.log(x) - x - logGamma(a);
   if (x < a + 1) {
     // Series: P = x^a e^-x / Gamma(a+1) * sum_n x^n / ((a+1)...(a+n)).
     let term = 1 / a;
@@ -86,7 +73,7 @@ export function chiSquareQuantile(p: number, df: number): number {
   // Newton refinement with the density f(x) = x^(k/2-1) e^(-x/2) / (2^(k/2) Gamma(k/2)).
   for (let i = 0; i < 3; i++) {
     const k2 = df / 2;
-    const lnf = (k2 - 1) * Math.log(x) - x / 2 - k2 * Math.LN2 - lnGamma(k2);
+    const lnf = (k2 - 1) * Math.log(x) - x / 2 - k2 * Math.LN2 - logGamma(k2);
     const f = Math.exp(lnf);
     if (!(f > 0) || !Number.isFinite(f)) break;
     const nx = x - (chiSquareCdf(x, df) - p) / f;

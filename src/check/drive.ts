@@ -1,7 +1,8 @@
 /** Running trajectories of a check subject through the episode wrapper, and comparing outcomes. */
 import type { Rng } from "../rng/rng.js";
 import { createRng } from "../rng/rng.js";
-import { canonicalKey, type EnvDefinition, type StepResult } from "../sim/define.js";
+import { type EnvDefinition, type StepResult } from "../sim/define.js";
+import { canonicalJson } from "../util/canonical-json.js";
 import { Episode, type EpisodeStep } from "../sim/episode.js";
 import type { CheckSubject } from "./subject.js";
 
@@ -21,18 +22,18 @@ export interface Trajectory<S> {
 }
 
 export function stateKey<S>(def: EnvDefinition<S>, s: S): string {
-  return def.key ? def.key(s) : canonicalKey(s);
+  return def.key ? def.key(s) : canonicalJson(s);
 }
 
 /** Features with zeros dropped, sorted: the same transition gives the same text however it is written. */
 export function featureKey(features: Record<string, number> | undefined): string {
   const f = features ?? {};
-  return canonicalKey(Object.fromEntries(Object.keys(f).filter((k) => f[k] !== 0).sort().map((k) => [k, f[k]])));
+  return canonicalJson(Object.fromEntries(Object.keys(f).filter((k) => f[k] !== 0).sort().map((k) => [k, f[k]])));
 }
 
 /** The identity of one step's result (state reached, features, intent, termination). */
 export function outcomeKey<S>(def: EnvDefinition<S>, r: Pick<StepResult<S>, "state" | "features" | "intent" | "terminated">): string {
-  return canonicalKey([stateKey(def, r.state), featureKey(r.features), r.intent ?? 0, r.terminated === true]);
+  return canonicalJson([stateKey(def, r.state), featureKey(r.features), r.intent ?? 0, r.terminated === true]);
 }
 
 /**

@@ -3,4 +3,5 @@ export { PROPERTIES, propertiesFor } from "./property-list.js";
 export { FREQUENCY_ALPHA, FREQUENCY_SAMPLES } from "./properties/transition-frequencies.js";
 export type { PropertyResult, PropertySpec } from "./harness.js";
 export { subjectOf, type CheckSubject } from "./subject.js";
-export { chiSquareCdf, chiSquareQuantile, chiSquareSurvival, chiSquareTest, regularizedGammaP, lnGamma } from "./chisq.js";
+export { chiSquareCdf, chiSquareQuantile, chiSquareSurvival, chiSquareTest, regularizedGammaP } from "./chisq.js";
+export { logGamma as lnGamma } from "../stats/gamma.js";

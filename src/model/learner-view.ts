@@ -4,10 +4,14 @@
  * that no key of a LearnerView holds it.
  *
  * `TabularEnv` is the one interface tabular and linear learners step. `viewEnv` implements it over a
- * compiled model with no allocation per step; simulator modules implement it too.
+ * compiled model with no allocation per step (sampling: sampler.ts); simulator modules implement it too.
  */
 import type { Rng } from "../rng/rng.js";
+import { sampleOutcome, samplingTables, sampleStart } from "./sampler.js";
 import type { FiniteModel } from "./types.js";
+
+/** The sampler (sampler.ts), re-exported: learners (policies/) import from this module only. */
+export { sampleOutcome, sampleStart };
 
 export interface LearnerView {
   readonly name: string;
@@ -29,29 +33,7 @@ export interface LearnerView {
 }
 
 export function learnerView(model: FiniteModel, reward: Float64Array): LearnerView {
-  const nSA = model.nStates * model.nActions;
-  const cumProb = new Float64Array(model.prob.length);
-  for (let k = 0; k < nSA; k++) {
-    let c = 0;
-    const lo = model.saStart[k];
-    const hi = model.saStart[k + 1];
-    for (let o = lo; o < hi; o++) {
-      c += model.prob[o];
-      cumProb[o] = c;
-    }
-    cumProb[hi - 1] = 1;
-  }
-  const starts: number[] = [];
-  const cums: number[] = [];
-  let c = 0;
-  for (let s = 0; s < model.nStates; s++) {
-    if (model.start[s] > 0) {
-      c += model.start[s];
-      starts.push(s);
-      cums.push(c);
-    }
-  }
-  cums[cums.length - 1] = 1;
+  const { cumProb, startStates, startCum } = samplingTables(model);
   return {
     name: model.name,
     nStates: model.nStates,
@@ -63,30 +45,10 @@ export function learnerView(model: FiniteModel, reward: Float64Array): LearnerVi
     next: model.next,
     cumProb,
     reward,
-    startStates: Int32Array.from(starts),
-    startCum: Float64Array.from(cums),
+    startStates,
+    startCum,
     observations: model.observations,
   };
-}
-
-/** Sample a start state. Draws nothing when there is a single start state. */
-export function sampleStart(view: LearnerView, rng: Rng): number {
-  const n = view.startStates.length;
-  if (n === 1) return view.startStates[0];
-  const u = rng.float();
-  for (let i = 0; i < n - 1; i++) if (u < view.startCum[i]) return view.startStates[i];
-  return view.startStates[n - 1];
-}
-
-/** Sample an outcome index of (s, a). Draws nothing when the pair has a single outcome. */
-export function sampleOutcome(view: LearnerView, s: number, a: number, rng: Rng): number {
-  const k = s * view.nActions + a;
-  const lo = view.saStart[k];
-  const hi = view.saStart[k + 1];
-  if (hi - lo === 1) return lo;
-  const u = rng.float();
-  for (let o = lo; o < hi - 1; o++) if (u < view.cumProb[o]) return o;
-  return hi - 1;
 }
 
 /** Result of one step, written into a caller-owned object (no allocation per step). */

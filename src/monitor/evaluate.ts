@@ -13,13 +13,15 @@
  *
  * Normalization (both): 0 = the uniform-random policy, 1 = the optimal policy for that score
  * (`normalizeScore` from src/solve/compare.ts). The references are computed once per run by
- * `scoreReferences` (value iteration for each score; the uniform policy's values by the fixed-point
- * evaluator of src/solve/evaluation.ts, within 1e-9 absolute of the exact values, guaranteed for gamma < 1).
+ * `scoreReferences` through `solveOptima` (src/solve/compare.ts, shared with `solveVariant`: value
+ * iteration for each score; the uniform policy's values by the fixed-point evaluator of
+ * src/solve/evaluation.ts, within 1e-9 absolute of the exact values, guaranteed for gamma < 1).
  */
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
+import { sampleOutcome, samplingTables, sampleStart } from "../model/sampler.js";
 import type { Rng } from "../rng/rng.js";
-import { normalizeScore } from "../solve/compare.js";
+import { normalizeScore, solveOptima } from "../solve/compare.js";
 import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY } from "../solve/evaluation.js";
 import { startValue, uniformPolicy } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
@@ -75,20 +77,24 @@ export interface ScoreReferences {
 }
 
 export function scoreReferences(model: FiniteModel, variant: RewardVariant, gamma = model.gamma): ScoreReferences {
-  const rd = designerReward(model, variant, gamma);
-  const dOpt = valueIteration(model, rd, { gamma });
-  const iOpt = valueIteration(model, model.intent, { gamma });
-  // Uniform-random baseline: the fixed point to within FIXED_POINT_ACCURACY (1e-9 absolute, guaranteed).
-  const random = evaluatePolicyMany(model, [rd, model.intent], uniformPolicy(model), { gamma, accuracy: FIXED_POINT_ACCURACY }).map((e) => startValue(model, e.values));
+  return scoreReferencesFor(model, designerReward(model, variant, gamma), gamma);
+}
+
+/**
+ * The references of a designer reward vector `rd` already computed (src/model/reward.ts
+ * `designerReward`), so a caller that also hands `rd` to a learner computes it once.
+ */
+export function scoreReferencesFor(model: FiniteModel, rd: Float64Array, gamma = model.gamma): ScoreReferences {
+  const opt = solveOptima(model, rd, { gamma });
   return {
     gamma,
     designerReward: rd,
-    designerOptimal: startValue(model, dOpt.values),
-    designerRandom: random[0],
-    intentOptimal: startValue(model, iOpt.values),
-    intentRandom: random[1],
-    designerOptimalPolicy: dOpt.policy,
-    intentOptimalPolicy: iOpt.policy,
+    designerOptimal: startValue(model, opt.designer.values),
+    designerRandom: opt.random.designer,
+    intentOptimal: startValue(model, opt.intent.values),
+    intentRandom: opt.random.intent,
+    designerOptimalPolicy: opt.designer.policy,
+    intentOptimalPolicy: opt.intent.policy,
   };
 }
 
@@ -282,8 +288,9 @@ function maxAbs(x: Float64Array): number {
 /**
  * Monte Carlo estimate of the same scores: `episodes` rollouts of the deterministic policy from the
  * start distribution, through the model's transition probabilities. `actions = null` rolls out the
- * uniform-random policy instead (one `rng.int(nActions)` per step). Draws: one `rng.float()` per
- * start when there are several start states, one per step when the pair has several outcomes.
+ * uniform-random policy instead (one `rng.int(nActions)` per step). Draws (src/model/sampler.ts): one
+ * `rng.float()` per start when there are several start states, one per step when the pair has several
+ * outcomes.
  */
 export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, actions: Int32Array | null, opts: MonteCarloOptions): MonteCarloScores {
   const gamma = refs.gamma;
@@ -292,41 +299,21 @@ export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, ac
   const nA = model.nActions;
   const rd = refs.designerReward;
   const ri = model.intent;
-  const { saStart, next, prob, terminal, start } = model;
-  const starts: number[] = [];
-  for (let s = 0; s < model.nStates; s++) if (start[s] > 0) starts.push(s);
+  const { next, terminal } = model;
+  const tables = samplingTables(model);
   let sd = 0;
   let sd2 = 0;
   let si = 0;
   let si2 = 0;
   let cut = 0;
   for (let e = 0; e < opts.episodes; e++) {
-    let s = starts[0];
-    if (starts.length > 1) {
-      const u = rng.float();
-      let c = 0;
-      s = starts[starts.length - 1];
-      for (const st of starts) {
-        c += start[st];
-        if (u < c) {
-          s = st;
-          break;
-        }
-      }
-    }
+    let s = sampleStart(tables, rng);
     let gd = 0;
     let gi = 0;
     let disc = 1;
     let t = 0;
     while (!terminal[s] && t < horizon) {
-      const k = s * nA + (actions ? clampAction(actions[s], nA) : rng.int(nA));
-      let o = saStart[k];
-      const hi = saStart[k + 1] - 1;
-      if (o !== hi) {
-        const u = rng.float();
-        let c = prob[o];
-        while (o < hi && !(u < c)) c += prob[++o];
-      }
+      const o = sampleOutcome(tables, s, actions ? clampAction(actions[s], nA) : rng.int(nA), rng);
       gd += disc * rd[o];
       gi += disc * ri[o];
       disc *= gamma;

@@ -41,37 +41,7 @@
 import { Cusum } from "./detectors/cusum.js";
 import { spearman } from "../stats/rank.js";
 import type { Scores } from "./evaluate.js";
-
-export type AlertKind = "intent-drop" | "proxy-saturated" | "rank-break";
-export type Verdict = "aligned" | "decoupled" | "inconclusive";
-
-export interface MonitorConfig {
-  intentDrop: {
-    /** CUSUM allowance per checkpoint, normalized intent units. */
-    k: number;
-    /** CUSUM decision interval, normalized intent units. */
-    h: number;
-    /** Smallest fall from the running peak that can alert. */
-    floor: number;
-    /** How far the designer return may sit below its value at the intent peak and still count as "not falling". */
-    designerSlack: number;
-  };
-  proxySaturated: {
-    /** designerNorm at or above this counts as "near its optimum". */
-    designerMin: number;
-    /** intentNorm at or below this counts as "far below its own optimum". */
-    intentMax: number;
-  };
-  rankBreak: {
-    enabled: boolean;
-    /** Checkpoints needed before the correlation is read. */
-    minPoints: number;
-    /** Spearman rho at or below this breaks. */
-    threshold: number;
-  };
-  /** Final designerNorm below this gives "inconclusive". */
-  inconclusiveBelow: number;
-}
+import type { Alert, AlertKind, CheckpointRecord, DeepPartial, MonitorConfig, Verdict } from "../run/schema.js";
 
 export const MONITOR_DEFAULTS: MonitorConfig = {
   intentDrop: { k: 0.02, h: 0.1, floor: 0.15, designerSlack: 0.02 },
@@ -89,36 +59,10 @@ export function resolveMonitorConfig(partial: DeepPartial<MonitorConfig> = {}): 
   };
 }
 
-export type DeepPartial<T> = { [K in keyof T]?: T[K] extends object ? Partial<T[K]> : T[K] };
-
 /** Optional interval bounds of Monte Carlo scores (normalized units). */
 export interface ScoreBounds {
   designerNormLower: number;
   intentNormUpper: number;
-}
-
-/** One line of checkpoints.jsonl. */
-export interface CheckpointRecord {
-  step: number;
-  episodes: number;
-  designer: number;
-  intent: number;
-  designerNorm: number;
-  intentNorm: number;
-  /** designerNorm - intentNorm. */
-  gap: number;
-  /** Running Spearman rho of the designer and intent series up to here; null while undefined (< 3 points or a constant series). */
-  rank: number | null;
-  /** Present with Monte Carlo scores: 95% half-widths of the raw scores. */
-  mc?: { episodes: number; designerHalfWidth: number; intentHalfWidth: number };
-}
-
-export interface Alert {
-  step: number;
-  kind: AlertKind;
-  /** Size of the effect in normalized units (intent fall, gap, or -rho). */
-  magnitude: number;
-  message: string;
 }
 
 export interface VerdictResult {

@@ -4,7 +4,7 @@
  * intervals, alert rates, the pairwise probability-of-improvement matrix, small multiples of every
  * variant's curves, and per-run detail with each alert.
  */
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { renderAuditSection } from "./audit.js";
 import { alertRateSpec, chartFigure, intervalsSpec, pairsSpec, smallMultiplesSpec, type MultiRow, type PairCell, type VariantInterval } from "./charts.js";
 import { interval, type ComparisonDoc, type ComparisonReportData } from "./data.js";

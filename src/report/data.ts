@@ -10,7 +10,7 @@ import { basename, dirname, isAbsolute, join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import { readRun, RUN_FILES } from "../store/run-store.js";
-import type { RunManifest, RunResult } from "../store/types.js";
+import type { RunManifest, RunPolicyFile, RunResult } from "../run/schema.js";
 
 /** audit.json (from `gapwatch audit`). */
 export interface AuditDoc {
@@ -207,7 +207,7 @@ function side<T>(dir: string, given: string | T | null | undefined, file: string
 export function loadRunReport(dir: string, opts: LoadOptions = {}): RunReportData {
   const run = readRun(dir);
   const manifest = optionalJson<RunManifest>(join(dir, RUN_FILES.manifest));
-  const policyDoc = optionalJson<{ greedy?: (string | null)[] }>(join(dir, RUN_FILES.policy));
+  const policyDoc = optionalJson<Partial<RunPolicyFile>>(join(dir, RUN_FILES.policy));
   return {
     run,
     manifest,

@@ -5,7 +5,7 @@
  * the manifest to reproduce it, and the caution.
  */
 import type { FiniteModel } from "../model/types.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 import { drawingBlock, renderAuditSection } from "./audit.js";
 import { chartFigure, curvesSpec, rawCurvesSpec, type AlertMark } from "./charts.js";
 import type { RunReportData } from "./data.js";
@@ -13,7 +13,7 @@ import { esc } from "./escape.js";
 import { page } from "./page.js";
 import { renderPressureSection } from "./pressure.js";
 import { alertList, caution, facts, footer, manifestBlock, num, pct, scoreKey, sectionOpen, verdictBand, type ListedAlert } from "./sections.js";
-import { likelyPath } from "./terminal.js";
+import { likelyPath } from "../model/likely-path.js";
 
 export function numberedAlerts(run: Pick<RunResult, "alerts">, prefix = ""): ListedAlert[] {
   return run.alerts.map((a, i) => ({ label: `${prefix}${i + 1}`, step: a.step, kind: a.kind, magnitude: a.magnitude, message: a.message }));

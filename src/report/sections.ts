@@ -3,7 +3,7 @@
  * list, the reproduce section (manifest), the caution and the footer. Each returns safe HTML: every
  * value that came from a user or a results file is escaped here.
  */
-import type { RunManifest } from "../store/types.js";
+import type { RunManifest } from "../run/schema.js";
 import { esc, token } from "./escape.js";
 import { ROLE } from "./palette.js";
 

@@ -2,8 +2,9 @@
  * Pictures for the terminal: a policy's route drawn on a grid map, a track strip, and sparklines of a
  * run's score series. Pure functions; no I/O.
  */
+import { likelyPath } from "../model/likely-path.js";
 import type { FiniteModel } from "../model/types.js";
-import type { RunResult } from "../store/types.js";
+import type { RunResult } from "../run/schema.js";
 
 const BARS = "▁▂▃▄▅▆▇█";
 
@@ -31,29 +32,6 @@ export function sparklines(r: RunResult): { designer: string; intent: string } {
 }
 
 const ARROWS: Record<string, string> = { up: "↑", right: "→", down: "↓", left: "←", wait: "•", north: "↑", east: "→", south: "↓", west: "←" };
-
-/** The most likely path of a deterministic policy from the most likely start state. */
-export function likelyPath(model: FiniteModel, policy: Int32Array, maxSteps = model.horizon): { states: number[]; actions: number[] } {
-  let s = 0;
-  for (let i = 1; i < model.nStates; i++) if (model.start[i] > model.start[s]) s = i;
-  const states = [s];
-  const actions: number[] = [];
-  const seen = new Map<number, number>();
-  for (let t = 0; t < maxSteps && !model.terminal[s]; t++) {
-    const a = policy[s];
-    if (a < 0) break;
-    const k = s * model.nActions + a;
-    let best = model.saStart[k];
-    for (let o = best + 1; o < model.saStart[k + 1]; o++) if (model.prob[o] > model.prob[best]) best = o;
-    actions.push(a);
-    s = model.next[best];
-    states.push(s);
-    const count = (seen.get(s) ?? 0) + 1;
-    seen.set(s, count);
-    if (count > 2) break; // a loop: shown once is enough
-  }
-  return { states, actions };
-}
 
 /** The grid map with the route of `policy` drawn as arrows (first action taken in each cell). */
 export function drawGridRoute(model: FiniteModel, policy: Int32Array): string | null {

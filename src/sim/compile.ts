@@ -6,7 +6,8 @@ import { GapwatchError, InputError } from "../errors.js";
 import { ModelBuilder } from "../model/builder.js";
 import type { FiniteModel } from "../model/types.js";
 import { createRng } from "../rng/rng.js";
-import { canonicalKey, DEFAULT_MODULE_GAMMA, DEFAULT_MODULE_HORIZON, type EnvDefinition, type Outcome } from "./define.js";
+import { DEFAULT_MODULE_GAMMA, DEFAULT_MODULE_HORIZON, type EnvDefinition, type Outcome } from "./define.js";
+import { canonicalJson } from "../util/canonical-json.js";
 
 export interface CompileOptions {
   maxStates: number;
@@ -72,7 +73,7 @@ function outcomesOf<S>(def: EnvDefinition<S>, state: S, a: number, source: strin
   // Deterministic module: two probes with different seeds must agree.
   const r1 = checkStepResult<S>(source, what, guard(source, what, () => def.step(state, a, createRng("probe-1"))));
   const r2 = checkStepResult<S>(source, what, guard(source, what, () => def.step(state, a, createRng("probe-2"))));
-  const k = (r: typeof r1) => canonicalKey([r.state, r.features, r.intent ?? 0, r.terminated]);
+  const k = (r: typeof r1) => canonicalJson([r.state, r.features, r.intent ?? 0, r.terminated]);
   if (k(r1) !== k(r2)) {
     throw new InputError("module.stochastic", `${what} is random but the module has no transitions(); add transitions() or set finite: false`, source);
   }
@@ -88,7 +89,7 @@ export function compileModule<S>(def: EnvDefinition<S>, opts: CompileOptions): F
 export function compileModuleStates<S>(def: EnvDefinition<S>, opts: CompileOptions): { model: FiniteModel; states: S[] } | null {
   if (def.finite === false) return null;
   const source = opts.source;
-  const key = (s: S) => guard(source, "key()", () => (def.key ? def.key(s) : canonicalKey(s)));
+  const key = (s: S) => guard(source, "key()", () => (def.key ? def.key(s) : canonicalJson(s)));
   const starts = def.starts
     ? guard(source, "starts()", () => def.starts!())
     : [{ state: guard(source, "reset()", () => def.reset(createRng("probe-1"))), p: 1 }];

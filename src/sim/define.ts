@@ -66,13 +66,6 @@ export function defineEnv<S>(def: EnvDefinition<S>): EnvDefinition<S> {
   return def;
 }
 
-/** Canonical JSON (sorted keys) used as the default state key. */
-export function canonicalKey(value: unknown): string {
-  return JSON.stringify(value, (_k, v) =>
-    v && typeof v === "object" && !Array.isArray(v) ? Object.fromEntries(Object.keys(v).sort().map((k) => [k, (v as Record<string, unknown>)[k]])) : v,
-  );
-}
-
 export const DEFAULT_MODULE_HORIZON = 200;
 export const DEFAULT_MODULE_GAMMA = 0.99;
 export const DEFAULT_MAX_STATES = 100_000;

@@ -1,13 +1,14 @@
 /**
  * A simulator module as a `TabularEnv` for learners: states get integer ids as they are discovered
  * (by key), the designer reward is the variant's weighted sum of the step's features, and intent is
- * dropped here (the monitor reads it separately through `moduleRollout`).
+ * dropped here (only the compiled model, src/sim/compile.ts, carries it to the monitor).
  */
 import { InputError } from "../errors.js";
 import type { StepOut, TabularEnv } from "../model/learner-view.js";
 import type { Rng } from "../rng/rng.js";
 import { checkNumbers, guard } from "./compile.js";
-import { canonicalKey, DEFAULT_MODULE_HORIZON, type EnvDefinition } from "./define.js";
+import { DEFAULT_MODULE_HORIZON, type EnvDefinition } from "./define.js";
+import { canonicalJson } from "../util/canonical-json.js";
 
 export interface ModuleEnv<S> extends TabularEnv {
   /** The state behind an id (for the monitor's rollouts). */
@@ -21,7 +22,7 @@ export function moduleTabularEnv<S>(def: EnvDefinition<S>, weights: Record<strin
   const w = def.features.map((f) => weights[f] ?? 0);
   let steps = 0;
   const idOf = (s: S): number => {
-    const k = def.key ? def.key(s) : canonicalKey(s);
+    const k = def.key ? def.key(s) : canonicalJson(s);
     let id = ids.get(k);
     if (id === undefined) {
       id = states.length;
@@ -41,7 +42,7 @@ export function moduleTabularEnv<S>(def: EnvDefinition<S>, weights: Record<strin
     step(s: number, a: number, rng: Rng, out: StepOut) {
       steps++;
       if (a < 0 || a >= def.actions.length || !Number.isInteger(a)) throw new InputError("module.action", `invalid action ${a}`, source);
-      const r = guard(source, `step ${steps} (state ${canonicalKey(states[s])}, action ${def.actions[a]})`, () => def.step(states[s], a, rng));
+      const r = guard(source, `step ${steps} (state ${canonicalJson(states[s])}, action ${def.actions[a]})`, () => def.step(states[s], a, rng));
       checkNumbers(source, `step ${steps}`, r.features, r.intent, def.features);
       let reward = 0;
       for (let f = 0; f < w.length; f++) if (w[f] !== 0) reward += w[f] * (r.features[def.features[f]] ?? 0);

@@ -12,7 +12,8 @@
 import { InputError } from "../errors.js";
 import type { Rng } from "../rng/rng.js";
 import { checkNumbers, checkStepResult, guard } from "./compile.js";
-import { canonicalKey, DEFAULT_MODULE_HORIZON, type EnvDefinition } from "./define.js";
+import { DEFAULT_MODULE_HORIZON, type EnvDefinition } from "./define.js";
+import { canonicalJson } from "../util/canonical-json.js";
 
 export interface EpisodeStep<S> {
   state: S;
@@ -46,7 +47,7 @@ export function describeAction(def: EnvDefinition<unknown>, a: number): string {
 
 export function stateText(def: EnvDefinition<unknown>, s: unknown): string {
   try {
-    const k = def.key ? def.key(s) : canonicalKey(s);
+    const k = def.key ? def.key(s) : canonicalJson(s);
     return k.length > 80 ? `${k.slice(0, 77)}...` : k;
   } catch {
     return "<key() threw>";

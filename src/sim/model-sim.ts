@@ -1,11 +1,12 @@
 /**
  * A compiled FiniteModel seen through the simulator contract, so `gapwatch check` runs every property
  * the same way on built-in scenarios, model files and modules. States are model state ids; `step`
- * samples one outcome with `rng.float()` (no draw when the pair has a single outcome), `transitions`
+ * samples one outcome (src/model/sampler.ts: one `rng.float()`, none when the pair has a single outcome), `transitions`
  * lists the model's outcomes exactly. A terminal state is absorbing (it stays terminal, no features,
  * no intent), and an invalid action is refused.
  */
 import { InputError } from "../errors.js";
+import { sampleOutcome, samplingTables, sampleStart } from "../model/sampler.js";
 import type { FiniteModel } from "../model/types.js";
 import type { EnvDefinition, Outcome } from "./define.js";
 
@@ -27,6 +28,7 @@ export function modelSimulator(model: FiniteModel): EnvDefinition<number> {
   };
   const starts: { state: number; p: number }[] = [];
   for (let s = 0; s < model.nStates; s++) if (model.start[s] > 0) starts.push({ state: s, p: model.start[s] });
+  const tables = samplingTables(model);
   const obs = model.observations;
   return {
     name: model.name,
@@ -34,34 +36,11 @@ export function modelSimulator(model: FiniteModel): EnvDefinition<number> {
     features: model.features,
     horizon: model.horizon,
     gamma: model.gamma,
-    reset(rng) {
-      if (starts.length === 1) return starts[0].state;
-      const u = rng.float();
-      let c = 0;
-      for (let i = 0; i < starts.length - 1; i++) {
-        c += starts[i].p;
-        if (u < c) return starts[i].state;
-      }
-      return starts[starts.length - 1].state;
-    },
+    reset: (rng) => sampleStart(tables, rng),
     step(s, a, rng) {
       checkArgs(s, a);
       if (model.terminal[s] === 1) return { state: s, features: {}, intent: 0, terminated: true };
-      const k = s * nA + a;
-      const lo = model.saStart[k];
-      const hi = model.saStart[k + 1];
-      let o = hi - 1;
-      if (hi - lo > 1) {
-        const u = rng.float();
-        let c = 0;
-        for (let i = lo; i < hi - 1; i++) {
-          c += model.prob[i];
-          if (u < c) {
-            o = i;
-            break;
-          }
-        }
-      }
+      const o = sampleOutcome(tables, s, a, rng);
       const next = model.next[o];
       return { state: next, features: featuresOf(o), intent: model.intent[o], terminated: model.terminal[next] === 1 };
     },

@@ -12,14 +12,13 @@
  * the barrier every thread reads all per-range deltas (double-buffered by sweep parity) and takes the
  * same stop decision, so no second sync point is needed.
  *
- * Threads are started per solve (`prepareParallelSweeps`) and end after the sweeps. From the build a
- * worker loads parallel-worker.js next to this file; from source (tests, tsx) it boots through tsx's
- * `tsImport`, as src/batch/pool.ts does. The library default stays single-threaded (`valueIteration`).
+ * Threads are started per solve (`prepareParallelSweeps`) and end after the sweeps; each runs
+ * parallel-worker.ts, started by src/util/worker.ts (the built .js, or through tsx from source). The
+ * library default stays single-threaded (`valueIteration`).
  */
-import { createRequire } from "node:module";
-import { fileURLToPath, pathToFileURL } from "node:url";
-import { Worker } from "node:worker_threads";
+import type { Worker } from "node:worker_threads";
 import { InputError } from "../errors.js";
+import { startWorker } from "../util/worker.js";
 import type { FiniteModel } from "../model/types.js";
 import { actionValues, DEFAULT_TOL, defaultMaxIters, greedyActions, type Evaluation, type Solution, type SolveOptions } from "./sweeps.js";
 import { rangeSweepFor, sweepPlan, type SweepPlan, type SweepTables } from "./value-iteration.js";
@@ -162,17 +161,8 @@ export function partition(model: FiniteModel, live: Int32Array, threads: number)
   return bounds;
 }
 
-const BOOT = `
-const { workerData } = require("node:worker_threads");
-import(workerData.tsxApi).then((m) => m.tsImport(workerData.entry, workerData.entry)).catch((e) => { setImmediate(() => { throw e; }); });
-`;
-
 function spawnSweeper(job: SweepJob): Worker {
-  const self = fileURLToPath(import.meta.url);
-  if (self.endsWith(".js")) return new Worker(new URL("./parallel-worker.js", import.meta.url), { workerData: { job } });
-  const entry = pathToFileURL(self.replace(/parallel\.ts$/, "parallel-worker.ts")).href;
-  const tsxApi = pathToFileURL(createRequire(import.meta.url).resolve("tsx/esm/api")).href.replace(/\.cjs$/, ".mjs");
-  return new Worker(BOOT, { eval: true, workerData: { entry, tsxApi, job } });
+  return startWorker(import.meta.url, "parallel-worker", { job });
 }
 
 /** Threads started and waiting at the start gate; `run` does the sweeps (once), `close` waits for the threads to end. */

@@ -8,3 +8,4 @@ export * from "./rank.js";
 export * from "./ttest.js";
 export * from "./normal.js";
 export * from "./student.js";
+export * from "./gamma.js";

@@ -14,7 +14,7 @@ import { existsSync, mkdirSync, readdirSync, readFileSync, statSync } from "node
 import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { readRun, RUN_FILES } from "./run-store.js";
-import type { RunResult, RunSummary } from "./types.js";
+import type { RunResult, RunSummary } from "../run/schema.js";
 
 export const INDEX_FILE = "index.db";
 export const COMPARISON_FILE = "comparison.json";

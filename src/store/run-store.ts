@@ -14,10 +14,9 @@ import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
 import { basename, join, resolve } from "node:path";
 import pino from "pino";
 import { GapwatchError, InputError } from "../errors.js";
-import type { Alert, CheckpointRecord } from "../monitor/monitor.js";
-import type { TrainConfig } from "../train/config.js";
+import { canonicalJson } from "../util/canonical-json.js";
 import { appendJsonLine, writeJsonAtomic } from "./atomic.js";
-import type { RunManifest, RunResult, RunSummary } from "./types.js";
+import type { Alert, CheckpointRecord, RunManifest, RunPolicyFile, RunResult, RunSummary, TrainConfig } from "../run/schema.js";
 
 export const RUN_FILES = {
   manifest: "manifest.json",
@@ -26,24 +25,6 @@ export const RUN_FILES = {
   summary: "summary.json",
   policy: "policy.json",
 } as const;
-
-/** JSON with object keys sorted at every level (arrays keep their order). */
-export function canonicalJson(value: unknown): string {
-  return JSON.stringify(sortKeys(value));
-}
-
-function sortKeys(v: unknown): unknown {
-  if (Array.isArray(v)) return v.map(sortKeys);
-  if (v && typeof v === "object") {
-    const out: Record<string, unknown> = {};
-    for (const k of Object.keys(v as object).sort()) {
-      const x = (v as Record<string, unknown>)[k];
-      if (x !== undefined) out[k] = sortKeys(x);
-    }
-    return out;
-  }
-  return v;
-}
 
 /** A name part safe in a directory name: a path becomes its base name without extension. */
 function slug(text: string): string {
@@ -105,7 +86,7 @@ export class RunWriter {
     this.alertLog.warn({ step: a.step, kind: a.kind, magnitude: a.magnitude }, a.message);
   }
 
-  writePolicy(doc: object): void {
+  writePolicy(doc: RunPolicyFile): void {
     writeJsonAtomic(this.path("policy"), doc);
   }
 

@@ -1,40 +1,12 @@
 /**
- * `TrainConfig`: everything one training run needs, with the defaults in one place
+ * The defaults of `TrainConfig` (src/run/schema.ts) in one place
  * (`TRAIN_DEFAULTS`, `defaultSteps`). The resolved config is what the manifest stores and what the
  * run id hashes, so two runs with equal resolved configs are the same run.
  */
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
-import type { DeepPartial, MonitorConfig } from "../monitor/monitor.js";
+import type { EvaluationMode, TrainConfig } from "../run/schema.js";
 import { defaultLearner } from "../../policies/index.js";
-
-export type EvaluationMode = "exact" | "mc" | "both";
-
-export interface TrainConfig {
-  /** Environment: built-in scenario name or model file path. */
-  env: string;
-  /** Reward variant name known to the environment, or a reward file path. */
-  reward: string;
-  /** Learner name (a key of the learner registry, policies/index.ts). */
-  learner: string;
-  /** Environment steps to train for. */
-  steps: number;
-  /** Seed of every random stream of the run (exploration, environment, Monte Carlo evaluation). */
-  seed: number;
-  /** Number of checkpoints; the monitor evaluates every ceil(steps / checkpoints) steps and at the end. */
-  checkpoints: number;
-  /** Learner settings (alpha, epsilon, schedules, ...); gamma defaults to the model's discount. */
-  learnerParams: Record<string, unknown>;
-  /** How checkpoints are scored: exact policy evaluation, Monte Carlo rollouts, or both (detectors read the exact scores). */
-  evaluation: EvaluationMode;
-  /** Rollouts per checkpoint for Monte Carlo evaluation. */
-  mcEpisodes: number;
-  /** Detector settings (normalized units); omitted keys take MONITOR_DEFAULTS. */
-  monitor: DeepPartial<MonitorConfig>;
-}
-
-/** Input to `runTraining`: env and reward are required (reward may default to the model's default variant). */
-export type TrainConfigInput = Partial<TrainConfig> & { env: string };
 
 export const TRAIN_DEFAULTS = {
   learner: defaultLearner as string,

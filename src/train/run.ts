@@ -12,14 +12,15 @@ import { GapwatchError, InputError } from "../errors.js";
 import { learnerView, viewEnv } from "../model/learner-view.js";
 import { builtinScenarioNames, loadEnv, loadFiniteVariant, type EnvLoadOptions, type LoadedEnv } from "../env/index.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferences, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
-import { Monitor, type Alert, type CheckpointRecord, type ScoreBounds } from "../monitor/monitor.js";
+import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferencesFor, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
+import { Monitor, type ScoreBounds } from "../monitor/monitor.js";
 import { createRng } from "../rng/rng.js";
-import { defaultVariantName } from "../model/reward.js";
+import { defaultVariantName, designerReward } from "../model/reward.js";
 import { RunWriter, runId as makeRunId } from "../store/run-store.js";
-import type { RunManifest, RunResult, RunStatus, RunSummary } from "../store/types.js";
+import type { Alert, CheckpointRecord, RunManifest, RunResult, RunStatus, RunSummary, TrainConfig, TrainConfigInput } from "../run/schema.js";
+import { logger } from "../util/log.js";
 import { packageVersion } from "../util/paths.js";
-import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS, type TrainConfig, type TrainConfigInput } from "./config.js";
+import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS } from "./config.js";
 import { getLearner } from "./learners.js";
 import type { Agent } from "../../policies/driver.js";
 
@@ -57,7 +58,13 @@ export interface ResolvedRun {
  * once per process and shared by every run on them (batch jobs and seed sweeps run many).
  */
 const scenarioCache = new Map<string, LoadedEnv>();
-const referenceCache = new WeakMap<FiniteModel, Map<string, ScoreReferences>>();
+const referenceCache = new WeakMap<FiniteModel, Map<string, RunRewards>>();
+
+/** The designer reward vector of a run and the monitor's score references built on that same vector. */
+interface RunRewards {
+  designer: Float64Array;
+  refs: ScoreReferences;
+}
 
 async function loadCached(spec: string, opts: EnvLoadOptions): Promise<LoadedEnv> {
   if (builtinScenarioNames().includes(spec)) {
@@ -71,14 +78,22 @@ async function loadCached(spec: string, opts: EnvLoadOptions): Promise<LoadedEnv
   return loadEnv(spec, opts);
 }
 
-function cachedReferences(kind: LoadedEnv["kind"], model: FiniteModel, variant: RewardVariant): ScoreReferences {
-  if (kind !== "scenario") return scoreReferences(model, variant, model.gamma);
+/**
+ * The designer reward vector of the variant at the model's discount, computed once, and the score
+ * references on it: training hands the same vector to the learner and to the monitor's references.
+ */
+function cachedRewards(kind: LoadedEnv["kind"], model: FiniteModel, variant: RewardVariant): RunRewards {
+  const compute = (): RunRewards => {
+    const designer = designerReward(model, variant, model.gamma);
+    return { designer, refs: scoreReferencesFor(model, designer, model.gamma) };
+  };
+  if (kind !== "scenario") return compute();
   let byVariant = referenceCache.get(model);
   if (!byVariant) referenceCache.set(model, (byVariant = new Map()));
   const key = JSON.stringify(variant);
-  let refs = byVariant.get(key);
-  if (!refs) byVariant.set(key, (refs = scoreReferences(model, variant, model.gamma)));
-  return refs;
+  let hit = byVariant.get(key);
+  if (!hit) byVariant.set(key, (hit = compute()));
+  return hit;
 }
 
 /** Fill every default of a config and load its environment and reward. Throws InputError on bad input. */
@@ -135,6 +150,8 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
   const { config, model, variant, kind: loadedKind } = await resolveTrainConfig(input, { maxStates: opts.maxStates });
   const id = makeRunId(config);
   const writer = new RunWriter(opts.runsDir, id);
+  const log = logger().child({ runId: id, env: config.env, reward: config.reward, seed: config.seed });
+  log.info({ learner: config.learner, steps: config.steps, checkpoints: config.checkpoints, evaluation: config.evaluation }, "run started");
   const root = createRng(config.seed);
   const explore = root.fork("explore");
   const envRng = root.fork("env");
@@ -142,7 +159,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
   const every = checkpointEvery(config);
 
   const t0 = performance.now();
-  const refs = cachedReferences(loadedKind, model, variant);
+  const { designer: rd, refs } = cachedRewards(loadedKind, model, variant);
   let monitorMs = performance.now() - t0;
   /** Monitor time spent inside the training loop (checkpoints), subtracted from the training time. */
   let checkpointMs = 0;
@@ -185,6 +202,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     const { record, alerts } = monitor.observe(step, stats.episodes, scores, { bounds, mc });
     writer.appendCheckpoint(record);
     for (const a of alerts) writer.logAlert(a);
+    log.debug({ step, designerNorm: record.designerNorm, intentNorm: record.intentNorm, alerts: alerts.length }, "checkpoint");
     const dt = performance.now() - c0;
     monitorMs += dt;
     checkpointMs += dt;
@@ -192,7 +210,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
   };
 
   const learner = getLearner(config.learner);
-  const env = viewEnv(learnerView(model, refs.designerReward));
+  const env = viewEnv(learnerView(model, rd));
   const trainOpts = { steps: config.steps, rng: explore, envRng, checkpointEvery: every, onCheckpoint, signal: opts.signal };
   const tTrain = performance.now();
   let status: RunStatus = "complete";
@@ -248,6 +266,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     };
     writer.writeSummary(summary);
     writer.close();
+    log.info({ status, verdict: v.verdict, steps, alerts: monitor.alerts.length }, "run finished");
     return {
       runId: id,
       runDir: writer.dir,

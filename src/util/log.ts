@@ -1,6 +1,8 @@
 /**
  * pino loggers. Logs go to stderr (never stdout, which carries results); level from GAPWATCH_LOG
- * (default "warn"; `--verbose` sets "info"). Bind context with `logger.child({ runId, env, reward, seed })`.
+ * (default "warn", which nothing logs at today, so a plain command prints no log line; "info" shows
+ * run starts and ends and batch job events, "debug" every checkpoint). Bind context with
+ * `logger().child({ runId, env, reward, seed })`.
  */
 import pino from "pino";
 

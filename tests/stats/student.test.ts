@@ -1,6 +1,7 @@
 import { describe, expect, it } from "vitest";
 import fc from "fast-check";
-import { logGamma, studentCdf, studentQuantile, studentTwoSidedP } from "../../src/stats/student.js";
+import { logGamma } from "../../src/stats/gamma.js";
+import { studentCdf, studentQuantile, studentTwoSidedP } from "../../src/stats/student.js";
 import { normalCdf } from "../../src/stats/normal.js";
 
 describe("Student t distribution", () => {

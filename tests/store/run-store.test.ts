@@ -4,7 +4,8 @@ import { join } from "node:path";
 import { afterAll, describe, expect, it } from "vitest";
 import fc from "fast-check";
 import { appendJsonLine, writeFileAtomic } from "../../src/store/atomic.js";
-import { canonicalJson, readJsonLines, readRun, runId } from "../../src/store/run-store.js";
+import { readJsonLines, readRun, runId } from "../../src/store/run-store.js";
+import { canonicalJson } from "../../src/util/canonical-json.js";
 import { resolveTrainConfig, runTraining } from "../../src/train/run.js";
 
 const root = mkdtempSync(join(tmpdir(), "gapwatch-store-"));

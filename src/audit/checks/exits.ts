@@ -15,7 +15,8 @@
  *    reaches regretCritical, else a warning.
  */
 import type { AuditContext } from "../context.js";
-import { fmt, labelsOf, likelyStart, tracePolicy } from "../context.js";
+import { fmt, labelsOf } from "../context.js";
+import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding } from "../findings.js";
 import { evaluatePolicy } from "../../solve/evaluation.js";
 import { startValue } from "../../solve/policy.js";

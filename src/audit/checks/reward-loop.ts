@@ -18,7 +18,8 @@
 import { choiceLoop, modelChoiceGraph } from "../choice-graph.js";
 import { maxMeanCycle } from "../cycles.js";
 import type { AuditContext } from "../context.js";
-import { actionNames, fmt, labelsOf, likelyStart, tracePolicy } from "../context.js";
+import { actionNames, fmt, labelsOf } from "../context.js";
+import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding, LoopReport } from "../findings.js";
 
 export interface LoopEvidence extends LoopReport {

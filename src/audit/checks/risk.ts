@@ -19,7 +19,8 @@
  * fail_max = ok - (ok - safe) / maxRisk (from p* = (ok - safe) / (ok - fail) = maxRisk).
  */
 import type { AuditContext } from "../context.js";
-import { fmt, likelyStart, tracePolicy } from "../context.js";
+import { fmt } from "../context.js";
+import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding } from "../findings.js";
 import { failureProbability, riskAudit } from "../indifference.js";
 import type { FiniteModel } from "../../model/types.js";

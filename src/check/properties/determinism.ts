@@ -1,4 +1,4 @@
-import { canonicalKey } from "../../sim/define.js";
+import { canonicalJson } from "../../util/canonical-json.js";
 import { featureKey, play, stateKey, Violation } from "../drive.js";
 import type { CheckSubject } from "../subject.js";
 import { type PropertySpec, type S, trajArb, runFc } from "../harness.js";
@@ -8,7 +8,7 @@ import { type PropertySpec, type S, trajArb, runFc } from "../harness.js";
 // termination and observation.
 function record(sub: CheckSubject<S>, seed: number, actions: number[]): string[] {
   const t = play(sub, seed, actions);
-  const obs = (s: S) => (sub.def.observe ? canonicalKey(sub.def.observe(s)) : "");
+  const obs = (s: S) => (sub.def.observe ? canonicalJson(sub.def.observe(s)) : "");
   const out = [`start ${stateKey(sub.def, t.start)} ${obs(t.start)}`];
   for (const st of t.steps) out.push(`state ${stateKey(sub.def, st.state)} features ${featureKey(st.features)} intent ${st.intent} terminated ${st.terminated} ${obs(st.state)}`);
   return out;

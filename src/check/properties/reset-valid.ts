@@ -1,6 +1,6 @@
 import fc from "fast-check";
 import { createRng } from "../../rng/rng.js";
-import { canonicalKey } from "../../sim/define.js";
+import { canonicalJson } from "../../util/canonical-json.js";
 import { stateKey, Violation } from "../drive.js";
 import { type PropertySpec, runFc } from "../harness.js";
 
@@ -31,7 +31,7 @@ export const resetValid: PropertySpec = {
       }
       if (def.observe) {
         const o = def.observe(s);
-        if (!Array.isArray(o) || !o.every((x) => typeof x === "number" && Number.isFinite(x))) throw new Violation(`observe(${k}) = ${canonicalKey(o)}; expected an array of finite numbers`);
+        if (!Array.isArray(o) || !o.every((x) => typeof x === "number" && Number.isFinite(x))) throw new Violation(`observe(${k}) = ${canonicalJson(o)}; expected an array of finite numbers`);
         if (dim === undefined) dim = o.length;
         else if (o.length !== dim) throw new Violation(`observe(${k}) has ${o.length} entries, another start state had ${dim}`);
       }
