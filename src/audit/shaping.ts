@@ -244,7 +244,6 @@ function fitDiscounted(model: FiniteModel, F: Float64Array, gamma: number): Fit 
     let top = sp;
     if (!done[u]) {
       const c0 = pos[u];
-      const L = sp - c0;
       // Phi(c0) = -sum_i gamma^i F_i / (1 - gamma^L).
       let acc = 0;
       let g = 1;

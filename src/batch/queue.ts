@@ -30,7 +30,7 @@
  * retried, and the coordinator reports it like any failed run.
  */
 import { Job, Queue, QueueEvents, UnrecoverableError, Worker, type ConnectionOptions } from "bullmq";
-import { GapwatchError, InputError } from "../errors.js";
+import { InputError } from "../errors.js";
 import type { RunResult } from "../run/schema.js";
 import { logger } from "../util/log.js";
 import { failureOf, writeShippedRun } from "./execute.js";

@@ -289,7 +289,6 @@ export function compileGrid(config: GridConfig, mapText: string, source = "map")
   const slip = config.slip ?? 0;
   const actions: string[] = [...MOVE_ACTIONS];
   if (config.wait) actions.push("wait");
-  const nA = actions.length;
   const groups = config.groups ?? {};
   for (const st of map.starts) {
     if (st.char !== "@" && groups[st.char] === undefined) {

@@ -22,10 +22,9 @@ import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { sampleOutcome, samplingTables, sampleStart } from "../model/sampler.js";
 import type { Rng } from "../rng/rng.js";
 import { normalizeScore, solveOptima } from "../solve/compare.js";
-import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY } from "../solve/evaluation.js";
-import { startValue, uniformPolicy } from "../solve/policy.js";
+import { evaluatePolicy } from "../solve/evaluation.js";
+import { startValue } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
-import { valueIteration } from "../solve/value-iteration.js";
 import { normalQuantile } from "../stats/normal.js";
 
 /** Scores of one policy. `designer` / `intent` are expected discounted returns from the start distribution. */

@@ -2,8 +2,7 @@ import fc from "fast-check";
 import { createRng } from "../../rng/rng.js";
 import { chiSquareTest } from "../chisq.js";
 import { outcomeKey, play, stateKey, Violation } from "../drive.js";
-import type { CheckSubject } from "../subject.js";
-import { groups, modelIsDeterministic, type PropertySpec, type S, actionsArb, runFc, failedStatic, text } from "../harness.js";
+import { groups, modelIsDeterministic, type PropertySpec, actionsArb, runFc, failedStatic, text } from "../harness.js";
 
 /** Family-wise significance of the transition-frequency test (Bonferroni over the tested pairs). */
 export const FREQUENCY_ALPHA = 0.001;
@@ -20,7 +19,6 @@ export const FREQUENCY_SAMPLES = 2000;
 // test rejects at alpha / (runs + 1) (at most one pair per run, plus the start distribution via
 // starts() and reset(), tested once the same way).
 function frequencyTest(
-  sub: CheckSubject<S>,
   label: string,
   listed: Map<string, number>,
   draw: (i: number) => string,
@@ -61,7 +59,7 @@ export const transitionFrequencies: PropertySpec = {
         tested++;
         const rng = createRng(`frequencies/${ctx.seed}/reset`);
         try {
-          frequencyTest(sub, "reset()", listed, () => stateKey(def, def.reset(rng)), alpha);
+          frequencyTest("reset()", listed, () => stateKey(def, def.reset(rng)), alpha);
         } catch (e) {
           if (e instanceof Violation) return failedStatic(name, { seed: ctx.seed, reset: true }, e.message);
           throw e;
@@ -82,7 +80,7 @@ export const transitionFrequencies: PropertySpec = {
         const { st, g } = pairs[pick % pairs.length];
         tested++;
         const rng = createRng(`frequencies/${seed}/${pick}`);
-        frequencyTest(sub, `step(${text(sub, st.from)}, ${def.actions[st.action]})`, g, () => outcomeKey(def, def.step(st.from, st.action, rng)), alpha);
+        frequencyTest(`step(${text(sub, st.from)}, ${def.actions[st.action]})`, g, () => outcomeKey(def, def.step(st.from, st.action, rng)), alpha);
       },
       {
         skip: () => (tested === 0 ? `no stochastic step reached in ${ctx.runs} runs` : undefined),

@@ -35,7 +35,7 @@ import type { FiniteModel } from "../../model/types.js";
 import { actionValues, expectedReward, greedyActions } from "../sweeps.js";
 import { solveOrder, type SolveOrder } from "./order.js";
 import { discountedSweeps, fillOver, maxOver, undiscountedSweeps, type ComponentSweeps } from "./sweeps.js";
-import { componentError, componentTarget, emptyStats, resolveOptions, type EngineOptions, type EngineResult, type ResolvedOptions } from "./types.js";
+import { componentError, componentTarget, emptyStats, resolveOptions, type EngineOptions, type EngineResult } from "./types.js";
 
 /**
  * The reward-independent part of the engine for one model: the components of the all-actions graph
