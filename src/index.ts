@@ -1,6 +1,7 @@
 /**
  * gapwatch's public entry point. Everything a CLI command does is callable from here: the command
- * handlers are in src/app; this file never imports src/cli (only `runCli` loads it, on first call).
+ * handlers are in src/app; this file never imports src/cli. The command line itself, as a function
+ * (`runCli(argv, io)`), is the package's second entry point, `gapwatch/cli`.
  */
 export { defineEnv, type EnvDefinition, type StepResult, type Outcome, type EnvProperty } from "./sim/define.js";
 export type { FiniteModel, RewardVariant, Layout } from "./model/types.js";
@@ -35,11 +36,3 @@ export { learners, train, defaultLearner } from "../policies/index.js";
 export * as stats from "./stats/index.js";
 export * as detectors from "./monitor/detectors/index.js";
 
-/**
- * The whole CLI as a function (argv without the program name; returns the exit code). The CLI
- * module is loaded on the first call, so importing the library does not load commander.
- */
-export async function runCli(argv: string[], io?: import("./cli/io.js").CliIO): Promise<number> {
-  const cli = await import("./cli/program.js");
-  return cli.runCli(argv, io);
-}
