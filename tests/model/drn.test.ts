@@ -10,7 +10,7 @@ import { describe, expect, it } from "vitest";
 import { formatError, InputError } from "../../src/errors.js";
 import { ModelBuilder } from "../../src/model/builder.js";
 import { formatDrn, loadDrnFile, parseDrn } from "../../src/model/drn.js";
-import { builtinScenarioNames, loadScenario, resolveReward } from "../../src/model/registry.js";
+import { builtinScenarioNames, loadScenario, resolveReward } from "../../src/env/index.js";
 import { designerReward, expectedPerStateAction } from "../../src/model/reward.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { startValue } from "../../src/solve/policy.js";

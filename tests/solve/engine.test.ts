@@ -8,7 +8,7 @@ import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { lavaModel } from "../../src/bench/lava.js";
 import { ModelBuilder } from "../../src/model/builder.js";
-import { builtinScenarioNames, loadScenario, resolveReward } from "../../src/model/registry.js";
+import { builtinScenarioNames, loadScenario, resolveReward } from "../../src/env/index.js";
 import { designerReward } from "../../src/model/reward.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { deterministicPolicy, evaluatePolicy, uniformPolicy, valueIteration, type Policy } from "../../src/solve/index.js";
