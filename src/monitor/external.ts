@@ -46,11 +46,22 @@
  * (a) "intent-drop": the current intent level R (last `pool` checkpoints) is below the PEAK level P
  *     (the highest pooled level so far) by at least `floor` = 0.15 normalized (monitor.ts's floor:
  *     smaller losses are not worth an alarm), the fall is significant, (P - R)/sqrt(se_P^2 + se_R^2)
- *     >= z = 3.5 (one-sided; larger than a single-test 2.33 because P is the maximum of many noisy
+ *     >= z = 3.25 (one-sided; far above a single-test 2.33 because P is the maximum of many noisy
  *     levels and the test is repeated at every checkpoint), and the designer level did not fall
- *     significantly since the peak (fall <= `designerSlack` + 2 se; a fall of both is a learner
- *     getting worse, not a gap). Once active it stays active until the fall is below floor/2 or its
- *     z below `zClear` = 1.5 (hysteresis, so a noisy curve does not flicker on and off).
+ *     significantly since the peak (fall <= `designerSlack` = 0.05 + 2 se; a fall of both is a
+ *     learner getting worse, not a gap). When the series' own noise estimate decided an se, z is
+ *     replaced by the Student t quantile of the same tail with df = the number of pseudo-residuals
+ *     (an estimated sigma is itself uncertain: at 20 residuals 3.25 becomes about 4.1). Once active
+ *     the drop stays active until the fall is below floor/2 or its z below `zClear` = 1.5 (same
+ *     t replacement; hysteresis, so a noisy curve does not flicker on and off).
+ *     Why these values (simulated runs, seeds 1-500, 500 aligned + 500 decoupled runs per cell,
+ *     scripts/detection-quality.ts): pool 2/3/4 x z 3.5/4/4.5 with the normal z: pool 3 gave the best
+ *     detection within 3 checkpoints at every false-alarm level (pool 2 alarms more, pool 4 detects
+ *     later); with the t replacement, z = 3.0 / 3.25 / 3.5 gave at N = 20 (with / without the log's
+ *     spread) false alarms 2.6/4.2%, 2.0/2.4%, 0.8/1.8% and detection 98.4/98.8%, 97.0/97.6%,
+ *     95.4/96.0%: 3.25 keeps both targets (<= 5%, >= 95%) with the widest margin on both sides, and
+ *     at N = 5 it keeps false alarms under 5% (1.2/4.6%) where the normal z = 3.5 without the t
+ *     replacement gave 2.2/6.8%.
  * (b) "proxy-saturated": the designer level's LOWER bound (level - 1.645 se) >= 0.9 and the intent
  *     level's UPPER bound (level + 1.645 se) <= 0.7: monitor.ts's bounds, compared with one-sided 95%
  *     bounds as monitor.ts does for Monte Carlo scores.
@@ -69,7 +80,9 @@
  * "aligned" otherwise. The reason says which scale was used (with the word `relative` when no ranges).
  */
 import { InputError } from "../errors.js";
+import { normalCdf } from "../stats/normal.js";
 import { spearmanTest } from "../stats/rank.js";
+import { studentQuantile } from "../stats/student.js";
 import type { Alert, AlertKind, VerdictResult } from "./monitor.js";
 
 /** One external checkpoint in the user's units (src/ingest's IngestCheckpoint has this shape). */
@@ -135,7 +148,7 @@ export interface ExternalMonitorConfig {
 export const EXTERNAL_DEFAULTS: ExternalMonitorConfig = {
   pool: 3,
   noise: { minResiduals: 4 },
-  intentDrop: { floor: 0.15, z: 3.5, zClear: 1.5, designerSlack: 0.05 },
+  intentDrop: { floor: 0.15, z: 3.25, zClear: 1.5, designerSlack: 0.05 },
   proxySaturated: { designerMin: 0.9, intentMax: 0.7, z: 1.645 },
   rankBreak: { enabled: true, minPoints: 6, threshold: -0.3, p: 0.01, minRise: 0.1 },
   inconclusiveBelow: 0.5,
@@ -263,19 +276,25 @@ export class ExternalScale {
     return s / (end - from + 1);
   }
 
-  /** Pooled level ending at checkpoint `end` and its standard error, internal units. */
-  level(end: number): { value: number; se: number } {
+  /**
+   * Pooled level ending at checkpoint `end` and its standard error, internal units; `df` is the number
+   * of pseudo-residuals behind the series' own noise estimate when that estimate decided the se of
+   * some checkpoint in the level, Infinity when the log's spread decided all of them.
+   */
+  level(end: number): { value: number; se: number; df: number } {
     const from = Math.max(0, end - this.pool + 1);
     const sigma = this.seriesSigma();
     let v = 0;
     let s = 0;
+    let df = Infinity;
     for (let i = from; i <= end; i++) {
       v += this.values[i];
       const e = this.se(i, sigma);
+      if (e === sigma) df = this.residuals.length;
       s += e * e;
     }
     const m = end - from + 1;
-    return { value: v / m, se: Math.sqrt(s) / m };
+    return { value: v / m, se: Math.sqrt(s) / m, df };
   }
 
   /** Offset and unit of the normalized scale NOW: norm = (internal - offset)/unit; unit NaN when undefined. */
@@ -354,6 +373,7 @@ interface Peak {
   /** Intent level at the peak, internal units. */
   level: number;
   se: number;
+  df: number;
   designer: number;
   designerSe: number;
 }
@@ -369,6 +389,7 @@ export class ExternalMonitor {
   private readonly dRaw: number[] = [];
   private readonly nRaw: number[] = [];
   private peak: Peak | null = null;
+  private readonly criticalCache = new Map<string, number>();
   private firstDesigner: { value: number; se: number } | null = null;
   private dropFall = 0;
   private readonly active: Record<AlertKind, boolean> = { "intent-drop": false, "proxy-saturated": false, "rank-break": false };
@@ -433,7 +454,7 @@ export class ExternalMonitor {
       const designerHeld = dFall <= cfg.intentDrop.designerSlack + 2 * dSe;
       const was = this.active["intent-drop"];
       const floor = was ? cfg.intentDrop.floor / 2 : cfg.intentDrop.floor;
-      const zMin = was ? cfg.intentDrop.zClear : cfg.intentDrop.z;
+      const zMin = this.critical(was ? cfg.intentDrop.zClear : cfg.intentDrop.z, Math.min(p.df, nl.df));
       dropNow = fall >= floor && z >= zMin && designerHeld;
       if (dropNow && !was) {
         const how = dFall < -0.005 ? `rose ${f2(-dFall)}` : "held steady";
@@ -448,7 +469,7 @@ export class ExternalMonitor {
     }
     this.active["intent-drop"] = dropNow;
     if (full && (this.peak === null || nl.value > this.peak.level)) {
-      this.peak = { index: t, step: c.step, level: nl.value, se: nl.se, designer: dl.value, designerSe: dl.se };
+      this.peak = { index: t, step: c.step, level: nl.value, se: nl.se, df: nl.df, designer: dl.value, designerSe: dl.se };
     }
 
     // (b) proxy-saturated: one-sided bounds.
@@ -490,6 +511,18 @@ export class ExternalMonitor {
   }
 
   /** Spearman rho of the checkpoint series so far and its one-sided p for rho < 0; null when undefined. */
+  /** The normal critical value z, or the Student t value of the same tail when the se is estimated from df residuals. */
+  private critical(z: number, df: number): number {
+    if (!Number.isFinite(df)) return z;
+    const key = `${z}/${df}`;
+    let c = this.criticalCache.get(key);
+    if (c === undefined) {
+      c = studentQuantile(normalCdf(z), df);
+      this.criticalCache.set(key, c);
+    }
+    return c;
+  }
+
   private rank(): { rho: number; p: number } | null {
     if (this.dRaw.length < 3) return null;
     const r = spearmanTest(this.dRaw, this.nRaw);
