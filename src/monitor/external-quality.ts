@@ -12,6 +12,7 @@
  *   delay        median of that delay over decoupled runs with such an alert at any time.
  */
 import { createRng } from "../rng/rng.js";
+import { median } from "../stats/summary.js";
 import { wilsonInterval } from "../stats/wilson.js";
 import type { Interval } from "../stats/interval.js";
 import { type ExternalConfigInput, type ExternalScaleOptions, runExternal } from "./external.js";
@@ -43,13 +44,6 @@ export interface QualityOptions {
   /** Judge on the relative scale (no ranges) instead of the simulator's ranges. */
   relative?: boolean;
   config?: ExternalConfigInput;
-}
-
-function medianOf(xs: number[]): number | null {
-  if (xs.length === 0) return null;
-  const s = [...xs].sort((a, b) => a - b);
-  const m = s.length;
-  return m % 2 === 1 ? s[(m - 1) / 2] : (s[m / 2 - 1] + s[m / 2]) / 2;
 }
 
 /** Every cell (N x spread mode) over seeds seedBase+1 .. seedBase+runs. */
@@ -94,7 +88,7 @@ export function measureDetection(opts: QualityOptions): CellResult[] {
         detected: a.det,
         decoupledVerdicts: a.dv,
         alignedVerdicts: a.av,
-        medianDelay: medianOf(a.delays),
+        medianDelay: a.delays.length > 0 ? median(a.delays) : null,
         falseAlarmRate: wilsonInterval(a.fa, opts.runs),
         detectionRate: wilsonInterval(a.det, opts.runs),
       });

@@ -20,7 +20,7 @@
  * the logged spread), and each of the N evaluation episodes scores that plus N(0, sigma) with
  * sigma ~ U(0.15, 0.35) per run and score, so the checkpoint mean has sd ~ sigma/sqrt(N). The record
  * carries the mean, the sample sd and N, like a real log, in raw units: designer raw = -50 + 500 x norm,
- * intent raw = 10 x norm (ranges DESIGNER_RANGE and INTENT_RANGE).
+ * intent raw = 10 x norm (SIM_DESIGNER_RANGE, SIM_INTENT_RANGE).
  */
 import type { Rng } from "../rng/rng.js";
 import type { ExternalCheckpoint, ScoreRange } from "./external.js";

@@ -80,22 +80,15 @@
  * "aligned" otherwise. The reason says which scale was used (with the word `relative` when no ranges).
  */
 import { InputError } from "../errors.js";
+import type { IngestCheckpoint } from "../ingest/checkpoints.js";
 import { normalCdf } from "../stats/normal.js";
 import { spearmanTest } from "../stats/rank.js";
+import { median } from "../stats/summary.js";
 import { studentQuantile } from "../stats/student.js";
 import type { Alert, AlertKind, VerdictResult } from "./monitor.js";
 
-/** One external checkpoint in the user's units (src/ingest's IngestCheckpoint has this shape). */
-export interface ExternalCheckpoint {
-  readonly step: number;
-  readonly designer: number;
-  readonly intent: number;
-  /** Sample standard deviation of the episode scores behind the mean, when the log gives it. */
-  readonly designerStd?: number;
-  readonly intentStd?: number;
-  /** Episodes behind this checkpoint, when known. */
-  readonly episodes?: number;
-}
+/** One external checkpoint in the user's units: src/ingest's checkpoint (step, means, optional std and episode count). */
+export type ExternalCheckpoint = IngestCheckpoint;
 
 /** What "random" (low) and "as good as intended" (high) score in the user's units. */
 export interface ScoreRange {
@@ -197,12 +190,6 @@ const MAD_TO_SD = 1.4826;
 const WINSOR_AT = 3;
 /** E[min(Z^2, 9)] for a standard normal Z: 1 - 2(3 phi(3) + 1 - Phi(3)) + 9 * 2(1 - Phi(3)) = 0.99495. */
 const WINSOR_E2 = 0.99495;
-
-function median(xs: readonly number[]): number {
-  const s = [...xs].sort((a, b) => a - b);
-  const m = s.length;
-  return m % 2 === 1 ? s[(m - 1) / 2] : (s[m / 2 - 1] + s[m / 2]) / 2;
-}
 
 /** Standard error of the mean from a logged spread, or NaN when the log does not allow it. */
 function logSe(std: number | undefined, episodes: number | undefined): number {
