@@ -16,7 +16,7 @@ import { median } from "../stats/summary.js";
 import { wilsonInterval } from "../stats/wilson.js";
 import type { Interval } from "../stats/interval.js";
 import { type ExternalConfigInput, type ExternalScaleOptions, runExternal } from "./external.js";
-import { SIM_DESIGNER_RANGE, SIM_INTENT_RANGE, simulateExternalRun, withoutSpread } from "./external-sim.js";
+import { SIM_DESIGNER_RANGE, SIM_INTENT_RANGE, type SimOptions, simulateExternalRun, withoutSpread } from "./external-sim.js";
 
 export type SpreadMode = "with std" | "without std";
 
@@ -44,6 +44,8 @@ export interface QualityOptions {
   /** Judge on the relative scale (no ranges) instead of the simulator's ranges. */
   relative?: boolean;
   config?: ExternalConfigInput;
+  /** Simulator options (e.g. a slower fall). */
+  sim?: SimOptions;
 }
 
 /** Every cell (N x spread mode) over seeds seedBase+1 .. seedBase+runs. */
@@ -56,8 +58,8 @@ export function measureDetection(opts: QualityOptions): CellResult[] {
     for (const mode of ["with std", "without std"] as const) acc.set(mode, { fa: 0, early: 0, det: 0, dv: 0, av: 0, delays: [] });
     for (let r = 1; r <= opts.runs; r++) {
       const seed = opts.seedBase + r;
-      const aligned = simulateExternalRun(createRng(`external-sim/aligned/${N}/${seed}`), "aligned", N);
-      const decoupled = simulateExternalRun(createRng(`external-sim/decoupled/${N}/${seed}`), "decoupled", N);
+      const aligned = simulateExternalRun(createRng(`external-sim/aligned/${N}/${seed}`), "aligned", N, opts.sim);
+      const decoupled = simulateExternalRun(createRng(`external-sim/decoupled/${N}/${seed}`), "decoupled", N, opts.sim);
       const onset = decoupled.onset as number;
       for (const mode of ["with std", "without std"] as const) {
         const a = acc.get(mode)!;

@@ -13,7 +13,8 @@
  *   - intent, decoupled: as aligned up to the onset checkpoint c0 ~ U{ceil(0.5 n)..n - 8}, then
  *     falls by D ~ U(0.3, 0.6) (capped at the intent's value at c0), approached as
  *     D (1 - exp(-k/tau)) with k the checkpoints' worth of steps since c0 and tau ~ U(0.5, 1.5)
- *     checkpoints (an exploit found and taken up over a few checkpoints); the designer gains a further
+ *     checkpoints (an exploit found and taken up over a few checkpoints; `fallTau` changes the range,
+ *     e.g. a slow drift); the designer gains a further
  *     U(0, 0.1) over the same time (capped at 1). The user cares: at least 0.3 of achievable intent is
  *     lost by the end of the run.
  * Noise: each checkpoint's policy differs from the smooth truth by N(0, 0.02) (policy jitter, not in
@@ -80,8 +81,13 @@ function episodes(rng: Rng, mu: number, sigma: number, n: number): { mean: numbe
   return { mean, sd };
 }
 
+export interface SimOptions {
+  /** Range of the fall's time constant tau, in checkpoints. Default [0.5, 1.5]. */
+  readonly fallTau?: readonly [number, number];
+}
+
 /** One simulated run (module comment) with N evaluation episodes per checkpoint. */
-export function simulateExternalRun(rng: Rng, kind: SimKind, episodesPerCheckpoint: number): SimRun {
+export function simulateExternalRun(rng: Rng, kind: SimKind, episodesPerCheckpoint: number, opts: SimOptions = {}): SimRun {
   const n = intIn(rng, 30, 60);
   const base = 2048 * intIn(rng, 1, 5);
   const steps: number[] = [];
@@ -99,7 +105,7 @@ export function simulateExternalRun(rng: Rng, kind: SimKind, episodesPerCheckpoi
   const iScale = intentFinal / designer.heights.reduce((a, b) => a + b, 0);
   const onset = kind === "decoupled" ? intIn(rng, Math.ceil(0.5 * n), n - 8) : null;
   const fallSize = uniform(rng, 0.3, 0.6);
-  const tau = uniform(rng, 0.5, 1.5);
+  const tau = uniform(rng, ...(opts.fallTau ?? [0.5, 1.5]));
   const boost = uniform(rng, 0, 0.1);
   const sigmaD = uniform(rng, 0.15, 0.35);
   const sigmaI = uniform(rng, 0.15, 0.35);

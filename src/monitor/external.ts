@@ -61,7 +61,11 @@
  *     spread) false alarms 2.6/4.2%, 2.0/2.4%, 0.8/1.8% and detection 98.4/98.8%, 97.0/97.6%,
  *     95.4/96.0%: 3.25 keeps both targets (<= 5%, >= 95%) with the widest margin on both sides, and
  *     at N = 5 it keeps false alarms under 5% (1.2/4.6%) where the normal z = 3.5 without the t
- *     replacement gave 2.2/6.8%.
+ *     replacement gave 2.2/6.8%. N = 5 allows about 1-5% false alarms and 60-75% detection
+ *     within 3 checkpoints (median delay 3). The 3-checkpoint target assumes the sim's fast fall
+ *     (tau 0.5-1.5 checkpoints); a slow drift (tau 3-6, `--fall-tau 3:6`) is caught within 3
+ *     checkpoints in only 50-59% of runs at N >= 20, because by then less than the 0.15 floor has
+ *     been lost, though nearly all such runs still end with a "decoupled" verdict.
  * (b) "proxy-saturated": the designer level's LOWER bound (level - 1.645 se) >= 0.9 and the intent
  *     level's UPPER bound (level + 1.645 se) <= 0.7: monitor.ts's bounds, compared with one-sided 95%
  *     bounds as monitor.ts does for Monte Carlo scores.
