@@ -89,7 +89,8 @@ import { normalCdf } from "../stats/normal.js";
 import { spearmanTest } from "../stats/rank.js";
 import { median } from "../stats/summary.js";
 import { studentQuantile } from "../stats/student.js";
-import type { Alert, AlertKind, VerdictResult } from "./monitor.js";
+import type { Alert, AlertKind } from "../run/schema.js";
+import type { VerdictResult } from "./monitor.js";
 
 /** One external checkpoint in the user's units: src/ingest's checkpoint (step, means, optional std and episode count). */
 export type ExternalCheckpoint = IngestCheckpoint;
