@@ -35,6 +35,7 @@ import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import { choiceLoop, modelChoiceGraph } from "./choice-graph.js";
 import { maxMeanCycle, minMeanCycle } from "./cycles.js";
+import { walkBuffers, walkFunctionalGraph } from "./mean-cycle/functional-walk.js";
 
 /** One constraint F(s, a, s') = gamma Phi(s') - Phi(s), i.e. one outcome of a non-terminal state. */
 export interface ShapingConstraint {
@@ -227,24 +228,15 @@ function fitDiscounted(model: FiniteModel, F: Float64Array, gamma: number): Fit 
   const det = determining(model);
   const phi = new Float64Array(nS);
   const done = new Uint8Array(nS);
-  const stamp = new Int32Array(nS).fill(-1);
-  const pos = new Int32Array(nS);
-  const stack = new Int32Array(nS);
   for (let s = 0; s < nS; s++) if (terminal[s] || det[s] < 0) done[s] = 1;
-  for (let root = 0; root < nS; root++) {
-    if (done[root]) continue;
-    let sp = 0;
-    let u = root;
-    while (!done[u] && stamp[u] !== root) {
-      stamp[u] = root;
-      pos[u] = sp;
-      stack[sp++] = u;
-      u = next[det[u]];
-    }
-    let top = sp;
-    if (!done[u]) {
-      const c0 = pos[u];
-      // Phi(c0) = -sum_i gamma^i F_i / (1 - gamma^L).
+  walkFunctionalGraph(
+    nS,
+    (u) => next[det[u]],
+    done,
+    walkBuffers(nS),
+    (stack, c0, sp) => {
+      // Phi(c0) = -sum_i gamma^i F_i / (1 - gamma^L), L = sp - c0 the cycle's length.
+      const u = stack[c0];
       let acc = 0;
       let g = 1;
       for (let i = c0; i < sp; i++) {
@@ -258,14 +250,11 @@ function fitDiscounted(model: FiniteModel, F: Float64Array, gamma: number): Fit 
         phi[w] = gamma * phi[next[det[w]]] - F[det[w]];
         done[w] = 1;
       }
-      top = c0;
-    }
-    for (let i = top - 1; i >= 0; i--) {
-      const w = stack[i];
+    },
+    (w) => {
       phi[w] = gamma * phi[next[det[w]]] - F[det[w]];
-      done[w] = 1;
-    }
-  }
+    },
+  );
   return { phi, freeComponents: 0, det };
 }
 

@@ -1,5 +1,6 @@
 /** Howard's policy iteration for the minimum cycle mean of one component (see ../cycles.ts for the method). */
 import { maxAbs, type LocalCycle, type Sub } from "./graph.js";
+import { walkBuffers, walkFunctionalGraph } from "./functional-walk.js";
 
 /** Howard's policy iteration for the minimum cycle mean of one strongly connected component. */
 export function howardComponent(sub: Sub, maxIters: number): LocalCycle | null {
@@ -14,29 +15,19 @@ export function howardComponent(sub: Sub, maxIters: number): LocalCycle | null {
   }
   const eta = new Float64Array(m);
   const x = new Float64Array(m);
-  const stamp = new Int32Array(m);
   const done = new Uint8Array(m);
-  const pos = new Int32Array(m);
-  const stack = new Int32Array(m);
+  const buf = walkBuffers(m);
   let iters = 0;
   for (;;) {
     // Evaluate the policy graph: every vertex reaches exactly one cycle.
-    stamp.fill(-1);
     done.fill(0);
-    for (let root = 0; root < m; root++) {
-      if (done[root]) continue;
-      let sp = 0;
-      let u = root;
-      while (!done[u] && stamp[u] !== root) {
-        stamp[u] = root;
-        pos[u] = sp;
-        stack[sp++] = u;
-        u = to[pol[u]];
-      }
-      let top = sp;
-      if (!done[u]) {
-        // New cycle stack[pos[u]] .. stack[sp - 1].
-        const c0 = pos[u];
+    walkFunctionalGraph(
+      m,
+      (u) => to[pol[u]],
+      done,
+      buf,
+      (stack, c0, sp) => {
+        // A new cycle stack[c0] .. stack[sp - 1].
         let sum = 0;
         for (let i = c0; i < sp; i++) sum += weight[pol[stack[i]]];
         const L = sp - c0;
@@ -55,16 +46,13 @@ export function howardComponent(sub: Sub, maxIters: number): LocalCycle | null {
           x[w] = weight[pol[w]] - mu + x[to[pol[w]]];
           done[w] = 1;
         }
-        top = c0;
-      }
-      for (let i = top - 1; i >= 0; i--) {
-        const w = stack[i];
+      },
+      (w) => {
         const t = to[pol[w]];
         eta[w] = eta[t];
         x[w] = weight[pol[w]] - eta[t] + x[t];
-        done[w] = 1;
-      }
-    }
+      },
+    );
     if (iters++ >= maxIters) break;
     // Improve: first towards smaller cycle means, then towards smaller potentials.
     let changed = false;
