@@ -8,7 +8,7 @@
  *   only .json data files travel, and a module is loaded only from a folder given with --allow-modules.
  */
 import { spawn, type ChildProcess } from "node:child_process";
-import { existsSync, mkdirSync, readdirSync, readFileSync, rmSync, symlinkSync, writeFileSync } from "node:fs";
+import { existsSync, mkdirSync, readdirSync, readFileSync, symlinkSync, writeFileSync } from "node:fs";
 import { join, resolve } from "node:path";
 import { pathToFileURL } from "node:url";
 import { Queue, QueueEvents, Worker } from "bullmq";
@@ -20,21 +20,13 @@ import { parseQueueUrl } from "../../src/batch/queue.js";
 import type { BatchJob } from "../../src/batch/types.js";
 import { openIndex } from "../../src/store/index-db.js";
 import { startRedis, type RedisHandle } from "../setup/redis.js";
-import { tempDir } from "./helpers.js";
+import { tempDirsRemovedAfterAll } from "../helpers/temp-dirs.js";
 
 const ROOT = resolve(__dirname, "../..");
 const MAIN = resolve(ROOT, "src/cli/main.ts");
 const TSX = pathToFileURL(resolve(ROOT, "node_modules/tsx/dist/loader.mjs")).href;
 
-const dirs: string[] = [];
-const fresh = (label: string) => {
-  const d = tempDir(label);
-  dirs.push(d);
-  return d;
-};
-afterAll(() => {
-  for (const d of dirs) rmSync(d, { recursive: true, force: true });
-});
+const fresh = tempDirsRemovedAfterAll();
 
 const jobOf = (over: Partial<BatchJob["input"]> = {}, files?: Record<string, string>): BatchJob => ({
   jobId: "run-test",

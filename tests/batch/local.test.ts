@@ -1,22 +1,14 @@
 import { readFileSync } from "node:fs";
 import { join } from "node:path";
-import { afterAll, describe, expect, it } from "vitest";
-import { rmSync } from "node:fs";
+import { describe, expect, it } from "vitest";
 import { runCompare, runLocalBatch } from "../../src/batch/compare.js";
 import { planSweep } from "../../src/batch/plan.js";
 import type { RunOutcome } from "../../src/batch/types.js";
 import { openIndex } from "../../src/store/index-db.js";
-import { runFingerprints, tempDir } from "./helpers.js";
+import { runFingerprints } from "./helpers.js";
+import { tempDirsRemovedAfterAll } from "../helpers/temp-dirs.js";
 
-const dirs: string[] = [];
-const fresh = (label: string) => {
-  const d = tempDir(label);
-  dirs.push(d);
-  return d;
-};
-afterAll(() => {
-  for (const d of dirs) rmSync(d, { recursive: true, force: true });
-});
+const fresh = tempDirsRemovedAfterAll();
 
 // Small sweep: two greenhouse-rounds variants (one games, one is sound: envs/greenhouse-rounds/scenario.json), 3 seeds.
 const SWEEP = { env: "greenhouse-rounds", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1, 2, 3], steps: 4000, bootstrapSeed: 5, reps: 300 };

@@ -9,7 +9,6 @@
  * - a misspelt variant or an absurd seed count is refused before any run starts.
  */
 import { spawn, type ChildProcess } from "node:child_process";
-import { rmSync } from "node:fs";
 import { resolve } from "node:path";
 import { pathToFileURL } from "node:url";
 import { Queue } from "bullmq";
@@ -19,24 +18,18 @@ import { parseQueueUrl, startQueueWorker } from "../../src/batch/queue.js";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
 import { freePort, startRedis, type RedisHandle } from "../setup/redis.js";
-import { tempDir } from "./helpers.js";
+import { tempDirsRemovedAfterAll } from "../helpers/temp-dirs.js";
 
 const ROOT = resolve(__dirname, "../..");
 const MAIN = resolve(ROOT, "src/cli/main.ts");
 const TSX = pathToFileURL(resolve(ROOT, "node_modules/tsx/dist/loader.mjs")).href;
 
-const dirs: string[] = [];
+const fresh = tempDirsRemovedAfterAll();
 const children: ChildProcess[] = [];
 const servers: RedisHandle[] = [];
-const fresh = (label: string) => {
-  const d = tempDir(label);
-  dirs.push(d);
-  return d;
-};
 afterAll(async () => {
   for (const c of children) if (c.exitCode === null && c.signalCode === null) c.kill("SIGKILL");
   for (const s of servers) await s.stop();
-  for (const d of dirs) rmSync(d, { recursive: true, force: true });
 });
 
 async function cli(...argv: string[]) {
