@@ -13,16 +13,17 @@ import { loadModelFile, parseRewardFile } from "./format.js";
 import { loadModuleEnv } from "../sim/load.js";
 import { compileGridScenario } from "./grid.js";
 import { compileTrackScenario } from "./track.js";
+import { compileBudgetScenario } from "./budget.js";
 import { defaultVariantName } from "./reward.js";
 import type { FiniteModel, RewardVariant } from "./types.js";
 
 /** The kinds of specification gap a built-in scenario demonstrates. */
-export type TrapKind = "repeatable-event" | "omitted-feature" | "gate-exploit" | "mis-scaled-risk";
+export type TrapKind = "repeatable-event" | "omitted-feature" | "speed-proxy" | "mis-scaled-risk" | "shared-budget";
 
 /** scenario.json, common part. Family-specific keys are read by the family compiler. */
 export interface ScenarioMeta {
   name: string;
-  family: "grid" | "track";
+  family: "grid" | "track" | "budget";
   title: string;
   /** One paragraph: the story and the trap it contains. */
   description: string;
@@ -89,9 +90,11 @@ export function loadScenario(name: string): FiniteEnv {
       ? compileGridScenario(dir, meta)
       : meta.family === "track"
         ? compileTrackScenario(dir, meta)
-        : (() => {
-            throw new InputError("env.family", `unknown family "${String(meta.family)}", expected grid or track`, join(dir, "scenario.json"));
-          })();
+        : meta.family === "budget"
+          ? compileBudgetScenario(dir, meta)
+          : (() => {
+              throw new InputError("env.family", `unknown family "${String(meta.family)}", expected grid, track or budget`, join(dir, "scenario.json"));
+            })();
   const model: FiniteModel = { ...compiled, variants: { ...(compiled.variants ?? {}), ...variants }, description: meta.description, source: name };
   return { model, kind: "scenario", scenario: meta, spec: name };
 }
