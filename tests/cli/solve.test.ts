@@ -50,7 +50,7 @@ describe("gapwatch solve", () => {
   }
 
   it("draws the route on the map in human output", async () => {
-    const r = await cli("solve", "--env", "greenhouse-rounds");
+    const r = await cli("solve", "--env", "fresh-coat-tug");
     expect(r.code).toBe(0);
     expect(r.out).toMatch(/designer-optimal route:/);
     expect(r.out).toMatch(/[↑→↓←]/);
@@ -88,12 +88,12 @@ describe("bad input", () => {
     expect(r.err).toMatch(/unknown environment "nowhere"/);
   });
   it("an unknown reward variant names the known ones", async () => {
-    const r = await cli("solve", "--env", "ridge-survey", "--reward", "nope");
+    const r = await cli("solve", "--env", "quench-hall-run", "--reward", "nope");
     expect(r.code).toBe(2);
     expect(r.err).toMatch(/known: /);
   });
   it("an unknown option gets a hint and exit 2", async () => {
-    const r = await cli("solve", "--env", "ridge-survey", "--rewrd", "x");
+    const r = await cli("solve", "--env", "quench-hall-run", "--rewrd", "x");
     expect(r.code).toBe(2);
     expect(r.err).toMatch(/--reward/);
   });
