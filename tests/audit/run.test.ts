@@ -23,9 +23,10 @@ import { solveVariant } from "../../src/solve/compare.js";
 /** Which check names each declared trap kind (our mapping; see README "Static audit and pressure"). */
 const TRAP_CHECK: Record<TrapKind, string> = {
   "repeatable-event": "reward-loop",
-  "gate-exploit": "reward-loop",
+  "speed-proxy": "reward-loop",
   "omitted-feature": "regret",
   "mis-scaled-risk": "risk-indifference",
+  "shared-budget": "regret",
 };
 
 describe("built-in scenarios", () => {
@@ -59,19 +60,23 @@ describe("evidence on the scenarios, hand-computed", () => {
     expect(r.loops[0].states).toHaveLength(2);
   });
 
-  it("assay-carousel/belt-travel: rocking over a sensor gives 2 pulses per 4 steps; the energy variant pays 4 actuations of 0.05 less", () => {
-    // Hand computation from the scenario text: forward, stop, back, stop = 2 crossings in 4 steps,
-    // every step actuates (accelerate, brake, brake, accelerate), each succeeds with 1 - slip = 0.95.
+  it("assay-carousel/belt-travel: the flat-out loop moves 2 positions per step and reads nothing; the energy charge never applies on it", () => {
+    // Hand computation from the scenario: at top speed 2 on a ring of 24 the loop visits 24 / 2 = 12
+    // states, pays 2 (distance) per step and passes every probe at speed 2 > serveSpeed 1 (no reading).
+    // Coasting never actuates, so slip (which only turns accelerate/brake into coast) cannot break the
+    // loop (lap probability 1) and the energy variant's actuation charge is never paid on it.
     const m = loadScenario("assay-carousel").model;
     const a = runAuditDetailed(m, m.variants!["belt-travel"], { sensitivity: false });
-    expect(a.loops[0].meanDesignerPerStep).toBeCloseTo(0.5, 12);
-    expect(a.loopEvidence[0].lapProbability).toBeCloseTo(0.95 ** 4, 12);
+    expect(a.loops[0].meanDesignerPerStep).toBeCloseTo(2, 12);
+    expect(a.loops[0].meanIntentPerStep).toBe(0);
+    expect(a.loops[0].states).toHaveLength(12);
+    expect(a.loopEvidence[0].lapProbability).toBeCloseTo(1, 12);
     const e = runAudit(m, m.variants!["belt-travel-energy"], { sensitivity: false });
-    expect(e.loops[0].meanDesignerPerStep).toBeCloseTo((2 - 4 * 0.05) / 4, 12);
+    expect(e.loops[0].meanDesignerPerStep).toBeCloseTo(2, 12);
     expect(e.loops[0].meanIntentPerStep).toBe(0);
   });
 
-  it("fresh-coat-tug/fast: the regret finding names the omitted fragile feature and the day shift is served worse", () => {
+  it("fresh-coat-tug/fast: the regret finding names the omitted fragile feature and the north store is served worse", () => {
     const m = loadScenario("fresh-coat-tug").model;
     const r = runAudit(m, m.variants!.fast);
     const regret = r.findings.find((f) => f.check === "regret")!;

@@ -16,7 +16,7 @@ const GRIDS = ["seed-vault-courier", "fresh-coat-tug", "quench-hall-run"];
 
 function betasFor(name: string, variant: string): number[] | undefined {
   if (name !== "assay-carousel") return undefined;
-  // The 640-state track: every third default strength keeps the test fast.
+  // The 480-state track: every third default strength keeps the test fast.
   const m = loadScenario(name).model;
   return defaultBetas(m, designerReward(m, m.variants![variant]), m.gamma).filter((_, i) => i % 3 === 0 || i === 24);
 }
