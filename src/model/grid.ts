@@ -6,7 +6,7 @@
  *   .   floor
  *   #   wall: moving into it (or off the map) leaves the agent in place, a "bump"
  *   @   start cell without a group label
- *   1-9 start cell whose group label is declared in scenario.json `groups`, e.g. {"1": "day-shift"}
+ *   1-9 start cell whose group label is declared in scenario.json `groups`, e.g. {"1": "north-store"}
  *   *   goal: terminal; entering it fires `goal`, and `deliver` = number of items carried
  *   !   hazard: terminal and catastrophic; entering it fires `hazard`
  *   +   item: the first entry picks it up (`pickup`) and sets its bit in the state; later entries are floor
@@ -166,7 +166,7 @@ export interface GridConfig {
   slip?: number;
   /** Add a fifth action, "wait". */
   wait?: boolean;
-  /** Group label per start digit, e.g. {"1": "day-shift"}. */
+  /** Group label per start digit, e.g. {"1": "north-store"}. */
   groups?: Record<string, string>;
   description?: string;
 }
