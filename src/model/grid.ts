@@ -365,17 +365,12 @@ export function compileGrid(config: GridConfig, mapText: string, source = "map")
       ev[E.deliver] += popcount(f & itemMask);
     } else if (k === "hazard") {
       ev[E.hazard] += 1;
-    } else if (k === "item") {
+    } else if (k === "item" || k === "tag") {
+      // An item fires pickup on the first entry only; a tag fires tag on every entry, tagFirst on the first.
+      if (k === "tag") ev[E.tag] += 1;
       const bit = 1 << bitOf[t];
       if (!(f & bit)) {
-        ev[E.pickup] += 1;
-        f |= bit;
-      }
-    } else if (k === "tag") {
-      ev[E.tag] += 1;
-      const bit = 1 << bitOf[t];
-      if (!(f & bit)) {
-        ev[E.tagFirst] += 1;
+        ev[k === "item" ? E.pickup : E.tagFirst] += 1;
         f |= bit;
       }
     } else if (k === "fragile") {

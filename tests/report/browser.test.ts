@@ -67,7 +67,7 @@ describe.skipIf(!HAVE_CHROMIUM)("report in headless Chromium", () => {
     expect(verdictText.toLowerCase()).toContain(stored.verdict);
     expect(verdictText).toContain(stored.reason);
     for (const a of stored.alerts) expect(await page.locator("ol.alerts").innerText()).toContain(a.message);
-    // Drawings of the learned route and of the audit's evidence on the greenhouse map.
+    // Drawings of the learned route and of the audit's evidence on the fresh-coat-tug map.
     expect(await page.locator('[data-drawing="learned-route"] svg rect').count()).toBe(model.layout!.kind === "grid" ? model.layout!.rows * model.layout!.cols : 0);
     expect(await page.locator('[data-drawing="audit-evidence"]').count()).toBe(1);
     expect(await page.locator("[data-finding]").count()).toBeGreaterThan(0);
