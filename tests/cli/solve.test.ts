@@ -10,18 +10,18 @@ async function cli(...argv: string[]) {
 }
 
 describe("gapwatch envs", () => {
-  it("lists the four built-in scenarios as one JSON document", async () => {
+  it("lists the five built-in scenarios as one JSON document", async () => {
     const r = await cli("envs", "--json");
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
     expect(doc.envs.map((e: { name: string }) => e.name).sort()).toEqual(builtinScenarioNames());
-    expect(doc.envs.length).toBeGreaterThanOrEqual(4);
+    expect(doc.envs.length).toBeGreaterThanOrEqual(5);
     for (const e of doc.envs) {
       expect(Object.keys(e).sort()).toEqual(["actions", "description", "family", "features", "name", "rewards", "states"]);
       expect(e.states).toBeGreaterThan(0);
     }
     const families = new Set(doc.envs.map((e: { family: string }) => e.family));
-    expect(families).toEqual(new Set(["grid", "track"]));
+    expect(families).toEqual(new Set(["grid", "track", "budget"]));
   });
 });
 
