@@ -16,17 +16,17 @@ const walk = (v) => Array.isArray(v) ? v.map(walk) : v && typeof v === "object" 
 let s = ""; process.stdin.on("data", (d) => (s += d)).on("end", () => process.stdout.write(JSON.stringify(walk(JSON.parse(s)), null, 1) + "\n"));'; }
 run() { local name=$1; shift; ( $CLI "$@" || true ) 2>/dev/null | scrub > "$OUT/$name.json"; }
 run envs envs --json
-for pair in seed-vault-courier:per-scan seed-vault-courier:default greenhouse-rounds:fast greenhouse-rounds:shaped ridge-survey:light-fall ridge-survey:default archive-shuttle:axle-count archive-shuttle:default; do
+for pair in seed-vault-courier:per-scan seed-vault-courier:default fresh-coat-tug:fast fresh-coat-tug:shaped quench-hall-run:light-loss quench-hall-run:default assay-carousel:belt-travel assay-carousel:default; do
   env=${pair%%:*}; rew=${pair##*:}
   run "solve-$env-$rew" solve --env "$env" --reward "$rew" --json
   run "audit-$env-$rew" audit --env "$env" --reward "$rew" --json
   run "pressure-$env-$rew" pressure --env "$env" --reward "$rew" --json
   run "train-$env-$rew" train --env "$env" --reward "$rew" --runs-dir "$RUNS" --json
 done
-for env in seed-vault-courier greenhouse-rounds ridge-survey archive-shuttle; do
+for env in seed-vault-courier fresh-coat-tug quench-hall-run assay-carousel; do
   $CLI export --env "$env" > "$OUT/export-$env.json"
   run "check-$env" check --env "$env" --json
 done
-run compare-greenhouse compare --env greenhouse-rounds --rewards fast,default --seeds 3 --runs-dir "$RUNS" --json
+run compare-greenhouse compare --env fresh-coat-tug --rewards fast,default --seeds 3 --runs-dir "$RUNS" --json
 run demo demo --runs-dir "$RUNS" --json
 run runs runs --runs-dir "$RUNS" --json

@@ -23,8 +23,8 @@ describe("public entry point", () => {
     expect("runCli" in api).toBe(false);
   });
   it("solves a built-in scenario through the API the same way as through the CLI", async () => {
-    const env = await api.loadEnv("ridge-survey");
-    const r = api.solveVariant(env.model!, api.resolveReward(env.model!, "light-fall"));
+    const env = await api.loadEnv("quench-hall-run");
+    const r = api.solveVariant(env.model!, api.resolveReward(env.model!, "light-loss"));
     // Issue "Foundation": a gaming variant gives up >= 30% of the achievable intent.
     expect(r.regretNorm).toBeGreaterThanOrEqual(0.3);
   });

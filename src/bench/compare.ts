@@ -1,5 +1,5 @@
 /**
- * Bench entry "compare": runs per second of a 4-variant x 16-seed sweep (archive-shuttle, its four
+ * Bench entry "compare": runs per second of a 4-variant x 16-seed sweep (assay-carousel, its four
  * reward variants, q-learning) with 1 and 2 local worker threads, and through Redis with 2
  * `gapwatch worker` processes (concurrency 1 each). Targets (reported, not enforced): 2 threads
  * >= 1.7x the runs/s of 1 thread on 2 cores; Redis with 2 workers within 15% of 2 local threads.
@@ -29,8 +29,8 @@ const out = (line = ""): void => {
   process.stdout.write(line + "\n");
 };
 
-const ENV = "archive-shuttle";
-const REWARDS = ["default", "shaped", "axle-count", "axle-count-energy"];
+const ENV = "assay-carousel";
+const REWARDS = ["default", "shaped", "belt-travel", "belt-travel-energy"];
 
 interface Args {
   rounds: number;

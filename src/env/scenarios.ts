@@ -10,6 +10,7 @@ import { parseRewardFile } from "../model/format/reward-file.js";
 import { compileGridScenario } from "../model/grid.js";
 import type { ScenarioMeta } from "../model/scenario.js";
 import { compileTrackScenario } from "../model/track.js";
+import { compileBudgetScenario } from "../model/budget.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { envsDir } from "../util/paths.js";
 import type { ScenarioEnv } from "./types.js";
@@ -53,9 +54,11 @@ export function loadScenario(name: string): ScenarioEnv {
       ? compileGridScenario(dir, meta)
       : meta.family === "track"
         ? compileTrackScenario(dir, meta)
-        : (() => {
-            throw new InputError("env.family", `unknown family "${String(meta.family)}", expected grid or track`, join(dir, "scenario.json"));
-          })();
+        : meta.family === "budget"
+          ? compileBudgetScenario(dir, meta)
+          : (() => {
+              throw new InputError("env.family", `unknown family "${String(meta.family)}", expected grid, track or budget`, join(dir, "scenario.json"));
+            })();
   const model: FiniteModel = { ...compiled, variants: { ...(compiled.variants ?? {}), ...variants }, description: meta.description, source: name };
   return { model, kind: "scenario", scenario: meta, spec: name };
 }

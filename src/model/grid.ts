@@ -6,15 +6,16 @@
  *   .   floor
  *   #   wall: moving into it (or off the map) leaves the agent in place, a "bump"
  *   @   start cell without a group label
- *   1-9 start cell whose group label is declared in scenario.json `groups`, e.g. {"1": "day-shift"}
+ *   1-9 start cell whose group label is declared in scenario.json `groups`, e.g. {"1": "north-store"}
  *   *   goal: terminal; entering it fires `goal`, and `deliver` = number of items carried
  *   !   hazard: terminal and catastrophic; entering it fires `hazard`
  *   +   item: the first entry picks it up (`pickup`) and sets its bit in the state; later entries are floor
  *   ?   tag (scan) cell: every entry from another cell fires `tag`; the first one also fires `tagFirst`
  *       and sets the cell's bit in the state (so "first time" is a feature of its own)
  *   %   fragile cell: passable, but every entry fires `fragile` (something there is damaged)
- *   ~   slippery cell: a move *from* it goes, with probability `slip`, to one of the two perpendicular
- *       directions instead (each slip/2), firing `slip`
+ *   =   slick cell: a move *from* it that reaches a non-terminal cell overshoots, with probability
+ *       `slip`, one more cell in the same direction (when that cell can be entered), firing `slip`; the
+ *       events of both cells entered count
  *   ^ > v <   one-way cell: can only be entered moving in the arrow's direction (else a bump); leaving
  *       it is free
  *
@@ -48,7 +49,7 @@ export const MOVE_ACTIONS = ["up", "right", "down", "left"] as const;
 const DR = [-1, 0, 1, 0];
 const DC = [0, 1, 0, -1];
 
-export type CellKind = "floor" | "wall" | "start" | "goal" | "hazard" | "item" | "tag" | "fragile" | "slippery" | "oneway";
+export type CellKind = "floor" | "wall" | "start" | "goal" | "hazard" | "item" | "tag" | "fragile" | "slick" | "oneway";
 
 const KIND_OF: Record<string, CellKind> = {
   ".": "floor",
@@ -59,7 +60,7 @@ const KIND_OF: Record<string, CellKind> = {
   "+": "item",
   "?": "tag",
   "%": "fragile",
-  "~": "slippery",
+  "=": "slick",
   "^": "oneway",
   ">": "oneway",
   v: "oneway",
@@ -69,7 +70,7 @@ const KIND_OF: Record<string, CellKind> = {
 const ONEWAY_DIR: Record<string, number> = { "^": 0, ">": 1, v: 2, "<": 3 };
 
 export const GRID_LEGEND =
-  ". floor, # wall, @ start, 1-9 start with a group, * goal, ! hazard, + item, ? tag, % fragile, ~ slippery, ^ > v < one-way";
+  ". floor, # wall, @ start, 1-9 start with a group, * goal, ! hazard, + item, ? tag, % fragile, = slick, ^ > v < one-way";
 
 /** Hard limits that keep the enumerated state space small. */
 export const MAX_FLAG_BITS = 16;
@@ -161,11 +162,11 @@ export interface GridConfig {
   features: string[];
   /** Held-out intent: weight per event; intent increment = sum of weight * event value. */
   intentWeights: Record<string, number>;
-  /** Slip probability on slippery cells (default 0). */
+  /** Overshoot probability of moves from slick cells (default 0). */
   slip?: number;
   /** Add a fifth action, "wait". */
   wait?: boolean;
-  /** Group label per start digit, e.g. {"1": "day-shift"}. */
+  /** Group label per start digit, e.g. {"1": "north-store"}. */
   groups?: Record<string, string>;
   description?: string;
 }
@@ -354,52 +355,60 @@ export function compileGrid(config: GridConfig, mapText: string, source = "map")
     if (onewayDir[t] >= 0 && onewayDir[t] !== d) return -1;
     return t;
   };
-  const addMove = (s: number, a: number, cell: number, flags: number, d: number, p: number, slipped: boolean) => {
+  const isTerminalCell = (cell: number) => kind[cell] === "goal" || kind[cell] === "hazard";
+  /** Apply the events of entering cell `t` with flags `f`; returns the new flags. */
+  const enter = (t: number, f: number, ev: Float64Array): number => {
+    const k = kind[t];
+    if (k === "goal") {
+      ev[E.goal] += 1;
+      ev[E.deliver] += popcount(f & itemMask);
+    } else if (k === "hazard") {
+      ev[E.hazard] += 1;
+    } else if (k === "item" || k === "tag") {
+      // An item fires pickup on the first entry only; a tag fires tag on every entry, tagFirst on the first.
+      if (k === "tag") ev[E.tag] += 1;
+      const bit = 1 << bitOf[t];
+      if (!(f & bit)) {
+        ev[k === "item" ? E.pickup : E.tagFirst] += 1;
+        f |= bit;
+      }
+    } else if (k === "fragile") {
+      ev[E.fragile] += 1;
+    }
+    return f;
+  };
+  /** A move in direction `d`; with `overshoot`, the move carries on one more cell in the same direction. */
+  const addMove = (s: number, a: number, cell: number, flags: number, d: number, p: number, overshoot: boolean) => {
     const ev = new Float64Array(nE);
     ev[E.step] = 1;
-    if (slipped) ev[E.slip] = 1;
     const t = moveTarget(cell, d);
     let next: number;
     if (t < 0) {
       ev[E.bump] = 1;
       next = stateOf(cell, flags);
     } else {
-      let f = flags;
-      const k = kind[t];
-      if (k === "goal") {
-        ev[E.goal] = 1;
-        ev[E.deliver] = popcount(flags & itemMask);
-      } else if (k === "hazard") {
-        ev[E.hazard] = 1;
-      } else if (k === "item") {
-        const bit = 1 << bitOf[t];
-        if (!(f & bit)) {
-          ev[E.pickup] = 1;
-          f |= bit;
-        }
-      } else if (k === "tag") {
-        ev[E.tag] = 1;
-        const bit = 1 << bitOf[t];
-        if (!(f & bit)) {
-          ev[E.tagFirst] = 1;
-          f |= bit;
-        }
-      } else if (k === "fragile") {
-        ev[E.fragile] = 1;
+      let f = enter(t, flags, ev);
+      let end = t;
+      if (overshoot) {
+        ev[E.slip] = 1;
+        end = moveTarget(t, d);
+        f = enter(end, f, ev);
       }
-      next = stateOf(t, f);
+      next = stateOf(end, f);
     }
     transitions.push({ s, a, next, p, ev });
   };
   for (let s = 0; s < cellOfState.length; s++) {
     const cell = cellOfState[s];
-    if (kind[cell] === "goal" || kind[cell] === "hazard") continue;
+    if (isTerminalCell(cell)) continue;
     const flags = flagsOfState[s];
     for (let d = 0; d < 4; d++) {
-      if (kind[cell] === "slippery" && slip > 0) {
+      // A move from a slick cell overshoots by one cell with probability `slip`, when the cell it reaches
+      // is not terminal and the next one in the same direction can be entered.
+      const t = kind[cell] === "slick" && slip > 0 ? moveTarget(cell, d) : -1;
+      if (t >= 0 && !isTerminalCell(t) && moveTarget(t, d) >= 0) {
         if (slip < 1) addMove(s, d, cell, flags, d, 1 - slip, false);
-        addMove(s, d, cell, flags, (d + 1) % 4, slip / 2, true);
-        addMove(s, d, cell, flags, (d + 3) % 4, slip / 2, true);
+        addMove(s, d, cell, flags, d, slip, true);
       } else {
         addMove(s, d, cell, flags, d, 1, false);
       }

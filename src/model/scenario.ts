@@ -4,12 +4,12 @@
  */
 
 /** The kinds of specification gap a built-in scenario demonstrates. */
-export type TrapKind = "repeatable-event" | "omitted-feature" | "gate-exploit" | "mis-scaled-risk";
+export type TrapKind = "repeatable-event" | "omitted-feature" | "speed-proxy" | "mis-scaled-risk" | "shared-budget";
 
 /** scenario.json, common part. Family-specific keys are read by the family compiler. */
 export interface ScenarioMeta {
   name: string;
-  family: "grid" | "track";
+  family: "grid" | "track" | "budget";
   title: string;
   /** One paragraph: the story and the trap it contains. */
   description: string;

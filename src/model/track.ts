@@ -17,6 +17,10 @@
  * behind the start (the last of the sequence) completes a lap. Backward crossings never move `next` back, so crossing a
  * gate backward and forward again is not a second checkpoint.
  *
+ * Service: a station at a gate can only do its work on the vehicle while it passes slowly. A checkpoint
+ * made at speed |v'| <= `serveSpeed` is a `service`; a faster one still advances `next` (the station is
+ * passed, unserved, for this lap). Default serveSpeed = vmax: every checkpoint is a service.
+ *
  * Events per transition (the vocabulary of `features` and `intentWeights` in scenario.json):
  *   step          1 on every transition
  *   gate          number of gate crossings, either direction
@@ -24,6 +28,7 @@
  *   gateBackward  backward crossings
  *   checkpoint    forward crossings of the expected next gate (in sequence order)
  *   lap           checkpoints at the last gate of the sequence (the one just behind the start)
+ *   service       checkpoints made at speed |v'| <= serveSpeed
  *   actuation     1 when the applied acceleration is non-zero (after slip)
  *   reverse       1 when the vehicle goes into reverse: v >= 0 and v' < 0
  *   distance      |v'|, positions travelled
@@ -51,6 +56,7 @@ export const TRACK_EVENTS = [
   "actuation",
   "reverse",
   "distance",
+  "service",
 ] as const;
 export type TrackEvent = (typeof TRACK_EVENTS)[number];
 
@@ -64,6 +70,7 @@ const EV = {
   actuation: 6,
   reverse: 7,
   distance: 8,
+  service: 9,
 } as const satisfies Record<TrackEvent, number>;
 
 /** The family-specific keys of a track scenario.json. */
@@ -80,6 +87,8 @@ export interface TrackConfig {
   slip?: number;
   /** Start position (velocity 0). Default 0. */
   start?: number;
+  /** Highest speed at which a checkpoint counts as a service, 1..vmax. Default vmax. */
+  serveSpeed?: number;
   gamma: number;
   horizon: number;
   /** Designer-visible event names, in feature order. */
@@ -97,6 +106,7 @@ export interface TrackSpec {
   gates: number[];
   slip: number;
   start: number;
+  serveSpeed: number;
   gamma: number;
   horizon: number;
   features: TrackEvent[];
@@ -135,6 +145,10 @@ export function validateTrackConfig(config: unknown, source: string): TrackSpec 
   if (typeof slip !== "number" || !(slip >= 0 && slip < 1)) fail("slip", `slip must be a probability in [0, 1), got ${JSON.stringify(c.slip)}`, source);
   const start = c.start ?? 0;
   if (!isInt(start) || start < 0 || start >= length) fail("start", `start must be a position in 0..${length - 1}, got ${JSON.stringify(c.start)}`, source);
+  const serveSpeed = c.serveSpeed ?? vmax;
+  if (!isInt(serveSpeed) || serveSpeed < 1 || serveSpeed > vmax) {
+    fail("serveSpeed", `serveSpeed must be an integer in 1..vmax (${vmax}), got ${JSON.stringify(c.serveSpeed)}`, source);
+  }
   const gamma = c.gamma;
   if (typeof gamma !== "number" || !(gamma > 0 && gamma < 1)) {
     fail("gamma", `gamma must be in (0, 1): a track has no terminal states, so the return is discounted; got ${JSON.stringify(gamma)}`, source);
@@ -165,6 +179,7 @@ export function validateTrackConfig(config: unknown, source: string): TrackSpec 
     gates: gates as number[],
     slip,
     start,
+    serveSpeed,
     gamma,
     horizon,
     features: features as TrackEvent[],
@@ -211,13 +226,15 @@ export interface TrackGeometry {
   gateAt: Int32Array;
   /** Index of the gate whose checkpoint completes a lap: the last gate of the sequence that starts at the first gate ahead of the start. */
   lapGate: number;
+  /** Highest speed at which a checkpoint is a service. */
+  serveSpeed: number;
 }
 
-export function trackGeometry(spec: Pick<TrackSpec, "length" | "vmax" | "gates" | "start">): TrackGeometry {
+export function trackGeometry(spec: Pick<TrackSpec, "length" | "vmax" | "gates" | "start"> & { serveSpeed?: number }): TrackGeometry {
   const gateAt = new Int32Array(spec.length).fill(-1);
   spec.gates.forEach((g, i) => (gateAt[g] = i));
   const G = spec.gates.length;
-  return { length: spec.length, vmax: spec.vmax, gates: spec.gates, gateAt, lapGate: (firstGateAhead(spec.gates, spec.start) + G - 1) % G };
+  return { length: spec.length, vmax: spec.vmax, gates: spec.gates, gateAt, lapGate: (firstGateAhead(spec.gates, spec.start) + G - 1) % G, serveSpeed: spec.serveSpeed ?? spec.vmax };
 }
 
 /**
@@ -247,6 +264,7 @@ export function trackStep(geo: TrackGeometry, pos: number, vel: number, next: nu
       e[EV.gateForward]++;
       if (gi === idx) {
         e[EV.checkpoint]++;
+        if (v <= geo.serveSpeed) e[EV.service]++;
         if (idx === lapGate) e[EV.lap]++;
         idx = (idx + 1) % G;
       }

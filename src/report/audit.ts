@@ -67,7 +67,7 @@ const CELL_STYLE: Record<string, { fill: string; name: string }> = {
   "*": { fill: "#bfe6d8", name: "goal" },
   "!": { fill: "#f5c9ad", name: "hazard (ends the episode)" },
   "%": { fill: "#f6eeb4", name: "fragile cell" },
-  "~": { fill: "#cfe7f6", name: "slippery cell" },
+  "=": { fill: "#d9dde8", name: "slick plate (a move may overshoot one cell)" },
   "?": { fill: "#efd3e3", name: "tag / scan cell" },
   "+": { fill: "#f7dfa8", name: "item" },
   "@": { fill: "#ffffff", name: "start" },

@@ -172,7 +172,7 @@ function bellmanSweep(chain: PolicyChain, r: Float64Array, gamma: number, x: Flo
  * bounds that radius here, so omega0 errs on the high side, where SOR loses least. If SOR then does
  * worse than Gauss-Seidel did, two windows running, it drops back to omega = 1 for good, restarting
  * from the iterate it switched at if it was diverging (SOR can diverge on non-symmetric chains such
- * as the archive-shuttle ring; the theory covers symmetric ones like grid random walks). Measured on the uniform policies of
+ * as the assay-carousel ring; the theory covers symmetric ones like grid random walks). Measured on the uniform policies of
  * the lava field and the built-in scenarios: 4-9x fewer sweeps than Gauss-Seidel.
  *
  * Stopping is not heuristic: when the iterates look converged, one synchronous Bellman sweep

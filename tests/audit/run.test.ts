@@ -27,9 +27,10 @@ import { solveVariant } from "../../src/solve/compare.js";
 /** Which check names each declared trap kind (our mapping; see README "Static audit and pressure"). */
 const TRAP_CHECK: Record<TrapKind, string> = {
   "repeatable-event": "reward-loop",
-  "gate-exploit": "reward-loop",
+  "speed-proxy": "reward-loop",
   "omitted-feature": "regret",
   "mis-scaled-risk": "risk-indifference",
+  "shared-budget": "regret",
 };
 
 describe("built-in scenarios", () => {
@@ -38,14 +39,14 @@ describe("built-in scenarios", () => {
     const model = loadScenario(name).model;
     for (const v of meta.gaming) {
       it(`${name}/${v} (gaming) gets a critical ${TRAP_CHECK[meta.trap]} finding`, () => {
-        const r = runAudit(model, model.variants![v], { sensitivity: name === "greenhouse-rounds" });
+        const r = runAudit(model, model.variants![v], { sensitivity: name === "fresh-coat-tug" });
         const crit = r.findings.filter((f) => f.severity === "critical").map((f) => f.check);
         expect(crit).toContain(TRAP_CHECK[meta.trap]);
       });
     }
     for (const v of meta.sound) {
       it(`${name}/${v} (sound) gets no critical finding`, () => {
-        const r = runAudit(model, model.variants![v], { sensitivity: name !== "archive-shuttle" });
+        const r = runAudit(model, model.variants![v], { sensitivity: name !== "assay-carousel" });
         expect(r.findings.filter((f) => f.severity === "critical")).toEqual([]);
         expect(r.regretNorm).toBeLessThan(0.05);
       });
@@ -63,20 +64,24 @@ describe("evidence on the scenarios, hand-computed", () => {
     expect(r.loops[0].states).toHaveLength(2);
   });
 
-  it("archive-shuttle/axle-count: rocking over a sensor gives 2 pulses per 4 steps; the energy variant pays 4 actuations of 0.05 less", () => {
-    // Hand computation from the scenario text: forward, stop, back, stop = 2 crossings in 4 steps,
-    // every step actuates (accelerate, brake, brake, accelerate), each succeeds with 1 - slip = 0.95.
-    const m = loadScenario("archive-shuttle").model;
-    const a = runAuditDetailed(m, m.variants!["axle-count"], { sensitivity: false });
-    expect(a.loops[0].meanDesignerPerStep).toBeCloseTo(0.5, 12);
-    expect(a.loopEvidence[0].lapProbability).toBeCloseTo(0.95 ** 4, 12);
-    const e = runAudit(m, m.variants!["axle-count-energy"], { sensitivity: false });
-    expect(e.loops[0].meanDesignerPerStep).toBeCloseTo((2 - 4 * 0.05) / 4, 12);
+  it("assay-carousel/belt-travel: the flat-out loop moves 2 positions per step and reads nothing; the energy charge never applies on it", () => {
+    // Hand computation from the scenario: at top speed 2 on a ring of 24 the loop visits 24 / 2 = 12
+    // states, pays 2 (distance) per step and passes every probe at speed 2 > serveSpeed 1 (no reading).
+    // Coasting never actuates, so slip (which only turns accelerate/brake into coast) cannot break the
+    // loop (lap probability 1) and the energy variant's actuation charge is never paid on it.
+    const m = loadScenario("assay-carousel").model;
+    const a = runAuditDetailed(m, m.variants!["belt-travel"], { sensitivity: false });
+    expect(a.loops[0].meanDesignerPerStep).toBeCloseTo(2, 12);
+    expect(a.loops[0].meanIntentPerStep).toBe(0);
+    expect(a.loops[0].states).toHaveLength(12);
+    expect(a.loopEvidence[0].lapProbability).toBeCloseTo(1, 12);
+    const e = runAudit(m, m.variants!["belt-travel-energy"], { sensitivity: false });
+    expect(e.loops[0].meanDesignerPerStep).toBeCloseTo(2, 12);
     expect(e.loops[0].meanIntentPerStep).toBe(0);
   });
 
-  it("greenhouse-rounds/fast: the regret finding names the omitted fragile feature and the day shift is served worse", () => {
-    const m = loadScenario("greenhouse-rounds").model;
+  it("fresh-coat-tug/fast: the regret finding names the omitted fragile feature and the north store is served worse", () => {
+    const m = loadScenario("fresh-coat-tug").model;
     const r = runAudit(m, m.variants!.fast);
     const regret = r.findings.find((f) => f.check === "regret")!;
     expect(regret.severity).toBe("critical");
@@ -90,12 +95,12 @@ describe("evidence on the scenarios, hand-computed", () => {
     const broken: RewardVariant = { ...m.variants!.fast, weights: { ...m.variants!.fast.weights, fragile: fix * 0.95 } };
     expect(solveVariant(m, broken).regretNorm).toBeGreaterThan(0.3);
     const g = r.findings.find((f) => f.check === "regret-by-group")!;
-    expect(g.evidence.worst).toBe("day-shift");
+    expect(g.evidence.worst).toBe("north-store");
   });
 
-  it("ridge-survey/light-fall: the route's failure probability and p* agree with a direct lottery on its exact returns", () => {
-    const m = loadScenario("ridge-survey").model;
-    const r = runAudit(m, m.variants!["light-fall"], { sensitivity: false });
+  it("quench-hall-run/light-loss: the route's failure probability and p* agree with a direct lottery on its exact returns", () => {
+    const m = loadScenario("quench-hall-run").model;
+    const r = runAudit(m, m.variants!["light-loss"], { sensitivity: false });
     const f = r.findings.find((x) => x.check === "risk-indifference")!;
     const ev = f.evidence as Record<string, number>;
     expect(ev.failProbability).toBeGreaterThan(0.01);

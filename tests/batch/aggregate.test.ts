@@ -169,7 +169,7 @@ describe("comparison CSV", () => {
 
 describe("sweep plan", () => {
   it("every variant runs on the same seeds; job ids are deterministic and distinct", () => {
-    const spec = { env: "greenhouse-rounds", rewards: ["fast", "default"], learners: ["q-learning", "sarsa"], seeds: [3, 1, 2], steps: 100 };
+    const spec = { env: "fresh-coat-tug", rewards: ["fast", "default"], learners: ["q-learning", "sarsa"], seeds: [3, 1, 2], steps: 100 };
     const a = planSweep(spec);
     const b = planSweep(spec);
     expect(a.map((j) => j.jobId)).toEqual(b.map((j) => j.jobId));

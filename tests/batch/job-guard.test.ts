@@ -30,7 +30,7 @@ const fresh = tempDirsRemovedAfterAll();
 
 const jobOf = (over: Partial<BatchJob["input"]> = {}, files?: Record<string, string>): BatchJob => ({
   jobId: "run-test",
-  input: { env: "greenhouse-rounds", reward: "fast", learner: "q-learning", seed: 1, steps: 400, ...over },
+  input: { env: "fresh-coat-tug", reward: "fast", learner: "q-learning", seed: 1, steps: 400, ...over },
   ...(files ? { files } : {}),
   cell: { reward: String(over.reward ?? "fast"), learner: "q-learning", seed: 1 },
 });
@@ -47,18 +47,18 @@ describe("result checks on the coordinator (pure)", () => {
   it("a run folder must be a plain direct child of the runs folder", () => {
     const root = fresh("guard-root");
     for (const bad of ["", ".", "..", "../x", "a/b", "a\\..\\..", ".hidden", "/etc"]) expect(code(() => runFolderInside(root, bad))).toBe("batch.badResult");
-    expect(runFolderInside(root, "greenhouse-rounds-fast-q-learning-s1-0123abcd")).toBe(join(root, "greenhouse-rounds-fast-q-learning-s1-0123abcd"));
+    expect(runFolderInside(root, "fresh-coat-tug-fast-q-learning-s1-0123abcd")).toBe(join(root, "fresh-coat-tug-fast-q-learning-s1-0123abcd"));
   });
 
   it("a result must carry this job's run id and only run files", () => {
-    const [job] = planSweep({ env: "greenhouse-rounds", rewards: ["fast"], learners: ["q-learning"], seeds: [3] });
+    const [job] = planSweep({ env: "fresh-coat-tug", rewards: ["fast"], learners: ["q-learning"], seeds: [3] });
     const files = { "manifest.json": "{}", "checkpoints.jsonl": "" };
-    expect(code(() => checkShippedRun(job, { runId: "greenhouse-rounds-fast-q-learning-s3-0123abcd", files }))).toBe("accepted");
-    for (const runId of ["..", ".", "greenhouse-rounds-fast-q-learning-s4-0123abcd", "greenhouse-rounds-fast-q-learning-s3-0123abcd/..", "greenhouse-rounds-fast-q-learning-s3-0123ABCD"]) {
+    expect(code(() => checkShippedRun(job, { runId: "fresh-coat-tug-fast-q-learning-s3-0123abcd", files }))).toBe("accepted");
+    for (const runId of ["..", ".", "fresh-coat-tug-fast-q-learning-s4-0123abcd", "fresh-coat-tug-fast-q-learning-s3-0123abcd/..", "fresh-coat-tug-fast-q-learning-s3-0123ABCD"]) {
       expect(code(() => checkShippedRun(job, { runId, files }))).toBe("batch.badResult");
     }
     for (const name of ["index.db", "../checkpoints.jsonl", "payload.ts", "__proto__"]) {
-      expect(code(() => checkShippedRun(job, { runId: "greenhouse-rounds-fast-q-learning-s3-0123abcd", files: JSON.parse(`{"${name}": "x"}`) }))).toBe("batch.badResult");
+      expect(code(() => checkShippedRun(job, { runId: "fresh-coat-tug-fast-q-learning-s3-0123abcd", files: JSON.parse(`{"${name}": "x"}`) }))).toBe("batch.badResult");
     }
     expect(code(() => checkShippedRun(job, "a string"))).toBe("batch.badResult");
   });
@@ -119,7 +119,7 @@ describe("attacks through a real Redis", () => {
       { connection: target.connection },
     );
     try {
-      const r = await runCompare({ env: "greenhouse-rounds", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1], steps: 400, runsDir, queue: url, bootstrapSeed: 1, reps: 50 });
+      const r = await runCompare({ env: "fresh-coat-tug", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1], steps: 400, runsDir, queue: url, bootstrapSeed: 1, reps: 50 });
       expect(r.outcomes.every((o) => !o.ok && o.error.code === "batch.badResult")).toBe(true);
     } finally {
       await evil.close();

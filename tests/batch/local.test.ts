@@ -10,8 +10,8 @@ import { tempDirsRemovedAfterAll } from "../helpers/temp-dirs.js";
 
 const fresh = tempDirsRemovedAfterAll();
 
-// Small sweep: two greenhouse-rounds variants (one games, one is sound: envs/greenhouse-rounds/scenario.json), 3 seeds.
-const SWEEP = { env: "greenhouse-rounds", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1, 2, 3], steps: 4000, bootstrapSeed: 5, reps: 300 };
+// Small sweep: two fresh-coat-tug variants (one games, one is sound: envs/fresh-coat-tug/scenario.json), 3 seeds.
+const SWEEP = { env: "fresh-coat-tug", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1, 2, 3], steps: 4000, bootstrapSeed: 5, reps: 300 };
 
 describe("local thread pool", () => {
   it("gives identical runs (checkpoints.jsonl bytes, final scores) and statistics with 1 and with 2 workers", async () => {
@@ -48,7 +48,7 @@ describe("local thread pool", () => {
 
   it("a batch with a broken simulator module reports that run failed ('module.*') while the other runs complete", async () => {
     const runsDir = fresh("broken");
-    const good = planSweep({ env: "greenhouse-rounds", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2], steps: 1000 });
+    const good = planSweep({ env: "fresh-coat-tug", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2], steps: 1000 });
     const bad = planSweep({ env: "tests/fixtures/batch/broken-step.ts", rewards: ["default"], learners: ["q-learning"], seeds: [1], steps: 1000 });
     const seen: RunOutcome[] = [];
     const outcomes = await runLocalBatch([good[0], ...bad, good[1]], runsDir, 2, (o) => seen.push(o));
@@ -63,7 +63,7 @@ describe("local thread pool", () => {
 
   it("a run whose module step never returns is stopped by the run timeout ('batch.timeout', one line naming env, reward, seed, limit); the thread is replaced and the other runs complete", async () => {
     const runsDir = fresh("hang");
-    const good = planSweep({ env: "greenhouse-rounds", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2], steps: 1000 });
+    const good = planSweep({ env: "fresh-coat-tug", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2], steps: 1000 });
     const hang = planSweep({ env: "tests/fixtures/batch/hang-step.ts", rewards: ["default"], learners: ["q-learning"], seeds: [7], steps: 1000 });
     // One thread, the hanging job first: the good runs can only complete on the thread that replaces the stopped one.
     const outcomes = await runLocalBatch([...hang, ...good], runsDir, 1, () => undefined, { timeoutMs: 1500 });

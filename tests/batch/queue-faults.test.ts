@@ -38,13 +38,13 @@ async function cli(...argv: string[]) {
   return { code, out: io.stdout, err: io.stderr };
 }
 
-const sweep = (runsDir: string, queue: string) => ({ env: "greenhouse-rounds", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1, 2], steps: 2000, runsDir, queue, bootstrapSeed: 1, reps: 100 });
+const sweep = (runsDir: string, queue: string) => ({ env: "fresh-coat-tug", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1, 2], steps: 2000, runsDir, queue, bootstrapSeed: 1, reps: 100 });
 
 describe("queue faults", () => {
   it("nothing listening: compare and worker end within 10 s with one line naming the URL, exit 2", async () => {
     const url = `redis://127.0.0.1:${await freePort()}/0`;
     const t0 = Date.now();
-    const r = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "fast", "--seeds", "1", "--queue", url, "--runs-dir", fresh("unreach"));
+    const r = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "fast", "--seeds", "1", "--queue", url, "--runs-dir", fresh("unreach"));
     expect(r.code).toBe(2);
     expect(r.err.trim().split("\n")).toHaveLength(1);
     expect(r.err).toContain("queue.unreachable");
@@ -102,16 +102,16 @@ describe("queue faults", () => {
 
   it("a misspelt variant and an absurd seed count are refused before any run, exit 2", async () => {
     const runsDir = fresh("misspelt");
-    const r = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "default,fsat", "--seeds", "2", "--runs-dir", runsDir, "--workers", "1");
+    const r = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "default,fsat", "--seeds", "2", "--runs-dir", runsDir, "--workers", "1");
     expect(r.code).toBe(2);
     expect(r.err).toContain("fsat");
     expect(r.err.trim().split("\n")).toHaveLength(1);
     const { readdirSync } = await import("node:fs");
     expect(readdirSync(runsDir).filter((n) => n.startsWith("greenhouse"))).toEqual([]);
-    const s = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "default", "--seeds", "1000000000", "--runs-dir", runsDir);
+    const s = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "default", "--seeds", "1000000000", "--runs-dir", runsDir);
     expect(s.code).toBe(2);
     expect(s.err).toContain("--seeds");
-    const l = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "default", "--seed-list", "1-1000000000", "--runs-dir", runsDir);
+    const l = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "default", "--seed-list", "1-1000000000", "--runs-dir", runsDir);
     expect(l.code).toBe(2);
   });
 });

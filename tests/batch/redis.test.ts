@@ -83,7 +83,7 @@ afterAll(async () => {
   for (const d of dirs) rmSync(d, { recursive: true, force: true });
 });
 
-const SWEEP = { env: "greenhouse-rounds", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1, 2, 3], steps: 4000, bootstrapSeed: 5, reps: 300 };
+const SWEEP = { env: "fresh-coat-tug", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1, 2, 3], steps: 4000, bootstrapSeed: 5, reps: 300 };
 
 describe("compare through Redis with worker processes", () => {
   it("two workers give the same runs and statistics as a local run; a resubmitted sweep does no work twice", async () => {
@@ -157,7 +157,7 @@ describe("compare through Redis with worker processes", () => {
     const victim = startWorker(url, fast);
     await until(() => ready(victim));
     // Runs long enough (~1 s each) to be killed in the middle of one.
-    const sweep = { env: "greenhouse-rounds", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2, 3], steps: 300_000, bootstrapSeed: 2, reps: 200 };
+    const sweep = { env: "fresh-coat-tug", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2, 3], steps: 300_000, bootstrapSeed: 2, reps: 200 };
     const runsDir = fresh("fault");
     const done = runCompare({ ...sweep, runsDir, queue: url, backoffMs: 200 });
     await until(() => count(victim, "active") > 0);

@@ -109,10 +109,10 @@ describe("gapwatch check (CLI)", () => {
   });
 
   it("--json prints the documented document and exits 0 on a sound environment", async () => {
-    const r = await cli("check", "--env", "ridge-survey", "--runs", "10", "--seed", "4", "--json");
+    const r = await cli("check", "--env", "quench-hall-run", "--runs", "10", "--seed", "4", "--json");
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
-    expect(doc).toMatchObject({ env: "ridge-survey", passed: true });
+    expect(doc).toMatchObject({ env: "quench-hall-run", passed: true });
     for (const p of doc.properties) {
       expect(["passed", "failed", "skipped"]).toContain(p.status);
       expect(typeof p.runs).toBe("number");
@@ -129,11 +129,11 @@ describe("gapwatch check (CLI)", () => {
   });
 
   it("bad options and unknown properties are one-line errors with exit 2", async () => {
-    expect((await cli("check", "--env", "ridge-survey", "--runs", "0")).code).toBe(2);
-    const u = await cli("check", "--env", "ridge-survey", "--property", "nope");
+    expect((await cli("check", "--env", "quench-hall-run", "--runs", "0")).code).toBe(2);
+    const u = await cli("check", "--env", "quench-hall-run", "--property", "nope");
     expect(u.code).toBe(2);
     expect(u.err).toMatch(/unknown property "nope"; known: determinism/);
-    expect((await cli("check", "--env", "ridge-survey", "--replay", "1:2")).err).toMatch(/--replay needs --property/);
+    expect((await cli("check", "--env", "quench-hall-run", "--replay", "1:2")).err).toMatch(/--replay needs --property/);
   });
 });
 

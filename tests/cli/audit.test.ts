@@ -31,17 +31,17 @@ describe("gapwatch audit", () => {
   });
 
   it("--fail-on critical exits 3 on a gaming variant and 0 on a sound one; --fail-on warning is stricter", async () => {
-    expect((await cli(["audit", "--env", "ridge-survey", "--reward", "light-fall", "--fail-on", "critical", "--no-sensitivity"])).code).toBe(3);
-    expect((await cli(["audit", "--env", "ridge-survey", "--reward", "default", "--fail-on", "critical"])).code).toBe(0);
+    expect((await cli(["audit", "--env", "quench-hall-run", "--reward", "light-loss", "--fail-on", "critical", "--no-sensitivity"])).code).toBe(3);
+    expect((await cli(["audit", "--env", "quench-hall-run", "--reward", "default", "--fail-on", "critical"])).code).toBe(0);
     expect((await cli(["audit", "--env", "seed-vault-courier", "--reward", "per-scan", "--fail-on", "warning", "--no-sensitivity"])).code).toBe(3);
   });
 
   it("--max-risk moves the risk verdict: a tolerance above the route's failure probability clears it", async () => {
-    const strict = JSON.parse((await cli(["audit", "--env", "ridge-survey", "--reward", "light-fall", "--no-sensitivity", "--json"])).out);
+    const strict = JSON.parse((await cli(["audit", "--env", "quench-hall-run", "--reward", "light-loss", "--no-sensitivity", "--json"])).out);
     const risk = strict.findings.find((f: { check: string }) => f.check === "risk-indifference");
     expect(risk.severity).toBe("critical");
     const p = risk.evidence.failProbability as number;
-    const loose = JSON.parse((await cli(["audit", "--env", "ridge-survey", "--reward", "light-fall", "--no-sensitivity", "--max-risk", String(Math.min(1, p + 0.01)), "--json"])).out);
+    const loose = JSON.parse((await cli(["audit", "--env", "quench-hall-run", "--reward", "light-loss", "--no-sensitivity", "--max-risk", String(Math.min(1, p + 0.01)), "--json"])).out);
     expect(loose.findings.find((f: { check: string }) => f.check === "risk-indifference").severity).toBe("info");
   });
 
@@ -54,15 +54,16 @@ describe("gapwatch audit", () => {
     expect(r.out).not.toContain("\u001b[");
   });
 
-  it("draws the rocking loop on the track strip", async () => {
-    const r = await cli(["audit", "--env", "archive-shuttle", "--reward", "axle-count", "--no-sensitivity"]);
+  it("draws the flat-out belt loop on the track strip", async () => {
+    const r = await cli(["audit", "--env", "assay-carousel", "--reward", "belt-travel", "--no-sensitivity"]);
     expect(r.out).toMatch(/gates \|/);
-    // Rocking over the sensor at position 0: positions 31 and 0 are each visited stopped and moving.
-    expect(r.out).toMatch(/loop {2}⇄·{30}⇄\n/);
+    // Flat out at speed 2 on a ring of 24: every second position is visited, all in one direction (12
+    // arrows, one per loop state; the designer optimum happens to run the belt backward, |v'| pays alike).
+    expect(r.out).toMatch(/loop {2}(«·){12}\n/);
   });
 
   it("audits a model file exported from a scenario", async () => {
-    const m = loadScenario("greenhouse-rounds").model;
+    const m = loadScenario("fresh-coat-tug").model;
     const dir = mkdtempSync(join(tmpdir(), "gapwatch-cli-audit-"));
     const file = join(dir, "greenhouse.json");
     writeFileSync(file, formatModelDocument(exportModel(m)));
@@ -98,7 +99,7 @@ describe("gapwatch pressure", () => {
   });
 
   it("human output draws sparklines and reports no onset on a sound variant", async () => {
-    const r = await cli(["pressure", "--env", "greenhouse-rounds", "--reward", "default"]);
+    const r = await cli(["pressure", "--env", "fresh-coat-tug", "--reward", "default"]);
     expect(r.code).toBe(0);
     expect(r.out).toMatch(/designer [▁▂▃▄▅▆▇█]+/);
     expect(r.out).toMatch(/intent {3}[▁▂▃▄▅▆▇█]+/);
@@ -106,16 +107,16 @@ describe("gapwatch pressure", () => {
   });
 
   it("--reference reads a policy file; a wrong one exits 2", async () => {
-    const m = loadScenario("greenhouse-rounds").model;
+    const m = loadScenario("fresh-coat-tug").model;
     const dir = mkdtempSync(join(tmpdir(), "gapwatch-cli-pressure-"));
     const good = join(dir, "policy.json");
     writeFileSync(good, JSON.stringify({ policy: Array.from({ length: m.nStates }, (_, s) => (m.terminal[s] ? null : "up")) }));
-    const r = await cli(["pressure", "--env", "greenhouse-rounds", "--reward", "fast", "--reference", good, "--json"]);
+    const r = await cli(["pressure", "--env", "fresh-coat-tug", "--reward", "fast", "--reference", good, "--json"]);
     expect(r.code).toBe(0);
     expect(JSON.parse(r.out).points[0].kl).toBeCloseTo(0, 12);
     const bad = join(dir, "bad.json");
     writeFileSync(bad, JSON.stringify({ policy: ["up"] }));
-    const b = await cli(["pressure", "--env", "greenhouse-rounds", "--reference", bad]);
+    const b = await cli(["pressure", "--env", "fresh-coat-tug", "--reference", bad]);
     expect(b.code).toBe(2);
     expect(b.err).toMatch(/expected one per state/);
   });

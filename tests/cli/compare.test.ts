@@ -72,7 +72,7 @@ describe("gapwatch compare / runs", () => {
     expect(r.err).toMatch(/batch\.timeout/);
     expect(r.err).toMatch(/hang-step\.ts reward default q-learning seed 3 exceeded the run timeout of 1 s/);
     for (const bad of ["0", "-2", "soon"]) {
-      const b = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "fast", "--run-timeout", bad, "--runs-dir", runsDir);
+      const b = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "fast", "--run-timeout", bad, "--runs-dir", runsDir);
       expect(b.code).toBe(2);
       expect(b.err.trim().split("\n")).toHaveLength(1);
       expect(b.err).toMatch(/--run-timeout needs a positive number of seconds/);
@@ -88,11 +88,11 @@ describe("gapwatch compare / runs", () => {
     expect(r.err.trim().split("\n")).toHaveLength(1);
     expect(r.err).toMatch(/\[reward\.[A-Za-z]+\].*bad-reward\.json/);
     expect(readdirSync(runsDir)).toEqual([]);
-    const bad = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "fast", "--learners", "nope", "--runs-dir", runsDir);
+    const bad = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "fast", "--learners", "nope", "--runs-dir", runsDir);
     expect(bad.code).toBe(2);
     expect(bad.err.trim().split("\n")).toHaveLength(1);
     expect(bad.err).toMatch(/unknown learner "nope"/);
-    const q = await cli("compare", "--env", "greenhouse-rounds", "--rewards", "fast", "--queue", "http://x", "--runs-dir", runsDir);
+    const q = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "fast", "--queue", "http://x", "--runs-dir", runsDir);
     expect(q.code).toBe(2);
     expect(q.err).toMatch(/redis:\/\//);
     const v = await cli("runs", "--runs-dir", runsDir, "--verdict", "maybe");

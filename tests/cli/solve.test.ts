@@ -13,18 +13,18 @@ async function cli(...argv: string[]) {
 }
 
 describe("gapwatch envs", () => {
-  it("lists the four built-in scenarios as one JSON document", async () => {
+  it("lists the five built-in scenarios as one JSON document", async () => {
     const r = await cli("envs", "--json");
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
     expect(doc.envs.map((e: { name: string }) => e.name).sort()).toEqual(builtinScenarioNames());
-    expect(doc.envs.length).toBeGreaterThanOrEqual(4);
+    expect(doc.envs.length).toBeGreaterThanOrEqual(5);
     for (const e of doc.envs) {
       expect(Object.keys(e).sort()).toEqual(["actions", "description", "family", "features", "name", "rewards", "states"]);
       expect(e.states).toBeGreaterThan(0);
     }
     const families = new Set(doc.envs.map((e: { family: string }) => e.family));
-    expect(families).toEqual(new Set(["grid", "track"]));
+    expect(families).toEqual(new Set(["grid", "track", "budget"]));
   });
 });
 
@@ -53,7 +53,7 @@ describe("gapwatch solve", () => {
   }
 
   it("draws the route on the map in human output", async () => {
-    const r = await cli("solve", "--env", "greenhouse-rounds");
+    const r = await cli("solve", "--env", "fresh-coat-tug");
     expect(r.code).toBe(0);
     expect(r.out).toMatch(/designer-optimal route:/);
     expect(r.out).toMatch(/[↑→↓←]/);
@@ -91,12 +91,12 @@ describe("bad input", () => {
     expect(r.err).toMatch(/unknown environment "nowhere"/);
   });
   it("an unknown reward variant names the known ones", async () => {
-    const r = await cli("solve", "--env", "ridge-survey", "--reward", "nope");
+    const r = await cli("solve", "--env", "quench-hall-run", "--reward", "nope");
     expect(r.code).toBe(2);
     expect(r.err).toMatch(/known: /);
   });
   it("an unknown option gets a hint and exit 2", async () => {
-    const r = await cli("solve", "--env", "ridge-survey", "--rewrd", "x");
+    const r = await cli("solve", "--env", "quench-hall-run", "--rewrd", "x");
     expect(r.code).toBe(2);
     expect(r.err).toMatch(/--reward/);
   });
@@ -124,8 +124,8 @@ describe("gapwatch export", () => {
 
 describe("gapwatch export --json", () => {
   it("accepts --json and prints the same model document as without it", async () => {
-    const plain = await cli("export", "--env", "ridge-survey");
-    const json = await cli("export", "--env", "ridge-survey", "--json");
+    const plain = await cli("export", "--env", "quench-hall-run");
+    const json = await cli("export", "--env", "quench-hall-run", "--json");
     expect(json.code).toBe(0);
     expect(json.out).toBe(plain.out);
     // The document format is gapwatch-mdp/1 (src/model/format.ts, MODEL_FORMAT).

@@ -11,11 +11,11 @@ afterAll(() => rmSync(runs, { recursive: true, force: true }));
 describe("gapwatch train", () => {
   it("prints the documented --json shape", async () => {
     const io = memoryIO();
-    const code = await runCli(["train", "--env", "greenhouse-rounds", "--reward", "default", "--seed", "3", "--runs-dir", runs, "--json"], io);
+    const code = await runCli(["train", "--env", "fresh-coat-tug", "--reward", "default", "--seed", "3", "--runs-dir", runs, "--json"], io);
     expect(code).toBe(0);
     const doc = JSON.parse(io.stdout);
     expect(Object.keys(doc)).toEqual(expect.arrayContaining(["runDir", "env", "reward", "learner", "seed", "verdict", "checkpoints", "alerts"]));
-    expect(doc).toMatchObject({ env: "greenhouse-rounds", reward: "default", learner: "q-learning", seed: 3, verdict: "aligned", alerts: [] });
+    expect(doc).toMatchObject({ env: "fresh-coat-tug", reward: "default", learner: "q-learning", seed: 3, verdict: "aligned", alerts: [] });
     expect(doc.checkpoints).toHaveLength(20);
     expect(Object.keys(doc.checkpoints[0])).toEqual(expect.arrayContaining(["step", "designer", "intent", "designerNorm", "intentNorm"]));
     expect(doc.runDir.startsWith(runs)).toBe(true);
@@ -33,7 +33,7 @@ describe("gapwatch train", () => {
 
   it("prints a text summary with both sparklines and the caution line", async () => {
     const io = memoryIO();
-    expect(await runCli(["train", "--env", "ridge-survey", "--reward", "light-fall", "--runs-dir", runs], io)).toBe(0);
+    expect(await runCli(["train", "--env", "quench-hall-run", "--reward", "light-loss", "--runs-dir", runs], io)).toBe(0);
     expect(io.stdout).toMatch(/verdict: decoupled/);
     expect(io.stdout).toMatch(/designer\s+[▁▂▃▄▅▆▇█]{20}/);
     expect(io.stdout).toMatch(/intent\s+[▁▂▃▄▅▆▇█]{20}/);
@@ -47,7 +47,7 @@ describe("gapwatch train", () => {
   ] as const) {
     it(`exits 2 with one line for an unknown ${flag.slice(2)}`, async () => {
       const io = memoryIO();
-      const args = ["train", "--env", "greenhouse-rounds", "--runs-dir", runs];
+      const args = ["train", "--env", "fresh-coat-tug", "--runs-dir", runs];
       const i = args.indexOf(flag);
       if (i >= 0) args[i + 1] = value;
       else args.push(flag, value);

@@ -14,8 +14,8 @@ import { envsDir } from "../../src/util/paths.js";
 
 const SCENARIOS = {
   "seed-vault-courier": "repeatable-event",
-  "greenhouse-rounds": "omitted-feature",
-  "ridge-survey": "mis-scaled-risk",
+  "fresh-coat-tug": "omitted-feature",
+  "quench-hall-run": "mis-scaled-risk",
 } as const;
 
 /** Per-outcome indicator of one feature, for counting events under a policy. */
@@ -105,40 +105,45 @@ describe("each trap works the way its story says", () => {
     expect(expectedCount(m, sound.designerOptimal.policy, "tag")).toBe(2); // through the arch and back
   });
 
-  it("greenhouse-rounds: the fast reward serves the day shift worse and the night shift as well as possible", () => {
-    const m = loadScenario("greenhouse-rounds").model;
+  it("fresh-coat-tug: the fast reward serves the north store worse and the south store as well as possible", () => {
+    const m = loadScenario("fresh-coat-tug").model;
     const starts = [...m.start.keys()].filter((s) => m.start[s] > 0);
-    expect(starts.map((s) => m.groups![s]).sort()).toEqual(["day-shift", "night-shift"]);
+    expect(starts.map((s) => m.groups![s]).sort()).toEqual(["north-store", "south-store"]);
     const perGroup = (variant: string) => {
       const r = solveVariant(m, m.variants![variant]);
       const intent = evaluatePolicy(m, m.intent, deterministicPolicy(m, r.designerOptimal.policy)).values;
       return Object.fromEntries(starts.map((s) => [m.groups![s]!, r.intentOptimal.values[s] - intent[s]]));
     };
     const fast = perGroup("fast");
-    // Hand-computed on envs/greenhouse-rounds/map.txt (gamma 0.95, intent counted at the step's discount):
-    // dock 1 at (1,1), valve at (1,11). Fast: 10 moves right along row 1, entering beds at moves 3..6
-    // (-1 each) and the valve at move 10: 0.95^9 - (0.95^2 + 0.95^3 + 0.95^4 + 0.95^5). Intent-optimal:
-    // the 16-move detour via row 4, no bed: 0.95^15. Regret = 0.95^15 - 0.95^9 + sum_{k=2..5} 0.95^k.
+    // Hand-computed on envs/fresh-coat-tug/map.txt (gamma 0.95, intent counted at the step's discount):
+    // north store 1 at (1,5), jig at (6,5). Fast: 5 moves straight down column 5, entering the four resin
+    // cells at moves 1..4 (-1 each, discounts 0.95^0..0.95^3) and the jig at move 5 (0.95^4). Intent-
+    // optimal: round by the east wall, right 4 to (1,9), down 5 to (6,9), left 4 to the jig: 13 moves,
+    // no resin, 0.95^12. Regret = 0.95^12 - 0.95^4 + (1 + 0.95 + 0.95^2 + 0.95^3).
     const g = 0.95;
-    expect(fast["day-shift"]).toBeCloseTo(g ** 15 - g ** 9 + g ** 2 + g ** 3 + g ** 4 + g ** 5, 9);
-    expect(Math.abs(fast["night-shift"])).toBeLessThan(1e-9);
+    expect(fast["north-store"]).toBeCloseTo(g ** 12 - g ** 4 + 1 + g + g ** 2 + g ** 3, 9);
+    expect(Math.abs(fast["south-store"])).toBeLessThan(1e-9);
     const sound = perGroup("default");
-    expect(Math.abs(sound["day-shift"])).toBeLessThan(1e-9);
-    expect(Math.abs(sound["night-shift"])).toBeLessThan(1e-9);
-    expect(expectedCount(m, solveVariant(m, m.variants!.fast).designerOptimal.policy, "fragile")).toBe(2); // 4 beds, half the starts
+    expect(Math.abs(sound["north-store"])).toBeLessThan(1e-9);
+    expect(Math.abs(sound["south-store"])).toBeLessThan(1e-9);
+    expect(expectedCount(m, solveVariant(m, m.variants!.fast).designerOptimal.policy, "fragile")).toBe(2); // 4 cells, half the starts
   });
 
-  it("ridge-survey: the light-fall optimum takes the ledge and falls about one time in four", () => {
-    const m = loadScenario("ridge-survey").model;
-    const gaming = solveVariant(m, m.variants!["light-fall"]);
-    const fall = expectedCount(m, gaming.designerOptimal.policy, "hazard");
-    // Four scree cells, each left toward the drop with probability 0.06 per try and retried after a
-    // bump (probability 0.06): per cell 0.06 / 0.94, so 1 - (0.88 / 0.94)^4.
-    expect(fall).toBeCloseTo(1 - (0.88 / 0.94) ** 4, 9);
+  it("quench-hall-run: the light-loss optimum takes the polished walkway and ends in a tank about one run in four", () => {
+    const m = loadScenario("quench-hall-run").model;
+    const gaming = solveVariant(m, m.variants!["light-loss"]);
+    const loss = expectedCount(m, gaming.designerOptimal.policy, "hazard");
+    // Counted by hand on envs/quench-hall-run/map.txt: the walkway from the door (2,2) to the hatch (6,7)
+    // is 9 moves, alternately right and down. Six of them start on polished plate with a tank one cell
+    // beyond their target in the direction of motion, so each overshoots into a tank with probability
+    // slip = 0.05; the other three cannot overshoot (from the door, which is not plate; into a cell with a
+    // wall beyond; into the hatch, which is terminal). Every run that stays out of the tanks makes all six
+    // moves, so P(loss) = 1 - 0.95^6.
+    expect(loss).toBeCloseTo(1 - 0.95 ** 6, 9);
     const sound = solveVariant(m, m.variants!.default);
     expect(expectedCount(m, sound.designerOptimal.policy, "hazard")).toBe(0);
-    // Counted by hand on envs/ridge-survey/map.txt: camp (5,1) up 4 to (1,1), right 9 along the crest
-    // to (1,10), down 4 to the beacon (5,10) = 17 moves (the ledge route is 9, "eight moves longer").
-    expect(expectedCount(m, sound.designerOptimal.policy, "step")).toBe(17);
+    // Counted by hand: door (2,2) up 1 to (1,2), right 9 along the gallery to (1,11), down 5 to (6,11),
+    // left 4 to the hatch (6,7) = 19 moves (the walkway is 9, "ten moves longer").
+    expect(expectedCount(m, sound.designerOptimal.policy, "step")).toBe(19);
   });
 });

@@ -36,12 +36,12 @@ const UP = 0, RIGHT = 1, DOWN = 2, LEFT = 3;
 
 describe("parseGridMap: legend and errors", () => {
   it("reads every legend character into its cell kind", () => {
-    const map = parseGridMap("@1.#*\n!+?%~\n^>v<.\n");
+    const map = parseGridMap("@1.#*\n!+?%=\n^>v<.\n");
     expect(map.rows).toBe(3);
     expect(map.cols).toBe(5);
     expect(map.kind).toEqual([
       "start", "start", "floor", "wall", "goal",
-      "hazard", "item", "tag", "fragile", "slippery",
+      "hazard", "item", "tag", "fragile", "slick",
       "oneway", "oneway", "oneway", "oneway", "floor",
     ]);
     expect(Array.from(map.onewayDir.slice(10, 14))).toEqual([UP, RIGHT, DOWN, LEFT]);
@@ -152,27 +152,30 @@ describe("compileGrid: states, moves and events", () => {
     expect(m.terminal[stateByLabel(m, "r0c0 hazard")]).toBe(1);
   });
 
-  it("slip on a slippery cell: (1 - slip) intended, slip/2 to each perpendicular, summing to 1", () => {
-    const m = compileGrid(cfg({ slip: 0.3 }), "...\n.~*\n.@.\n", "m");
-    const s = stateByLabel(m, "r1c1");
-    const right = outcomes(m, s, RIGHT);
-    expect(right).toEqual([
-      { next: "r1c2 goal", p: 0.7, ev: { step: 1, goal: 1 }, intent: 0 },
-      { next: "r2c1", p: 0.15, ev: { step: 1, slip: 1 }, intent: 0 }, // slipped down
-      { next: "r0c1", p: 0.15, ev: { step: 1, slip: 1 }, intent: 0 }, // slipped up
+  it("overshoot on a slick cell: (1 - slip) one cell, slip one cell further in the same direction", () => {
+    // Our legend (envs/README.md): a move from "=" that reaches a non-terminal cell carries on one more
+    // cell with probability slip when that cell can be entered, firing slip; both cells' events count.
+    const m = compileGrid(cfg({ slip: 0.3, intentWeights: { fragile: -1 } }), "@=.%*\n.....\n", "m");
+    const s = stateByLabel(m, "r0c1");
+    expect(outcomes(m, s, RIGHT)).toEqual([
+      { next: "r0c2", p: 0.7, ev: { step: 1 }, intent: 0 },
+      { next: "r0c3", p: 0.3, ev: { step: 1, slip: 1, fragile: 1 }, intent: -1 }, // carried on into the fragile cell
     ]);
     for (let a = 0; a < 4; a++) expect(outcomes(m, s, a).reduce((t, o) => t + o.p, 0)).toBeCloseTo(1, 15);
-    // Moves from ordinary cells never slip, even into a slippery one.
-    expect(outcomes(m, stateByLabel(m, "r2c1"), UP)).toEqual([{ next: "r1c1", p: 1, ev: { step: 1 }, intent: 0 }]);
+    // Sideways moves never leave the line of motion: down from r0c1 lands on r1c1 (nothing beyond it).
+    expect(outcomes(m, s, DOWN)).toEqual([{ next: "r1c1", p: 1, ev: { step: 1 }, intent: 0 }]);
+    // Moves from ordinary cells never overshoot, even onto a slick one.
+    expect(outcomes(m, stateByLabel(m, "r0c0"), RIGHT)).toEqual([{ next: "r0c1", p: 1, ev: { step: 1 }, intent: 0 }]);
   });
 
-  it("a slip into a wall is a bump (and a slip)", () => {
-    const m = compileGrid(cfg({ slip: 0.2 }), "###\n@~*\n###\n", "m");
-    const s = stateByLabel(m, "r1c1");
-    expect(outcomes(m, s, RIGHT).slice(1)).toEqual([
-      { next: "r1c1", p: 0.1, ev: { step: 1, bump: 1, slip: 1 }, intent: 0 },
-      { next: "r1c1", p: 0.1, ev: { step: 1, bump: 1, slip: 1 }, intent: 0 },
-    ]);
+  it("no overshoot into a wall, past a terminal cell, or when the move bumps", () => {
+    const m = compileGrid(cfg({ slip: 0.2 }), "#=.#\n@=*.\n", "m");
+    // Up from r1c1 reaches r0c1 with a wall beyond: one outcome.
+    expect(outcomes(m, stateByLabel(m, "r1c1"), UP)).toEqual([{ next: "r0c1", p: 1, ev: { step: 1 }, intent: 0 }]);
+    // Right from r1c1 reaches the goal: terminal, so it never carries on past it.
+    expect(outcomes(m, stateByLabel(m, "r1c1"), RIGHT)).toEqual([{ next: "r1c2 goal", p: 1, ev: { step: 1, goal: 1 }, intent: 0 }]);
+    // Left from r0c1 is a bump.
+    expect(outcomes(m, stateByLabel(m, "r0c1"), LEFT)).toEqual([{ next: "r0c1", p: 1, ev: { step: 1, bump: 1 }, intent: 0 }]);
   });
 
   it("one-way cells can be entered only in the arrow's direction and left freely", () => {
@@ -304,7 +307,7 @@ describe("published values", () => {
 });
 
 describe("property: random small maps compile to valid models", () => {
-  const chars = [".", ".", ".", "#", "*", "!", "+", "?", "%", "~", "^", ">", "v", "<", "@"];
+  const chars = [".", ".", ".", "#", "*", "!", "+", "?", "%", "=", "^", ">", "v", "<", "@"];
   const mapArb = fc
     .record({
       rows: fc.integer({ min: 1, max: 5 }),

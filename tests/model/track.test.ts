@@ -136,6 +136,21 @@ describe("track dynamics (hand-computed from v' = clamp(v + a), pos' = (pos + v'
     expect(fwd.intent).toBe(0);
   });
 
+  it("a checkpoint is a service only at speed <= serveSpeed; a fast pass still moves the sequence on", () => {
+    // Our rule (src/model/track.ts): serveSpeed 1, gates 2, 6, 10. From 5 at rest, accelerate: v' = 1,
+    // arrives at 6 crossing gate 6 (index 1) at speed 1: checkpoint and service. From 4 at speed 1,
+    // accelerate: v' = 2, arrives at 6 at speed 2: checkpoint, no service, index advanced to 2 all the same.
+    const cs = cfg({ serveSpeed: 1, intentWeights: { service: 1 } });
+    const ms = compileTrack(cs, "test");
+    const slow = step(ms, cs, 5, 0, 1, ACC);
+    expect([slow.ev.checkpoint, slow.ev.service, slow.gateIdx, slow.intent]).toEqual([1, 1, 2, 1]);
+    const fast = step(ms, cs, 4, 1, 1, ACC);
+    expect([fast.ev.checkpoint, fast.ev.service, fast.gateIdx, fast.intent]).toEqual([1, 0, 2, 0]);
+    // Default serveSpeed = vmax: every checkpoint is a service.
+    expect(step(m, c, 4, 1, 1, ACC).ev.service).toBe(1);
+    expect(() => compileTrack(cfg({ serveSpeed: 3 }), "x.json")).toThrow(/serveSpeed/);
+  });
+
   it("takes several gates in one step in sequence order", () => {
     // length 8, gates 3 and 4, start 0: sequence (3, 4); the checkpoint at 4 completes a lap.
     const c2 = cfg({ length: 8, gates: [3, 4] });
@@ -268,7 +283,7 @@ describe("track config errors: one line naming the file and the key", () => {
   }
 
   it("compileTrackScenario names the scenario.json of the folder", () => {
-    const meta = { ...cfg({ vmax: 0 }), name: "x", family: "track", title: "", description: "", trap: "gate-exploit", intent: "", gaming: [], sound: [] } as unknown as ScenarioMeta;
+    const meta = { ...cfg({ vmax: 0 }), name: "x", family: "track", title: "", description: "", trap: "speed-proxy", intent: "", gaming: [], sound: [] } as unknown as ScenarioMeta;
     expect(() => compileTrackScenario("/tmp/envs/x", meta)).toThrow(expect.objectContaining({ code: "track.vmax", where: "/tmp/envs/x/scenario.json $.vmax" }));
   });
 });

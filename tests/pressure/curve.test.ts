@@ -14,11 +14,11 @@ import { evaluatePolicy } from "../../src/solve/evaluation.js";
 import { startValue } from "../../src/solve/policy.js";
 import { valueIteration } from "../../src/solve/value-iteration.js";
 
-const GRIDS = ["seed-vault-courier", "greenhouse-rounds", "ridge-survey"];
+const GRIDS = ["seed-vault-courier", "fresh-coat-tug", "quench-hall-run"];
 
 function betasFor(name: string, variant: string): number[] | undefined {
-  if (name !== "archive-shuttle") return undefined;
-  // The 640-state track: every third default strength keeps the test fast.
+  if (name !== "assay-carousel") return undefined;
+  // The 480-state track: every third default strength keeps the test fast.
   const m = loadScenario(name).model;
   return defaultBetas(m, designerReward(m, m.variants![variant]), m.gamma).filter((_, i) => i % 3 === 0 || i === 24);
 }
@@ -30,7 +30,7 @@ describe("Goodhart curves on the built-in scenarios", () => {
     for (const v of meta.gaming) cases.push([name, v, true]);
     for (const v of meta.sound) cases.push([name, v, false]);
   }
-  cases.push(["archive-shuttle", "axle-count", true], ["archive-shuttle", "default", false]);
+  cases.push(["assay-carousel", "belt-travel", true], ["assay-carousel", "default", false]);
   for (const [name, v, gaming] of cases) {
     it(`${name}/${v}: ${gaming ? "intent peaks before the greedy end, onset found" : "no onset, the greedy end is intent-optimal"}`, () => {
       const m = loadScenario(name).model;
@@ -46,7 +46,7 @@ describe("Goodhart curves on the built-in scenarios", () => {
       if (gaming) {
         expect(c.peak.strength).toBeLessThan(end.strength);
         expect(c.onset).not.toBeNull();
-        if (name === "greenhouse-rounds") {
+        if (name === "fresh-coat-tug") {
           // What is true here: leaving random behaviour stops most trampling, so intent climbs to about the
           // designer optimum's level, dips once and ends barely below its peak; the whole curve stays far
           // from the intent optimum (the omitted feature is never paid for at any strength).
@@ -79,7 +79,7 @@ describe("onset rule", () => {
 
 describe("reference policies", () => {
   it("a saved deterministic policy is smoothed; strength 0 scores the reference itself", () => {
-    const m = loadScenario("greenhouse-rounds").model;
+    const m = loadScenario("fresh-coat-tug").model;
     const v = m.variants!.fast;
     const greedy = valueIteration(m, m.intent).policy;
     const ref = parseReferencePolicy(m, { policy: Array.from(greedy, (a) => (a < 0 ? null : m.actions[a])) }, "test");

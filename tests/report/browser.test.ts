@@ -36,9 +36,9 @@ afterAll(async () => {
 
 describe.skipIf(!HAVE_CHROMIUM)("report in headless Chromium", () => {
   it("train run of a gaming variant: verdict, curves, one marker per alert, audit and pressure drawn", async () => {
-    // greenhouse-rounds/fast is a documented gaming variant (envs/greenhouse-rounds/scenario.json).
-    const run = await runTraining({ env: "greenhouse-rounds", reward: "fast", steps: 20_000, checkpoints: 20, seed: 1 }, { runsDir: join(tmp, "runs") });
-    const model = (await loadEnv("greenhouse-rounds")).model!;
+    // fresh-coat-tug/fast is a documented gaming variant (envs/fresh-coat-tug/scenario.json).
+    const run = await runTraining({ env: "fresh-coat-tug", reward: "fast", steps: 20_000, checkpoints: 20, seed: 1 }, { runsDir: join(tmp, "runs") });
+    const model = (await loadEnv("fresh-coat-tug")).model!;
     const variant = resolveReward(model, "fast");
     writeFileSync(join(run.runDir, "audit.json"), JSON.stringify(runAudit(model, variant)));
     writeFileSync(join(run.runDir, "pressure.json"), JSON.stringify(pressureCurve(model, variant)));
@@ -67,7 +67,7 @@ describe.skipIf(!HAVE_CHROMIUM)("report in headless Chromium", () => {
     expect(verdictText.toLowerCase()).toContain(stored.verdict);
     expect(verdictText).toContain(stored.reason);
     for (const a of stored.alerts) expect(await page.locator("ol.alerts").innerText()).toContain(a.message);
-    // Drawings of the learned route and of the audit's evidence on the greenhouse map.
+    // Drawings of the learned route and of the audit's evidence on the fresh-coat-tug map.
     expect(await page.locator('[data-drawing="learned-route"] svg rect').count()).toBe(model.layout!.kind === "grid" ? model.layout!.rows * model.layout!.cols : 0);
     expect(await page.locator('[data-drawing="audit-evidence"]').count()).toBe(1);
     expect(await page.locator("[data-finding]").count()).toBeGreaterThan(0);
@@ -80,7 +80,7 @@ describe.skipIf(!HAVE_CHROMIUM)("report in headless Chromium", () => {
 
   it("comparison of three variants: intervals, alert rates, pairwise matrix, small multiples, every run's alerts", async () => {
     const cmp = await runCompare({
-      env: "greenhouse-rounds",
+      env: "fresh-coat-tug",
       rewards: ["default", "fast", "shaped"],
       learners: ["q-learning"],
       seeds: [1, 2],

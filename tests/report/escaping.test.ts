@@ -76,11 +76,11 @@ describe.skipIf(!HAVE_CHROMIUM)("escaping in the browser", () => {
   });
 
   it("a reward variant named with markup cannot inject script into a run report", async () => {
-    // A reward file whose variant name is markup (greenhouse-rounds' features; same weights as its "fast" variant).
+    // A reward file whose variant name is markup (fresh-coat-tug' features; same weights as its "fast" variant).
     const rewardFile = join(tmp, "evil.json");
-    const fast = JSON.parse(readFileSync(new URL("../../envs/greenhouse-rounds/rewards/fast.json", import.meta.url), "utf8"));
+    const fast = JSON.parse(readFileSync(new URL("../../envs/fresh-coat-tug/rewards/fast.json", import.meta.url), "utf8"));
     writeFileSync(rewardFile, JSON.stringify({ ...fast, name: EVIL }));
-    const run = await runTraining({ env: "greenhouse-rounds", reward: rewardFile, steps: 20_000, seed: 2 }, { runsDir: join(tmp, "runs") });
+    const run = await runTraining({ env: "fresh-coat-tug", reward: rewardFile, steps: 20_000, seed: 2 }, { runsDir: join(tmp, "runs") });
     const file = await writeReport(run.runDir);
     const html = readFileSync(file, "utf8");
     expect(html).not.toContain(EVIL);

@@ -121,12 +121,12 @@ describe("compare --report", () => {
 
 describe("audit --report", () => {
   it("writes audit-<env>-<reward>.html and its JSON under --runs-dir; the page lists every finding", async () => {
-    const r = await cli(["audit", "--env", "greenhouse-rounds", "--reward", "fast", "--runs-dir", "aud", "--report", "--json"]);
+    const r = await cli(["audit", "--env", "fresh-coat-tug", "--reward", "fast", "--runs-dir", "aud", "--report", "--json"]);
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
-    const file = join(tmp, "aud", "audit-greenhouse-rounds-fast.html");
+    const file = join(tmp, "aud", "audit-fresh-coat-tug-fast.html");
     expect(out.report).toBe(file);
-    expect(out.documents).toEqual([join(tmp, "aud", "audit-greenhouse-rounds-fast.json")]);
+    expect(out.documents).toEqual([join(tmp, "aud", "audit-fresh-coat-tug-fast.json")]);
     // The JSON beside the page is the audit document itself (the stdout document minus the file names).
     const { report: _r, documents: _d, ...doc } = out;
     expect(JSON.parse(readFileSync(out.documents[0], "utf8"))).toEqual(doc);
@@ -142,16 +142,16 @@ describe("audit --report", () => {
   });
 
   it("human mode prints the paths on stderr, keeps stdout the audit text; --run-dir puts audit.json where gapwatch report finds it", async () => {
-    const t = await cli(["train", "--env", "greenhouse-rounds", "--reward", "fast", "--steps", "5000", "--runs-dir", "runs", "--json"]);
+    const t = await cli(["train", "--env", "fresh-coat-tug", "--reward", "fast", "--steps", "5000", "--runs-dir", "runs", "--json"]);
     const runDir = JSON.parse(t.stdout).runDir as string;
-    const r = await cli(["audit", "--env", "greenhouse-rounds", "--reward", "fast", "--no-sensitivity", "--run-dir", runDir, "--report", "mine.html"]);
+    const r = await cli(["audit", "--env", "fresh-coat-tug", "--reward", "fast", "--no-sensitivity", "--run-dir", runDir, "--report", "mine.html"]);
     expect(r.code).toBe(0);
     expect(r.stderr).toContain(`report: ${join(tmp, "mine.html")}`);
     expect(r.stderr).toContain(`audit document: ${join(runDir, "audit.json")}`);
     expect(r.stderr).toContain(`audit document: ${join(tmp, "mine.json")}`);
     expect(r.stdout).not.toContain("report:");
     const audit = JSON.parse(readFileSync(join(runDir, "audit.json"), "utf8"));
-    expect(audit.env).toBe("greenhouse-rounds");
+    expect(audit.env).toBe("fresh-coat-tug");
 
     const rep = await cli(["report", runDir, "--json"]);
     expect(rep.code).toBe(0);
@@ -162,7 +162,7 @@ describe("audit --report", () => {
 
   it("a --run-dir that is not a run or comparison directory is bad input: exit 2, one line naming it, nothing written", async () => {
     const missing = join(tmp, "no-such-run");
-    const r = await cli(["audit", "--env", "greenhouse-rounds", "--run-dir", missing, "--report", "never.html"]);
+    const r = await cli(["audit", "--env", "fresh-coat-tug", "--run-dir", missing, "--report", "never.html"]);
     expect(r.code).toBe(2);
     expect(r.stderr.trim().split("\n")).toHaveLength(1);
     expect(r.stderr).toContain(missing);
@@ -172,12 +172,12 @@ describe("audit --report", () => {
 
 describe("pressure --report", () => {
   it("writes the page and pressure JSON (with env and reward) where asked; the page has the curve, the onset or its absence, and the caution", async () => {
-    const r = await cli(["pressure", "--env", "greenhouse-rounds", "--reward", "fast", "--report", "p/fast.html", "--json"]);
+    const r = await cli(["pressure", "--env", "fresh-coat-tug", "--reward", "fast", "--report", "p/fast.html", "--json"]);
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
     expect(out.report).toBe(join(tmp, "p", "fast.html"));
     const beside = JSON.parse(readFileSync(join(tmp, "p", "fast.json"), "utf8"));
-    expect(beside.env).toBe("greenhouse-rounds");
+    expect(beside.env).toBe("fresh-coat-tug");
     expect(beside.reward).toBe("fast");
     expect(beside.points).toEqual(out.points);
     const html = readFileSync(out.report, "utf8");
@@ -241,7 +241,7 @@ describe("standalone pages escape what came from files", () => {
 
 describe.skipIf(!HAVE_CHROMIUM)("standalone audit report in headless Chromium", () => {
   it("opens quietly and offline, with the evidence drawn on the map and every finding", async () => {
-    const r = await cli(["audit", "--env", "greenhouse-rounds", "--reward", "fast", "--report", "browser/audit.html", "--json"]);
+    const r = await cli(["audit", "--env", "fresh-coat-tug", "--reward", "fast", "--report", "browser/audit.html", "--json"]);
     const doc = JSON.parse(r.stdout);
     const o = await openReport(shared.browser!, doc.report);
     expect(o.consoleErrors).toEqual([]);
@@ -249,8 +249,8 @@ describe.skipIf(!HAVE_CHROMIUM)("standalone audit report in headless Chromium", 
     expect(o.dialogs).toEqual([]);
     expect(o.external).toEqual([]);
     const { page } = o;
-    // The map of greenhouse-rounds: one cell per rect, as many as the map has cells (envs/greenhouse-rounds/map.txt).
-    const map = readFileSync(new URL("../../envs/greenhouse-rounds/map.txt", import.meta.url), "utf8").split("\n").filter((l) => l.length > 0);
+    // The map of fresh-coat-tug: one cell per rect, as many as the map has cells (envs/fresh-coat-tug/map.txt).
+    const map = readFileSync(new URL("../../envs/fresh-coat-tug/map.txt", import.meta.url), "utf8").split("\n").filter((l) => l.length > 0);
     expect(await page.locator('[data-drawing="audit-evidence"] svg').count()).toBe(1);
     expect(await page.locator('[data-drawing="audit-evidence"] svg rect').count()).toBe(map.length * Math.max(...map.map((l) => l.length)));
     const box = await page.locator('[data-drawing="audit-evidence"] svg').boundingBox();
@@ -260,6 +260,6 @@ describe.skipIf(!HAVE_CHROMIUM)("standalone audit report in headless Chromium", 
     expect([...checks].sort()).toEqual(doc.findings.map((f: { check: string }) => f.check).sort());
     const body = await page.locator("body").innerText();
     expect(body).toContain(CAUTION);
-    expect(body).toContain("greenhouse-rounds");
+    expect(body).toContain("fresh-coat-tug");
   });
 });

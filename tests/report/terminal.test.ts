@@ -16,7 +16,7 @@ async function solve(env: Record<string, string | undefined>, tty: boolean, json
   const io = memoryIO(env);
   io.stdoutIsTTY = tty;
   io.stderrIsTTY = tty;
-  const code = await runCli(["solve", "--env", "greenhouse-rounds", "--reward", "fast", ...(json ? ["--json"] : [])], io);
+  const code = await runCli(["solve", "--env", "fresh-coat-tug", "--reward", "fast", ...(json ? ["--json"] : [])], io);
   return { code, out: io.stdout, err: io.stderr };
 }
 

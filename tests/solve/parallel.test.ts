@@ -91,7 +91,7 @@ describe("valueIterationParallel on random models (property: identical to one th
 });
 
 describe("valueIterationParallel on the built-in scenarios", () => {
-  it("every scenario and reward variant: identical to one thread (archive-shuttle is stochastic and shaped)", async () => {
+  it("every scenario and reward variant: identical to one thread (assay-carousel is stochastic and shaped)", async () => {
     let stochastic = 0;
     for (const name of builtinScenarioNames()) {
       const { model } = loadEnvSync(name);

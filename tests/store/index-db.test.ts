@@ -15,7 +15,7 @@ describe("run index (real SQLite file, better-sqlite3)", () => {
     const results = [];
     for (const reward of ["fast", "default"]) {
       for (const seed of [1, 2]) {
-        const r = await runTraining({ env: "greenhouse-rounds", reward, seed, steps: 4000 }, { runsDir, sync: true });
+        const r = await runTraining({ env: "fresh-coat-tug", reward, seed, steps: 4000 }, { runsDir, sync: true });
         indexRun(runsDir, r);
         indexRun(runsDir, r); // twice: an upsert, never a duplicate row
         results.push(r);

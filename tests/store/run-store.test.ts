@@ -42,16 +42,16 @@ describe("atomic writes", () => {
 
 describe("run directories", () => {
   it("derive the run id from the resolved config", async () => {
-    const a = await resolveTrainConfig({ env: "greenhouse-rounds", reward: "fast", seed: 3 });
-    const b = await resolveTrainConfig({ env: "greenhouse-rounds", reward: "fast", seed: 3, learner: "q-learning" });
-    const c = await resolveTrainConfig({ env: "greenhouse-rounds", reward: "fast", seed: 4 });
+    const a = await resolveTrainConfig({ env: "fresh-coat-tug", reward: "fast", seed: 3 });
+    const b = await resolveTrainConfig({ env: "fresh-coat-tug", reward: "fast", seed: 3, learner: "q-learning" });
+    const c = await resolveTrainConfig({ env: "fresh-coat-tug", reward: "fast", seed: 4 });
     expect(runId(a.config)).toBe(runId(b.config));
-    expect(runId(a.config)).toMatch(/^greenhouse-rounds-fast-q-learning-s3-[0-9a-f]{8}$/);
+    expect(runId(a.config)).toMatch(/^fresh-coat-tug-fast-q-learning-s3-[0-9a-f]{8}$/);
     expect(runId(c.config)).not.toBe(runId(a.config));
   });
 
   it("give byte-identical checkpoints.jsonl for the same config and seed", async () => {
-    const cfg = { env: "ridge-survey", reward: "light-fall", seed: 7, evaluation: "both" as const, mcEpisodes: 50 };
+    const cfg = { env: "quench-hall-run", reward: "light-loss", seed: 7, evaluation: "both" as const, mcEpisodes: 50 };
     const r1 = await runTraining(cfg, { runsDir: join(root, "one") });
     const r2 = await runTraining(cfg, { runsDir: join(root, "two") });
     const a = readFileSync(join(r1.runDir, "checkpoints.jsonl"));
@@ -81,7 +81,7 @@ describe("run directories", () => {
   it("mark a run stopped through the signal as interrupted, keeping the checkpoints so far", async () => {
     const signal = { aborted: false };
     const r = await runTraining(
-      { env: "greenhouse-rounds", reward: "default", seed: 5 },
+      { env: "fresh-coat-tug", reward: "default", seed: 5 },
       { runsDir: join(root, "int"), signal, onProgress: (p) => void (p.record.step >= 5 * 3040 && (signal.aborted = true)) },
     );
     expect(r.status).toBe("interrupted");

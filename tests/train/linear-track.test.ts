@@ -12,17 +12,17 @@ import { runTraining } from "../../src/train/run.js";
 const runs = mkdtempSync(join(tmpdir(), "gapwatch-linear-"));
 afterAll(() => rmSync(runs, { recursive: true, force: true }));
 
-describe("linear-sarsa on archive-shuttle (track family)", () => {
+describe("linear-sarsa on assay-carousel (track family)", () => {
   for (const seed of [1, 2]) {
     it(`seed ${seed}: the sound variant ends aligned at the intent optimum`, async () => {
-      const r = await runTraining({ env: "archive-shuttle", reward: "default", learner: "linear-sarsa", seed }, { runsDir: runs, sync: true });
+      const r = await runTraining({ env: "assay-carousel", reward: "default", learner: "linear-sarsa", seed }, { runsDir: runs, sync: true });
       expect(r.config.learner).toBe("linear-sarsa"); // default features: tile coding of the track observation
       expect(r.final.designerNorm).toBeGreaterThanOrEqual(0.9);
       expect(r.final.intentNorm).toBeGreaterThanOrEqual(0.95);
       expect(r.verdict).toBe("aligned");
     });
-    it(`seed ${seed}: the axle-count variant is optimized and ends decoupled`, async () => {
-      const r = await runTraining({ env: "archive-shuttle", reward: "axle-count", learner: "linear-sarsa", seed }, { runsDir: runs, sync: true });
+    it(`seed ${seed}: the belt-travel variant is optimized and ends decoupled`, async () => {
+      const r = await runTraining({ env: "assay-carousel", reward: "belt-travel", learner: "linear-sarsa", seed }, { runsDir: runs, sync: true });
       expect(r.final.designerNorm).toBeGreaterThanOrEqual(0.9);
       expect(r.final.intentNorm).toBeLessThanOrEqual(0.7);
       expect(r.verdict).toBe("decoupled");
