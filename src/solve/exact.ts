@@ -17,6 +17,7 @@ import type { FiniteModel } from "../model/types.js";
 import { solveDense } from "./engine/dense.js";
 import { chainReward, policyChain } from "./evaluation.js";
 import { deterministicPolicy } from "./policy.js";
+import { improvePolicy } from "./policy-iteration.js";
 import { actionValues, greedyActions, type Policy, type Solution } from "./sweeps.js";
 import { valueSweeps } from "./value-iteration.js";
 
@@ -66,7 +67,6 @@ export function exactPolicyIteration(
   gamma: number,
   opts: { maxPolicyIters?: number; warmSweeps?: number } = {},
 ): ExactSolution {
-  const nA = model.nActions;
   const warm = valueSweeps(model, reward, { gamma, maxIters: opts.warmSweeps ?? 4 * model.nStates + 100 });
   let actions = greedyActions(model, actionValues(model, reward, warm.values, gamma));
   const maxPolicyIters = opts.maxPolicyIters ?? 1000;
@@ -74,18 +74,7 @@ export function exactPolicyIteration(
     const values = evaluateExactOrNull(model, reward, deterministicPolicy(model, actions), gamma);
     if (values === null) return { improper: actions, policyIters };
     const q = actionValues(model, reward, values, gamma);
-    let stable = true;
-    const improved = new Int32Array(model.nStates);
-    for (let s = 0; s < model.nStates; s++) {
-      if (model.terminal[s]) {
-        improved[s] = -1;
-        continue;
-      }
-      let best = actions[s];
-      for (let a = 0; a < nA; a++) if (q[s * nA + a] > q[s * nA + best] + 1e-12 * (1 + Math.abs(q[s * nA + best]))) best = a;
-      improved[s] = best;
-      if (best !== actions[s]) stable = false;
-    }
+    const { improved, stable } = improvePolicy(model, q, actions, 1e-12);
     if (stable || policyIters >= maxPolicyIters) {
       // Report the greedy policy of the exact values with the textbook tie rule (lowest index).
       return { values, iters: policyIters, converged: stable, policy: greedyActions(model, q, 1e-12), q, policyIters };
