@@ -18,12 +18,17 @@ export interface ReportCommandConfig {
   env?: Record<string, string | undefined>;
 }
 
-/** The opener on PATH (xdg-open), or null. */
+/** Openers looked for on PATH, in order: the desktop's (xdg-open), then the macOS one (open). */
+export const OPENERS = ["xdg-open", "open"] as const;
+
+/** The first opener on PATH (OPENERS), or null. */
 export function findOpener(env: Record<string, string | undefined>): string | null {
-  for (const dir of (env.PATH ?? "").split(delimiter)) {
-    if (!dir) continue;
-    const p = join(dir, "xdg-open");
-    if (existsSync(p)) return p;
+  for (const name of OPENERS) {
+    for (const dir of (env.PATH ?? "").split(delimiter)) {
+      if (!dir) continue;
+      const p = join(dir, name);
+      if (existsSync(p)) return p;
+    }
   }
   return null;
 }

@@ -1,12 +1,16 @@
 /** `gapwatch solve`: solve the designer reward and the intent exactly on the finite model. */
+import { InputError } from "../errors.js";
 import { loadFiniteVariant } from "../env/resolve.js";
 import type { FiniteModel } from "../model/types.js";
 import { solveVariant, type SolveReport } from "../solve/compare.js";
+import { EXACT_GAMMA } from "../solve/exact.js";
 
 export interface SolveConfig {
   env: string;
   reward?: string;
   gamma?: number;
+  /** Iteration cap of the solvers (value-iteration sweeps; policy improvements above gamma 0.999). */
+  maxIters?: number;
   /** State bound when `env` is a simulator module. */
   maxStates?: number;
 }
@@ -42,6 +46,13 @@ export function solveDocument(model: FiniteModel, r: SolveReport) {
 /** Solve; `doc` is what `solve --json` prints, `model` and `report` are for drawing routes. */
 export async function runSolve(cfg: SolveConfig) {
   const { model, variant } = await loadFiniteVariant(cfg.env, cfg.reward, { command: "solve", maxStates: cfg.maxStates });
-  const report = solveVariant(model, variant, { gamma: cfg.gamma });
+  const report = solveVariant(model, variant, { gamma: cfg.gamma, maxIters: cfg.maxIters });
+  if (!report.converged) {
+    const how = report.gamma > EXACT_GAMMA ? "policy iteration did not settle" : "value iteration did not converge";
+    throw new InputError(
+      "solve.notConverged",
+      `${how} within ${cfg.maxIters ?? "the default"} iterations at gamma ${report.gamma}: the values are not exact; raise --max-iters${report.gamma >= 1 ? " or use a discount below 1" : ""}`,
+    );
+  }
   return { model, report, doc: solveDocument(model, report) };
 }

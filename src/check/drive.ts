@@ -38,15 +38,17 @@ export function outcomeKey<S>(def: EnvDefinition<S>, r: Pick<StepResult<S>, "sta
 
 /**
  * Reset with `createRng("check/<seed>")` and play `actions`; stop at the episode's end. With `pad`,
- * keep playing actions 0, 1, 2, ... cyclically after the list runs out until the episode ends.
+ * keep playing actions 0, 1, 2, ... cyclically after the list runs out until the episode ends, or
+ * until `maxSteps` steps (then `episode.done` is false).
  */
-export function play<S>(subject: CheckSubject<S>, seed: number, actions: readonly number[], opts: { validate?: boolean; pad?: boolean } = {}): Trajectory<S> {
+export function play<S>(subject: CheckSubject<S>, seed: number, actions: readonly number[], opts: { validate?: boolean; pad?: boolean; maxSteps?: number } = {}): Trajectory<S> {
   const rng = createRng(`check/${seed}`);
   const episode = new Episode(subject.def, { source: subject.source, validate: opts.validate ?? false });
   const start = episode.reset(rng);
   const steps: Trajectory<S>["steps"] = [];
   const nA = subject.def.actions.length;
-  for (let i = 0; !episode.done; i++) {
+  const maxSteps = opts.maxSteps ?? Infinity;
+  for (let i = 0; !episode.done && i < maxSteps; i++) {
     if (i >= actions.length && !opts.pad) break;
     const a = i < actions.length ? actions[i] : i % nA;
     const from = episode.state;

@@ -15,7 +15,21 @@ export interface PropertyContext {
   seed: number;
   /** fast-check replay path (with `--replay`). */
   path?: string;
+  /** Most steps one padded episode is played for (default DEFAULT_CHECK_STEPS): the wait is bounded by runs x this. */
+  maxSteps?: number;
 }
+
+/** Default per-episode step cap of the padded episodes (`check --max-steps`). */
+export const DEFAULT_CHECK_STEPS = 10_000;
+
+/** Horizons above this are refused before any work (a step limit no episode of a check can reach). */
+export const MAX_CHECK_HORIZON = 100_000_000;
+
+/** The environment's step limit (the episode wrapper's truncation). */
+export const stepLimitOf = (sub: CheckSubject<S>): number => sub.def.horizon ?? sub.model?.horizon ?? 200;
+
+/** Steps a padded episode is played for at most: the step limit, or the check's cap when that is lower. */
+export const stepCapOf = (sub: CheckSubject<S>, ctx: PropertyContext): number => Math.min(stepLimitOf(sub), ctx.maxSteps ?? DEFAULT_CHECK_STEPS);
 
 export interface PropertyResult {
   name: string;
@@ -40,7 +54,7 @@ export interface PropertySpec {
   run(subject: CheckSubject<S>, ctx: PropertyContext): PropertyResult;
 }
 
-export const horizonOf = (sub: CheckSubject<S>) => Math.min(sub.def.horizon ?? sub.model?.horizon ?? 200, 1000);
+export const horizonOf = (sub: CheckSubject<S>) => Math.min(stepLimitOf(sub), 1000);
 
 export function actionsArb(sub: CheckSubject<S>, maxLength = horizonOf(sub)) {
   return fc.array(fc.nat({ max: sub.def.actions.length - 1 }), { maxLength, size: "max" });

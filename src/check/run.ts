@@ -3,8 +3,9 @@
  * the report document. Pure apart from loading the environment.
  */
 import { InputError } from "../errors.js";
+import { shellQuote as quote } from "../util/shell.js";
 import { loadEnv } from "../env/resolve.js";
-import type { PropertyResult } from "./harness.js";
+import { MAX_CHECK_HORIZON, stepLimitOf, type PropertyResult } from "./harness.js";
 import { propertiesFor } from "./property-list.js";
 import { subjectOf, type CheckSubject } from "./subject.js";
 
@@ -16,6 +17,10 @@ export interface CheckOptions {
   /** fast-check path of a counterexample to replay. */
   replay?: string;
   maxStates?: number;
+  /** Command prefix of the printed replay command (default "gapwatch"; the CLI passes how it was started). */
+  invocation?: string;
+  /** Per-episode step cap of the padded episodes (default DEFAULT_CHECK_STEPS). */
+  maxSteps?: number;
 }
 
 export interface CheckReport {
@@ -24,18 +29,20 @@ export interface CheckReport {
   runs: number;
   properties: (PropertyResult & { replay?: string })[];
   passed: boolean;
+  /** The one property that ran (`--property`), else undefined: all of them ran. */
+  only?: string;
 }
 
 export const DEFAULT_CHECK_RUNS = 100;
 export const DEFAULT_CHECK_SEED = 1;
 
-function quote(s: string): string {
-  return /^[\w./:@-]+$/.test(s) ? s : `'${s.replace(/'/g, "'\\''")}'`;
-}
-
 export function checkSubject(subject: CheckSubject, opts: CheckOptions = {}): CheckReport {
   const runs = opts.runs ?? DEFAULT_CHECK_RUNS;
   const seed = opts.seed ?? DEFAULT_CHECK_SEED;
+  const limit = stepLimitOf(subject);
+  if (!(limit <= MAX_CHECK_HORIZON)) {
+    throw new InputError("check.horizon", `the step limit (horizon) ${limit} of ${subject.source} is beyond what check plays (at most ${MAX_CHECK_HORIZON}); set a smaller horizon`, subject.source);
+  }
   let props = propertiesFor(subject);
   if (opts.replay !== undefined && opts.property === undefined) throw new InputError("cli.replay", "--replay needs --property <name> (the property whose counterexample it replays)", "--replay");
   if (opts.property !== undefined) {
@@ -44,14 +51,14 @@ export function checkSubject(subject: CheckSubject, opts: CheckOptions = {}): Ch
     props = one;
   }
   const results = props.map((p) => {
-    const r = p.run(subject, { runs, seed, path: opts.replay });
+    const r = p.run(subject, { runs, seed, path: opts.replay, maxSteps: opts.maxSteps });
     const replay =
       r.status === "failed" && r.path !== undefined
-        ? `gapwatch check --env ${quote(subject.spec)} --runs ${runs} --seed ${seed} --property ${quote(p.name)} --replay ${quote(r.path)}`
+        ? `${opts.invocation ?? "gapwatch"} check --env ${quote(subject.spec)} --runs ${runs} --seed ${seed}${opts.maxSteps === undefined ? "" : ` --max-steps ${opts.maxSteps}`} --property ${quote(p.name)} --replay ${quote(r.path)}`
         : undefined;
     return replay ? { ...r, replay } : r;
   });
-  return { env: subject.spec, seed, runs, properties: results, passed: results.every((r) => r.status !== "failed") };
+  return { env: subject.spec, seed, runs, properties: results, passed: results.every((r) => r.status !== "failed"), only: opts.property };
 }
 
 export async function runCheck(spec: string, opts: CheckOptions = {}): Promise<CheckReport> {

@@ -11,6 +11,8 @@ export interface CliIO {
   stderrIsTTY: boolean;
   env: Record<string, string | undefined>;
   cwd: string;
+  /** The script node ran (process.argv[1]), for printing commands that work as printed. */
+  script?: string;
 }
 
 export function processIO(): CliIO {
@@ -21,6 +23,7 @@ export function processIO(): CliIO {
     stderrIsTTY: Boolean(process.stderr.isTTY),
     env: process.env,
     cwd: process.cwd(),
+    script: process.argv[1],
   };
 }
 

@@ -15,6 +15,15 @@ export const rewardOption = (): Option => new Option("--reward <reward>", "rewar
 
 export const maxStatesOption = (): Option => new Option("--max-states <n>", `state bound when compiling a simulator module (default ${DEFAULT_MAX_STATES})`);
 
+/** `--max-iters`: the solvers' iteration cap (value-iteration sweeps; policy improvements near gamma = 1). */
+export const maxItersOption = (): Option =>
+  new Option("--max-iters <n>", "cap on value-iteration sweeps (default grows as 1/(1-gamma)); above gamma 0.999 the solve is policy iteration with exact linear solves and this caps its improvement steps");
+
+/** `--max-iters` as a number, or undefined for the solver's default. */
+export function maxItersOf(opts: { maxIters?: string }): number | undefined {
+  return opts.maxIters === undefined ? undefined : intOption(opts.maxIters, "--max-iters", { min: 1, max: 100_000_000 });
+}
+
 export const jsonOption = (): Option => new Option("--json", "print one JSON document");
 
 /** `--runs-dir`; `role` says what the folder is for in this command. */

@@ -8,9 +8,12 @@
  * The uniform-random values come from the fixed-point evaluator (`accuracy` = FIXED_POINT_ACCURACY,
  * within 1e-9 of v_pi in every state, guaranteed for gamma < 1), not from textbook sweeps.
  */
+import { InputError } from "../errors.js";
+import { likelyStart, tracePolicy } from "../model/likely-path.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY } from "./evaluation.js";
+import { EXACT_GAMMA, evaluateExact, exactPolicyIteration } from "./exact.js";
 import { deterministicPolicy, startValue, uniformPolicy } from "./policy.js";
 import type { Solution, SolveOptions } from "./sweeps.js";
 import { valueIteration } from "./value-iteration.js";
@@ -32,6 +35,8 @@ export interface SolveReport {
   random: { designer: number; intent: number };
   regret: number;
   regretNorm: number;
+  /** Both optima converged (value iteration within its sweep cap, or policy iteration stable). */
+  converged: boolean;
 }
 
 /** Normalize so that 0 = uniform-random and 1 = optimal; NaN-safe when the range is ~0. */
@@ -58,6 +63,23 @@ export interface Optima {
 export function solveOptima(model: FiniteModel, rd: Float64Array, opts: SolveOptions = {}): Optima {
   const gamma = opts.gamma ?? model.gamma;
   const o = { ...opts, gamma };
+  if (gamma > EXACT_GAMMA && gamma < 1) {
+    // Near 1 value iteration needs ~1/(1 - gamma) sweeps: policy iteration with exact linear solves.
+    const designer = exactOptimum(model, rd, gamma, opts.maxIters);
+    const intent = exactOptimum(model, model.intent, gamma, opts.maxIters);
+    const uniform = uniformPolicy(model);
+    const random = { designer: startValue(model, evaluateExact(model, rd, uniform, gamma)), intent: startValue(model, evaluateExact(model, model.intent, uniform, gamma)) };
+    return { gamma, designer, intent, random };
+  }
+  if (gamma >= 1) {
+    // Undiscounted: value iteration converges when every policy worth following ends; values that
+    // still move after UNDISCOUNTED_SWEEPS sweeps come from a loop that pays forever.
+    const maxIters = opts.maxIters ?? UNDISCOUNTED_SWEEPS;
+    for (const [reward, what] of [[rd, "designer reward"], [model.intent, "intent"]] as const) {
+      const v = valueIteration(model, reward, { ...o, maxIters });
+      if (!v.converged) throw unboundedError(model, v.policy, gamma, what, maxIters);
+    }
+  }
   const designer = valueIteration(model, rd, o);
   const intent = valueIteration(model, model.intent, o);
   // The uniform-random reference only needs v_pi's fixed point: computed to within
@@ -74,8 +96,9 @@ export function solveVariant(model: FiniteModel, variant: RewardVariant, opts: S
   const { designer: dOpt, intent: iOpt, random } = solveOptima(model, rd, o);
   const dPol = deterministicPolicy(model, dOpt.policy);
   const iPol = deterministicPolicy(model, iOpt.policy);
-  const intentOfDesignerOpt = startValue(model, evaluatePolicy(model, ri, dPol, o).values);
-  const designerOfIntentOpt = startValue(model, evaluatePolicy(model, rd, iPol, o).values);
+  const exact = gamma > EXACT_GAMMA && gamma < 1;
+  const intentOfDesignerOpt = startValue(model, exact ? evaluateExact(model, ri, dPol, gamma) : evaluatePolicy(model, ri, dPol, o).values);
+  const designerOfIntentOpt = startValue(model, exact ? evaluateExact(model, rd, iPol, gamma) : evaluatePolicy(model, rd, iPol, o).values);
   const intentBest = startValue(model, iOpt.values);
   const regret = intentBest - intentOfDesignerOpt;
   const range = intentBest - random.intent;
@@ -89,5 +112,32 @@ export function solveVariant(model: FiniteModel, variant: RewardVariant, opts: S
     random,
     regret,
     regretNorm: Math.abs(range) < 1e-12 ? 0 : regret / range,
+    converged: dOpt.converged && iOpt.converged,
   };
+}
+
+/** Default sweep cap of `solveOptima` at gamma = 1 (built-ins converge within 1,000). */
+export const UNDISCOUNTED_SWEEPS = 20_000;
+
+/** Loops of more states than this are shown by their first states and "...". */
+const LOOP_SHOWN = 6;
+
+/** Value iteration at gamma = 1 did not settle: name the loop the greedy policy follows from the start. */
+function unboundedError(model: FiniteModel, actions: Int32Array, gamma: number, what: string, sweeps: number): InputError {
+  const t = tracePolicy(model, actions, likelyStart(model), model.nStates + 1);
+  const label = (s: number) => model.stateLabels[s] ?? String(s);
+  const cycle = t.loopStart >= 0 ? t.states.slice(t.loopStart) : [];
+  const shown = cycle.length > LOOP_SHOWN ? [...cycle.slice(0, LOOP_SHOWN).map(label), `... (${cycle.length} states)`] : [...cycle, cycle[0]].map(label);
+  const loop = cycle.length > 0 ? ` (from the start it loops ${shown.join(" -> ")})` : "";
+  return new InputError(
+    "solve.unbounded",
+    `with gamma ${gamma} the ${what}'s values still grow after ${sweeps} sweeps: a loop that pays keeps its return growing without end${loop}; use a discount below 1 (--gamma 0.99), remove the loop that pays, or raise --max-iters if the values are only slow to settle`,
+  );
+}
+
+/** Exact optimum for EXACT_GAMMA < gamma < 1 by policy iteration over linear solves. */
+function exactOptimum(model: FiniteModel, reward: Float64Array, gamma: number, maxPolicyIters?: number): Solution {
+  const r = exactPolicyIteration(model, reward, gamma, { maxPolicyIters });
+  if (r.improper) throw new Error(`singular policy system at gamma ${gamma} < 1`); // cannot happen: I - gamma P is invertible
+  return r;
 }

@@ -31,6 +31,18 @@ describe("gapwatch report", () => {
     expect(await runCli(["report", run.runDir, "--out", out, "--json"], io2)).toBe(0);
     expect(JSON.parse(io2.stdout)).toEqual({ report: out, opened: false });
     expect(existsSync(out)).toBe(true);
+
+    // --open with no opener on PATH (an empty folder): one line on stderr with the file, exit 0,
+    // also with --json (whose stdout stays the one document).
+    const noPath = join(tmp, "no-openers");
+    mkdirSync(noPath);
+    for (const json of [[], ["--json"]]) {
+      const io3 = memoryIO({ PATH: noPath });
+      expect(await runCli(["report", run.runDir, "--out", out, "--open", ...json], io3)).toBe(0);
+      expect(io3.stderr.trim().split("\n")).toHaveLength(1);
+      expect(io3.stderr).toContain(`no opener found on PATH (xdg-open, open); the report is at ${out}`);
+      if (json.length) expect(JSON.parse(io3.stdout)).toEqual({ report: out, opened: false });
+    }
   });
 
   it("a folder that is neither a run nor a comparison is bad input (exit 2, one line)", async () => {

@@ -1,18 +1,20 @@
 import { InputError } from "../../errors.js";
 import { createRng } from "../../rng/rng.js";
 import { play, Violation } from "../drive.js";
-import { type PropertySpec, trajArb, runFc, text } from "../harness.js";
+import { type PropertySpec, trajArb, runFc, stepCapOf, text } from "../harness.js";
 
 // step-after-termination: play until the episode ends (padding actions cyclically). (a) The episode
 // wrapper then refuses another step with "module.episodeOver". (b) If the environment terminated, it
 // agrees with itself: stepping the raw environment from the state it terminated in either throws
-// (refuses) or reports terminated=true again, for every action.
+// (refuses) or reports terminated=true again, for every action. An episode still running after the
+// check's step cap (`--max-steps`, below a larger step limit) is not tested.
 export const stepAfterTermination: PropertySpec = {
   name: "step-after-termination",
   summary: "stepping after the episode ended is refused; a terminal state stays terminal",
   run: (sub, ctx) =>
     runFc("step-after-termination", sub, ctx, trajArb(sub), ({ seed, actions }) => {
-      const t = play(sub, seed, actions, { pad: true });
+      const t = play(sub, seed, actions, { pad: true, maxSteps: stepCapOf(sub, ctx) });
+      if (!t.episode.done) return;
       let refused = false;
       try {
         t.episode.step(0, t.rng);

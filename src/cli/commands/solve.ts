@@ -3,7 +3,7 @@ import { runSolve } from "../../app/solve.js";
 import { drawRoute } from "../../report/terminal.js";
 import { action, numberOption, type CliContext } from "../context.js";
 import { CAUTION, emit, formatNumber, paint, table, useColor } from "../io.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption, rewardOption } from "../options.js";
+import { envOption, jsonOption, maxItersOf, maxItersOption, maxStatesOf, maxStatesOption, rewardOption } from "../options.js";
 
 export function registerSolve(program: Command, ctx: CliContext): void {
   program
@@ -12,12 +12,13 @@ export function registerSolve(program: Command, ctx: CliContext): void {
     .addOption(envOption())
     .addOption(rewardOption())
     .option("--gamma <gamma>", "discount factor (default: the model's)")
+    .addOption(maxItersOption())
     .addOption(maxStatesOption())
     .addOption(jsonOption())
     .action(
-      action(ctx, async (opts: { env: string; reward?: string; gamma?: string; maxStates?: string; json?: boolean }) => {
+      action(ctx, async (opts: { env: string; reward?: string; gamma?: string; maxIters?: string; maxStates?: string; json?: boolean }) => {
         const gamma = opts.gamma === undefined ? undefined : numberOption(opts.gamma, "--gamma", { min: 1e-9, max: 1 });
-        const { model, report: r, doc } = await runSolve({ env: opts.env, reward: opts.reward, gamma, maxStates: maxStatesOf(opts) });
+        const { model, report: r, doc } = await runSolve({ env: opts.env, reward: opts.reward, gamma, maxIters: maxItersOf(opts), maxStates: maxStatesOf(opts) });
         emit(ctx.io, Boolean(opts.json), doc, () => {
           const color = useColor(ctx.io);
           const pct = (x: number) => `${(100 * x).toFixed(1)}%`;
