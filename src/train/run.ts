@@ -39,6 +39,8 @@ export interface RunOptions {
   signal?: { readonly aborted: boolean };
   /** Called after every checkpoint. */
   onProgress?: (p: Progress) => void;
+  /** Called once the run directory and its manifest exist (before training starts). */
+  onStart?: (run: { runId: string; runDir: string }) => void;
   /** Train synchronously (no event-loop yields between checkpoints); default false. */
   sync?: boolean;
   /** State bound when `env` is a simulator module (`--max-states`); not part of the run's config. */
@@ -177,6 +179,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     createdAt: new Date().toISOString(),
   };
   writer.writeManifest(manifest);
+  opts.onStart?.({ runId: id, runDir: writer.dir });
 
   const monitor = new Monitor(config.monitor);
   let lastAgent: Agent | null = null;
