@@ -1,4 +1,5 @@
 /** `gapwatch train`: one training run watched by the monitor, indexed, with an optional HTML report. */
+import { isModuleSpec } from "../env/index.js";
 import { EXIT, GapwatchError, InputError } from "../errors.js";
 import { indexRun } from "../store/index-db.js";
 import { writeJsonAtomic } from "../store/atomic.js";
@@ -42,11 +43,6 @@ export function trainDocument(r: RunResult) {
 /** How long a run on a module gets to stop by itself after an interrupt before its thread is ended (ms). */
 export const INTERRUPT_GRACE_MS = 1000;
 const SIGNAL_POLL_MS = 50;
-
-/** A simulator module path (user code), as src/env/resolve.ts recognises it. */
-function isModuleEnv(spec: string | undefined): boolean {
-  return spec !== undefined && /\.(m?[jt]s)$/i.test(spec);
-}
 
 /**
  * After the training thread was ended mid-step: the run directory holds the manifest and the
@@ -133,7 +129,7 @@ export function trainInWorker(cfg: Pick<TrainCommandConfig, "input" | "runsDir" 
  * A run on a simulator module trains in a worker thread (see `trainInWorker`).
  */
 export async function runTrainCommand(cfg: TrainCommandConfig) {
-  const result = isModuleEnv(cfg.input.env)
+  const result = cfg.input.env !== undefined && isModuleSpec(cfg.input.env)
     ? await trainInWorker(cfg)
     : await runTraining(cfg.input, { runsDir: cfg.runsDir, signal: cfg.signal, onProgress: cfg.onProgress, maxStates: cfg.maxStates });
   indexRun(cfg.runsDir, result);

@@ -250,7 +250,8 @@ export function tQuantile975(df: number): number {
   return z + g1 / df + g2 / df ** 2 + g3 / df ** 3 + g4 / df ** 4;
 }
 
-function estimate(sum: number, sumSq: number, n: number): Estimate {
+/** Mean and two-sided 95% t-interval (normal for n >= 1000) from a sum and a sum of squares of n values. */
+export function estimate(sum: number, sumSq: number, n: number): Estimate {
   const mean = sum / n;
   if (n < 2) return { mean, lower: -Infinity, upper: Infinity, halfWidth: Infinity };
   const variance = Math.max(0, (sumSq - n * mean * mean) / (n - 1));

@@ -93,6 +93,16 @@ export function validateDefinition(value: unknown, file: string): EnvDefinition<
   if (typeof d.step !== "function") fail("step", "step must be a function (state, action, rng) => { state, features, intent, terminated }");
   if (d.horizon !== undefined && !(Number.isInteger(d.horizon) && (d.horizon as number) > 0)) fail("horizon", "horizon must be a positive integer");
   if (d.gamma !== undefined && !(typeof d.gamma === "number" && d.gamma > 0 && d.gamma <= 1)) fail("gamma", "gamma must be in (0, 1]");
+  if (d.ranges !== undefined) {
+    const r = d.ranges as Record<string, unknown> | null;
+    if (!r || typeof r !== "object") fail("ranges", "ranges must be an object { designer?: { low, high }, intent?: { low, high } }");
+    for (const k of ["designer", "intent"]) {
+      const v = (r as Record<string, { low?: unknown; high?: unknown } | undefined>)[k];
+      if (v === undefined) continue;
+      const ok = v && typeof v === "object" && Number.isFinite(v.low) && Number.isFinite(v.high) && v.low !== v.high;
+      if (!ok) fail(`ranges.${k}`, "a range needs two different finite numbers { low, high }");
+    }
+  }
   for (const k of ["key", "observe", "transitions", "starts"]) if (d[k] !== undefined && typeof d[k] !== "function") fail(k, `${k} must be a function`);
   return d as unknown as EnvDefinition<unknown>;
 }
