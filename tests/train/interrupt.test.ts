@@ -41,6 +41,35 @@ describe("train honours an interrupt within about a second", () => {
     expect(JSON.parse(readFileSync(join(r.value!.runDir, "summary.json"), "utf8")).status).toBe("interrupted");
   }, 60_000);
 
+  it("a module whose step hangs during training: the thread is ended and the summary says interrupted", async () => {
+    const signal = { aborted: false };
+    let abortedAt = 0;
+    let armed = false;
+    const run = runTrainCommand({
+      input: { env: fixture("sim/hang-in-training.ts"), steps: 8000, checkpoints: 4, seed: 1, mcEpisodes: 20 },
+      runsDir: runs,
+      signal,
+      // Abort ~500 ms after the first checkpoint: by then step has hung (after K = 3000 calls, within the
+      // second 2000-step chunk).
+      onProgress: () => {
+        if (armed) return;
+        armed = true;
+        setTimeout(() => {
+          signal.aborted = true;
+          abortedAt = performance.now();
+        }, 500);
+      },
+    });
+    const r = await settleAfter(run, () => abortedAt);
+    expect(r.error).toBeUndefined();
+    const result = r.value!.result;
+    expect(result.status).toBe("interrupted");
+    expect(result.checkpoints.length).toBeGreaterThanOrEqual(1);
+    expect(r.ms).toBeLessThan(2000);
+    expect(JSON.parse(readFileSync(join(result.runDir, "summary.json"), "utf8")).status).toBe("interrupted");
+    expect(r.value!.doc.status).toBe("interrupted");
+  }, 120_000);
+
   it("a module whose step hangs while it loads: the command ends with exit code 130", async () => {
     const signal = { aborted: false };
     const t0 = performance.now();
