@@ -9,7 +9,7 @@ import { normalizeScore } from "../solve/compare.js";
 import type { Rng } from "../rng/rng.js";
 import type { EnvDefinition, ScoreRange } from "../sim/define.js";
 import { Episode } from "../sim/episode.js";
-import { estimate, type MonteCarloScores } from "./evaluate.js";
+import { RolloutSums, type MonteCarloScores } from "./evaluate.js";
 
 export interface ModuleEvalOptions {
   /** For messages: the module path. */
@@ -28,10 +28,7 @@ export function evaluateModuleMonteCarlo<S>(def: EnvDefinition<S>, act: (state: 
   const { rng, gamma } = opts;
   const w = def.features.map((f) => opts.weights[f] ?? 0);
   const episode = new Episode(def, { source: opts.source });
-  let sd = 0;
-  let sd2 = 0;
-  let si = 0;
-  let si2 = 0;
+  const sums = new RolloutSums();
   for (let e = 0; e < opts.episodes; e++) {
     let s = episode.reset(rng);
     let gd = 0;
@@ -46,14 +43,10 @@ export function evaluateModuleMonteCarlo<S>(def: EnvDefinition<S>, act: (state: 
       disc *= gamma;
       s = r.state;
     }
-    sd += gd;
-    sd2 += gd * gd;
-    si += gi;
-    si2 += gi * gi;
+    sums.add(gd, gi);
   }
   const n = opts.episodes;
-  const designerCI = estimate(sd, sd2, n);
-  const intentCI = estimate(si, si2, n);
+  const { designerCI, intentCI } = sums.intervals();
   return {
     designer: designerCI.mean,
     intent: intentCI.mean,
