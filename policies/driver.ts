@@ -133,17 +133,22 @@ function startDrive(opts: TrainOptions): DriveState {
 }
 
 /**
- * One chunk of a drive: poll `signal` and the episode limit, run up to the next checkpoint (or the
- * end of the budget), then call `onCheckpoint` when one is due. Returns false when the drive must end
- * now (stopped, or the checkpoint callback said "stop").
+ * The start of one chunk of a drive: poll `signal` and the episode limit; returns how many steps to run
+ * up to the next checkpoint (or the end of the budget), or -1 when the drive must end now.
  */
-function driveChunk(session: Session, opts: TrainOptions, st: DriveState): boolean {
+function chunkStart(session: Session, opts: TrainOptions, st: DriveState): number {
   if (opts.signal?.aborted || session.stats.episodes >= st.limit) {
     st.stopped = true;
-    return false;
+    return -1;
   }
-  const want = Math.min(st.every - (st.done % st.every), opts.steps - st.done);
-  const ran = session.advance(want, st.limit);
+  return Math.min(st.every - (st.done % st.every), opts.steps - st.done);
+}
+
+/**
+ * The end of one chunk that ran `ran` of `want` steps: call `onCheckpoint` when one is due. Returns
+ * false when the drive must end now (stopped, or the checkpoint callback said "stop").
+ */
+function chunkEnd(session: Session, opts: TrainOptions, st: DriveState, want: number, ran: number): boolean {
   st.done += ran;
   if (ran < want) st.stopped = true;
   if (opts.onCheckpoint && opts.checkpointEvery !== undefined && (st.done % st.every === 0 || st.stopped)) {
@@ -154,6 +159,37 @@ function driveChunk(session: Session, opts: TrainOptions, st: DriveState): boole
     }
   }
   return !st.stopped;
+}
+
+function driveChunk(session: Session, opts: TrainOptions, st: DriveState): boolean {
+  const want = chunkStart(session, opts, st);
+  return want >= 0 && chunkEnd(session, opts, st, want, session.advance(want, st.limit));
+}
+
+/** Wall-clock length of one batch of steps between event-loop yields in `driveAsync` (ms). */
+const BATCH_MS = 25;
+
+/**
+ * Run `want` steps in batches of about BATCH_MS each, yielding to the event loop between batches and
+ * stopping early when `signal` is set, so Ctrl-C is honoured within a batch rather than a checkpoint.
+ * Sessions resume where they stopped, so the split does not change the result.
+ */
+async function advanceInBatches(session: Session, want: number, limit: number, signal: TrainOptions["signal"], batch: { size: number }): Promise<number> {
+  let ran = 0;
+  while (ran < want) {
+    const n = Math.min(batch.size, want - ran);
+    const t0 = performance.now();
+    const r = session.advance(n, limit);
+    const ms = performance.now() - t0;
+    ran += r;
+    if (r < n) break;
+    if (n === batch.size) batch.size = ms < BATCH_MS / 2 ? Math.min(batch.size * 2, 1 << 20) : ms > BATCH_MS * 2 ? Math.max(1, batch.size >> 1) : batch.size;
+    if (ran < want) {
+      await new Promise<void>((resolve) => setImmediate(resolve));
+      if (signal?.aborted) break;
+    }
+  }
+  return ran;
 }
 
 /** The final checkpoint (unless the last chunk just made one) and the result. */
@@ -173,14 +209,17 @@ export function drive(session: Session, opts: TrainOptions): TrainResult {
 }
 
 /**
- * Like `drive`, but yields to the event loop before each chunk, so a SIGINT handler can set
- * `signal.aborted` while training runs (Ctrl-C support in the CLI). Same chunks, same results as `drive`.
+ * Like `drive`, but yields to the event loop before each chunk and between batches of steps (about
+ * BATCH_MS each), so a SIGINT handler can set `signal.aborted` while training runs and the drive stops
+ * within a batch (Ctrl-C support in the CLI). Same chunks, same results as `drive` when not aborted.
  */
 export async function driveAsync(session: Session, opts: TrainOptions): Promise<TrainResult> {
   const st = startDrive(opts);
+  const batch = { size: 64 };
   while (st.done < opts.steps) {
     await new Promise<void>((resolve) => setImmediate(resolve));
-    if (!driveChunk(session, opts, st)) break;
+    const want = chunkStart(session, opts, st);
+    if (want < 0 || !chunkEnd(session, opts, st, want, await advanceInBatches(session, want, st.limit, opts.signal, batch))) break;
   }
   return finishDrive(session, opts, st);
 }

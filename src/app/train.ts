@@ -1,9 +1,15 @@
 /** `gapwatch train`: one training run watched by the monitor, indexed, with an optional HTML report. */
+import { isModuleSpec } from "../env/index.js";
+import { EXIT, GapwatchError, InputError } from "../errors.js";
 import { indexRun } from "../store/index-db.js";
-import type { RunResult } from "../run/schema.js";
+import { writeJsonAtomic } from "../store/atomic.js";
+import { readRun, RUN_FILES } from "../store/run-store.js";
+import type { RunResult, RunSummary } from "../run/schema.js";
 import type { TrainConfigInput } from "../run/schema.js";
 import { runTraining, type Progress } from "../train/run.js";
 import { writeReport } from "../report/write.js";
+import { startWorker } from "../util/worker.js";
+import { join } from "node:path";
 
 export interface TrainCommandConfig {
   input: TrainConfigInput;
@@ -34,9 +40,98 @@ export function trainDocument(r: RunResult) {
   };
 }
 
-/** Train; `doc` is what `train --json` prints, `result` the whole run, `report` the HTML file or null. */
+/** How long a run on a module gets to stop by itself after an interrupt before its thread is ended (ms). */
+export const INTERRUPT_GRACE_MS = 1000;
+const SIGNAL_POLL_MS = 50;
+
+/**
+ * After the training thread was ended mid-step: the run directory holds the manifest and the
+ * checkpoints so far; write its summary as interrupted and read the run back.
+ */
+function storeInterrupted(runDir: string): RunResult {
+  const r = readRun(runDir);
+  const reason = `interrupted at step ${r.steps} of ${r.config.steps}: the module did not return from its code within ${INTERRUPT_GRACE_MS / 1000} s of the interrupt, so its training thread was ended`;
+  const summary: RunSummary = {
+    format: "gapwatch-run-summary/1",
+    runId: r.runId,
+    status: "interrupted",
+    verdict: r.verdict,
+    reason,
+    final: r.final,
+    alertCount: r.alerts.length,
+    firstAlertStep: r.firstAlertStep,
+    steps: r.steps,
+    episodes: r.episodes,
+    checkpointCount: r.checkpoints.length,
+    trainSeconds: 0,
+    monitorSeconds: 0,
+    finishedAt: new Date().toISOString(),
+  };
+  writeJsonAtomic(join(runDir, RUN_FILES.summary), summary);
+  return { ...r, status: "interrupted", reason };
+}
+
+/**
+ * `runTraining` in a worker thread, for simulator modules: user code can loop forever inside one step
+ * (or while the module loads), where no signal is ever read. On interrupt the thread is asked to stop;
+ * if it has not finished INTERRUPT_GRACE_MS later it is terminated and the run stored as interrupted
+ * (or, when no run had started yet, the command fails with `train.interrupted`, exit 130).
+ */
+export function trainInWorker(cfg: Pick<TrainCommandConfig, "input" | "runsDir" | "maxStates" | "signal" | "onProgress">): Promise<RunResult> {
+  return new Promise<RunResult>((resolve, reject) => {
+    const worker = startWorker(import.meta.url, "train-worker", { input: cfg.input, runsDir: cfg.runsDir, maxStates: cfg.maxStates });
+    let runDir: string | null = null;
+    let settled = false;
+    let killTimer: NodeJS.Timeout | undefined;
+    const finish = (fn: () => void) => {
+      if (settled) return;
+      settled = true;
+      clearInterval(poll);
+      clearTimeout(killTimer);
+      void worker.terminate();
+      try {
+        fn();
+      } catch (e) {
+        reject(e);
+      }
+    };
+    const kill = () =>
+      finish(() => {
+        if (runDir) return resolve(storeInterrupted(runDir));
+        reject(new GapwatchError("train.interrupted", "interrupted while the simulator module was loading (its code did not return); no run was stored", { where: cfg.input.env, exitCode: EXIT.interrupted }));
+      });
+    const poll = setInterval(() => {
+      if (!cfg.signal?.aborted || killTimer) return;
+      worker.postMessage({ type: "abort" });
+      killTimer = setTimeout(kill, INTERRUPT_GRACE_MS);
+    }, SIGNAL_POLL_MS);
+    type Reply =
+      | { type: "start"; runDir: string }
+      | { type: "progress"; p: Progress }
+      | { type: "done"; result: RunResult }
+      | { type: "error"; error: { code: string; message: string; where?: string; exitCode?: number } };
+    worker.on("message", (m: Reply) => {
+      if (m.type === "start") runDir = m.runDir;
+      else if (m.type === "progress") cfg.onProgress?.(m.p);
+      else if (m.type === "done") finish(() => resolve(m.result));
+      else {
+        const { code, message, where, exitCode } = m.error;
+        finish(() => reject(exitCode === EXIT.badInput ? new InputError(code, message, where) : new GapwatchError(code, message, { where, exitCode })));
+      }
+    });
+    worker.on("error", (e) => finish(() => reject(e)));
+    worker.on("exit", (code) => finish(() => reject(new GapwatchError("train.failed", `the training thread exited early (code ${code})`))));
+  });
+}
+
+/**
+ * Train; `doc` is what `train --json` prints, `result` the whole run, `report` the HTML file or null.
+ * A run on a simulator module trains in a worker thread (see `trainInWorker`).
+ */
 export async function runTrainCommand(cfg: TrainCommandConfig) {
-  const result = await runTraining(cfg.input, { runsDir: cfg.runsDir, signal: cfg.signal, onProgress: cfg.onProgress, maxStates: cfg.maxStates });
+  const result = cfg.input.env !== undefined && isModuleSpec(cfg.input.env)
+    ? await trainInWorker(cfg)
+    : await runTraining(cfg.input, { runsDir: cfg.runsDir, signal: cfg.signal, onProgress: cfg.onProgress, maxStates: cfg.maxStates });
   indexRun(cfg.runsDir, result);
   const report = cfg.report ? await writeReport(result.runDir, { out: typeof cfg.report === "string" ? cfg.report : undefined }) : null;
   return { result, report, doc: report ? { ...trainDocument(result), report } : trainDocument(result) };

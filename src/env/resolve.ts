@@ -16,6 +16,11 @@ import { loadSimulator } from "../sim/load.js";
 import { builtinScenarioNames, loadScenario } from "./scenarios.js";
 import type { EnvLoadOptions, FiniteEnv, LoadedEnv, ModuleEnv } from "./types.js";
 
+/** Is `--env` a simulator module path (`.ts`, `.js`, `.mts`, `.mjs`)? */
+export function isModuleSpec(spec: string): boolean {
+  return /\.(m?[jt]s)$/i.test(spec);
+}
+
 /** Resolve `--env` synchronously for built-ins and model files. */
 export function loadEnvSync(spec: string): FiniteEnv {
   if (/\.json$/i.test(spec)) {
@@ -25,7 +30,7 @@ export function loadEnvSync(spec: string): FiniteEnv {
   }
   const names = builtinScenarioNames();
   if (names.includes(spec)) return loadScenario(spec);
-  if (/\.(m?[jt]s)$/i.test(spec)) throw new InputError("env.module", `simulator modules load asynchronously; use loadEnv()`, spec);
+  if (isModuleSpec(spec)) throw new InputError("env.module", `simulator modules load asynchronously; use loadEnv()`, spec);
   throw new InputError(
     "env.unknown",
     `unknown environment "${spec}"; built-in scenarios: ${names.join(", ")}; or pass a path to a model file (.json) or a simulator module (.ts/.js)`,
@@ -41,7 +46,7 @@ export async function loadModuleEnv(file: string, opts: EnvLoadOptions = {}): Pr
 
 /** Resolve `--env`: built-in scenario, model file, or simulator module. */
 export async function loadEnv(spec: string, opts: EnvLoadOptions = {}): Promise<LoadedEnv> {
-  if (/\.(m?[jt]s)$/i.test(spec)) {
+  if (isModuleSpec(spec)) {
     if (!existsSync(resolve(spec))) throw new InputError("env.notFound", `simulator module not found`, spec);
     return loadModuleEnv(resolve(spec), opts);
   }

@@ -250,6 +250,26 @@ export function tQuantile975(df: number): number {
   return z + g1 / df + g2 / df ** 2 + g3 / df ** 3 + g4 / df ** 4;
 }
 
+/** Running sums of rollouts' designer and intent returns, and their 95% intervals. */
+export class RolloutSums {
+  private sd = 0;
+  private sd2 = 0;
+  private si = 0;
+  private si2 = 0;
+  private n = 0;
+  add(designer: number, intent: number): void {
+    this.sd += designer;
+    this.sd2 += designer * designer;
+    this.si += intent;
+    this.si2 += intent * intent;
+    this.n++;
+  }
+  intervals(): { designerCI: Estimate; intentCI: Estimate } {
+    return { designerCI: estimate(this.sd, this.sd2, this.n), intentCI: estimate(this.si, this.si2, this.n) };
+  }
+}
+
+/** Mean and two-sided 95% t-interval (normal for n >= 1000) from a sum and a sum of squares of n values. */
 function estimate(sum: number, sumSq: number, n: number): Estimate {
   const mean = sum / n;
   if (n < 2) return { mean, lower: -Infinity, upper: Infinity, halfWidth: Infinity };
@@ -300,10 +320,7 @@ export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, ac
   const ri = model.intent;
   const { next, terminal } = model;
   const tables = samplingTables(model);
-  let sd = 0;
-  let sd2 = 0;
-  let si = 0;
-  let si2 = 0;
+  const sums = new RolloutSums();
   let cut = 0;
   for (let e = 0; e < opts.episodes; e++) {
     let s = sampleStart(tables, rng);
@@ -320,14 +337,10 @@ export function evaluateMonteCarlo(model: FiniteModel, refs: ScoreReferences, ac
       t++;
     }
     if (!terminal[s]) cut++;
-    sd += gd;
-    sd2 += gd * gd;
-    si += gi;
-    si2 += gi * gi;
+    sums.add(gd, gi);
   }
   const n = opts.episodes;
-  const designerCI = estimate(sd, sd2, n);
-  const intentCI = estimate(si, si2, n);
+  const { designerCI, intentCI } = sums.intervals();
   const tailFactor = cut === 0 ? 0 : gamma >= 1 ? Infinity : gamma ** horizon / (1 - gamma);
   return {
     ...normalized(refs, designerCI.mean, intentCI.mean),

@@ -75,6 +75,12 @@ export interface TrainConfig {
   mcEpisodes: number;
   /** Detector settings (normalized units); omitted keys take MONITOR_DEFAULTS. */
   monitor: DeepPartial<MonitorConfig>;
+  /**
+   * Only for simulator modules without a finite model (`finite: false`): the normalization references
+   * (random policy = low, optimal = high) of the designer and intent scores, from the flags or the module.
+   */
+  designerRange?: { low: number; high: number };
+  intentRange?: { low: number; high: number };
 }
 
 /** Input to `runTraining`: env and reward are required (reward may default to the model's default variant). */

@@ -17,7 +17,11 @@
  *    module is compiled to a finite model (bounded by `--max-states`), so solve, audit and exact
  *    evaluation work; without it a deterministic module is still compiled by probing `step`;
  *  - `starts()`: the exact start distribution (default: `reset` is deterministic);
- *  - `finite: false` to skip compilation (Monte Carlo evaluation only);
+ *  - `finite: false` to skip compilation: `train` then scores checkpoints by Monte Carlo rollouts
+ *    through `step` (`--eval mc`), normalized with `ranges` or the `--designer-range`/`--intent-range` flags;
+ *  - `ranges`: `{ designer?: { low, high }, intent?: { low, high } }`, the discounted returns of a
+ *    uniformly random policy (low) and of an optimal/intended one (high), for normalizing a `finite: false`
+ *    module's scores (the flags override them);
  *  - `rewards`: reward variants (weights over `features`);
  *  - `properties`: the module's own invariants, run by `gapwatch check`.
  * The learner-facing view built from a module exposes no intent.
@@ -56,9 +60,16 @@ export interface EnvDefinition<S = unknown> {
   transitions?(state: S, action: number): Outcome<S>[];
   starts?(): { state: S; p: number }[];
   finite?: boolean;
+  ranges?: { designer?: ScoreRange; intent?: ScoreRange };
   rewards?: Record<string, { weights: Record<string, number> }>;
   properties?: Record<string, EnvProperty<S>>;
   description?: string;
+}
+
+/** Normalization references: the score of a uniformly random policy (low) and an optimal one (high). */
+export interface ScoreRange {
+  low: number;
+  high: number;
 }
 
 /** Identity helper that gives a module's definition its types. */

@@ -14,6 +14,8 @@ export interface ModuleEnv<S> extends TabularEnv {
   /** The state behind an id (for the monitor's rollouts). */
   stateOf(id: number): S;
   idOf(state: S): number;
+  /** The id of a state already discovered, or -1 (discovers nothing). */
+  findId(state: S): number;
 }
 
 export function moduleTabularEnv<S>(def: EnvDefinition<S>, weights: Record<string, number>, source: string): ModuleEnv<S> {
@@ -59,6 +61,7 @@ export function moduleTabularEnv<S>(def: EnvDefinition<S>, weights: Record<strin
       : undefined,
     stateOf: (id: number) => states[id],
     idOf,
+    findId: (s: S) => ids.get(def.key ? def.key(s) : canonicalJson(s)) ?? -1,
   };
 }
 

@@ -3,7 +3,8 @@
  * The default export must come from `defineEnv`; it is validated, then compiled to a finite model when
  * it allows (see compile.ts).
  */
-import { pathToFileURL } from "node:url";
+import { register } from "node:module";
+import { fileURLToPath, pathToFileURL } from "node:url";
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import { compileModuleStates } from "./compile.js";
@@ -27,10 +28,45 @@ export interface LoadedSimulator {
   model?: FiniteModel;
 }
 
+/** Running from source (tests, tsx) rather than from the build (dist/*.js). */
+const FROM_SOURCE = fileURLToPath(import.meta.url).endsWith(".ts");
+
+/**
+ * A module resolution hook mapping the bare specifiers `gapwatch` and `gapwatch/cli` to the running
+ * package's own entry points, so a module anywhere on disk (no node_modules near it) can
+ * `import { defineEnv } from "gapwatch"`. The hook delegates to the next resolver with the mapped URL,
+ * so tsx still compiles the entry when running from source. Inline (a data: URL) so the same text works
+ * from the build and from source.
+ */
+const RESOLVE_HOOK = `
+let targets = {};
+export function initialize(data) { targets = data; }
+export async function resolve(specifier, context, next) {
+  const mapped = Object.prototype.hasOwnProperty.call(targets, specifier) ? targets[specifier] : undefined;
+  const r = await next(mapped ?? specifier, context);
+  // A TypeScript module outside any package that says "type": "module" would otherwise be compiled to
+  // CommonJS, whose require() bypasses this hook: simulator modules are ES modules (export default).
+  if (!r.format && /^file:[^?#]*\.m?ts(?:[?#]|$)/.test(r.url) && !r.url.includes("/node_modules/")) return { ...r, format: "module" };
+  return r;
+}
+`;
+let hookRegistered = false;
+
+/** Register the `gapwatch` resolution hook once per thread. */
+function registerPackageResolver(): void {
+  if (hookRegistered) return;
+  hookRegistered = true;
+  const ext = FROM_SOURCE ? "ts" : "js";
+  const data = { gapwatch: new URL(`../index.${ext}`, import.meta.url).href, "gapwatch/cli": new URL(`../cli/program.${ext}`, import.meta.url).href };
+  register(`data:text/javascript,${encodeURIComponent(RESOLVE_HOOK)}`, { data });
+}
+
 export async function importModule(file: string): Promise<unknown> {
   const url = pathToFileURL(file).href;
   try {
-    if (/\.m?ts$/i.test(file)) {
+    registerPackageResolver();
+    // From source the package entry is TypeScript, so .js modules go through tsx as well.
+    if (/\.m?ts$/i.test(file) || FROM_SOURCE) {
       const { tsImport } = await import("tsx/esm/api");
       return await tsImport(url, import.meta.url);
     }
@@ -57,6 +93,16 @@ export function validateDefinition(value: unknown, file: string): EnvDefinition<
   if (typeof d.step !== "function") fail("step", "step must be a function (state, action, rng) => { state, features, intent, terminated }");
   if (d.horizon !== undefined && !(Number.isInteger(d.horizon) && (d.horizon as number) > 0)) fail("horizon", "horizon must be a positive integer");
   if (d.gamma !== undefined && !(typeof d.gamma === "number" && d.gamma > 0 && d.gamma <= 1)) fail("gamma", "gamma must be in (0, 1]");
+  if (d.ranges !== undefined) {
+    const r = d.ranges as Record<string, unknown> | null;
+    if (!r || typeof r !== "object") fail("ranges", "ranges must be an object { designer?: { low, high }, intent?: { low, high } }");
+    for (const k of ["designer", "intent"]) {
+      const v = (r as Record<string, { low?: unknown; high?: unknown } | undefined>)[k];
+      if (v === undefined) continue;
+      const ok = v && typeof v === "object" && Number.isFinite(v.low) && Number.isFinite(v.high) && v.low !== v.high;
+      if (!ok) fail(`ranges.${k}`, "a range needs two different finite numbers { low, high }");
+    }
+  }
   for (const k of ["key", "observe", "transitions", "starts"]) if (d[k] !== undefined && typeof d[k] !== "function") fail(k, `${k} must be a function`);
   return d as unknown as EnvDefinition<unknown>;
 }

@@ -31,7 +31,7 @@ export const TRAIN_DEFAULTS = {
  * state-action pair (at least 20 000), rounded up to a multiple of the checkpoint count. With
  * tabular Q-learning this is a fraction of a second on every built-in scenario.
  */
-export function defaultSteps(model: FiniteModel, checkpoints: number, declared?: unknown): number {
+export function defaultSteps(model: Pick<FiniteModel, "nStates" | "nActions">, checkpoints: number, declared?: unknown): number {
   const raw =
     typeof declared === "number" && Number.isSafeInteger(declared) && declared > 0
       ? declared
@@ -40,7 +40,7 @@ export function defaultSteps(model: FiniteModel, checkpoints: number, declared?:
 }
 
 /** Default learner parameters: the model's discount, and for tabular learners the schedules above over `steps`. */
-export function defaultLearnerParams(tabular: boolean, model: FiniteModel, steps: number): Record<string, unknown> {
+export function defaultLearnerParams(tabular: boolean, model: Pick<FiniteModel, "gamma">, steps: number): Record<string, unknown> {
   const out: Record<string, unknown> = { gamma: model.gamma };
   if (tabular) {
     const { alpha, epsilon } = TRAIN_DEFAULTS.tabularSchedules;

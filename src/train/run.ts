@@ -10,7 +10,7 @@
 import { performance } from "node:perf_hooks";
 import { GapwatchError, InputError } from "../errors.js";
 import { learnerView, viewEnv } from "../model/learner-view.js";
-import { builtinScenarioNames, loadEnv, loadFiniteVariant, type EnvLoadOptions, type LoadedEnv } from "../env/index.js";
+import { builtinScenarioNames, isModuleSpec, loadEnv, loadFiniteVariant, type EnvLoadOptions, type LoadedEnv } from "../env/index.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferencesFor, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
 import { Monitor, type ScoreBounds } from "../monitor/monitor.js";
@@ -23,6 +23,7 @@ import { packageVersion } from "../util/paths.js";
 import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS } from "./config.js";
 import { getLearner } from "./learners.js";
 import type { Agent } from "../../policies/driver.js";
+import { runModuleTraining } from "./module-run.js";
 
 export interface Progress {
   step: number;
@@ -39,6 +40,8 @@ export interface RunOptions {
   signal?: { readonly aborted: boolean };
   /** Called after every checkpoint. */
   onProgress?: (p: Progress) => void;
+  /** Called once the run directory and its manifest exist (before training starts). */
+  onStart?: (run: { runId: string; runDir: string }) => void;
   /** Train synchronously (no event-loop yields between checkpoints); default false. */
   sync?: boolean;
   /** State bound when `env` is a simulator module (`--max-states`); not part of the run's config. */
@@ -97,9 +100,12 @@ function cachedRewards(kind: LoadedEnv["kind"], model: FiniteModel, variant: Rew
 }
 
 /** Fill every default of a config and load its environment and reward. Throws InputError on bad input. */
-export async function resolveTrainConfig(input: TrainConfigInput, opts: EnvLoadOptions = {}): Promise<ResolvedRun> {
+export async function resolveTrainConfig(input: TrainConfigInput, opts: EnvLoadOptions = {}, load = loadCached): Promise<ResolvedRun> {
   if (!input.env) throw new InputError("config.env", "env is required (a built-in scenario name or a model file)", "--env");
-  const { env: loaded, model, variant } = await loadFiniteVariant(input.env, input.reward, { command: "train", maxStates: opts.maxStates, load: loadCached });
+  if (input.designerRange || input.intentRange) {
+    throw new InputError("config.range", "--designer-range/--intent-range apply only to a module without a finite model (finite: false); this environment's references are solved exactly", "--env");
+  }
+  const { env: loaded, model, variant } = await loadFiniteVariant(input.env, input.reward, { command: "train", maxStates: opts.maxStates, load });
   const learner = input.learner ?? TRAIN_DEFAULTS.learner;
   const { tabular } = getLearner(learner);
   const checkpoints = input.checkpoints ?? TRAIN_DEFAULTS.checkpoints;
@@ -147,7 +153,14 @@ function sameOn(states: Int32Array, a: Int32Array, b: Int32Array): boolean {
 
 /** Run one training job and store it; resolves to the run's RunResult (also on interruption). */
 export async function runTraining(input: TrainConfigInput, opts: RunOptions): Promise<RunResult> {
-  const { config, model, variant, kind: loadedKind } = await resolveTrainConfig(input, { maxStates: opts.maxStates });
+  // A module without a finite model (finite: false) trains on the module itself, scored by Monte Carlo.
+  let load = loadCached;
+  if (input.env && isModuleSpec(input.env)) {
+    const loaded = await loadEnv(input.env, { maxStates: opts.maxStates });
+    if (loaded.kind === "module" && !loaded.model) return runModuleTraining(input, loaded, opts);
+    load = async () => loaded;
+  }
+  const { config, model, variant, kind: loadedKind } = await resolveTrainConfig(input, { maxStates: opts.maxStates }, load);
   const id = makeRunId(config);
   const writer = new RunWriter(opts.runsDir, id);
   const log = logger().child({ runId: id, env: config.env, reward: config.reward, seed: config.seed });
@@ -177,6 +190,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     createdAt: new Date().toISOString(),
   };
   writer.writeManifest(manifest);
+  opts.onStart?.({ runId: id, runDir: writer.dir });
 
   const monitor = new Monitor(config.monitor);
   let lastAgent: Agent | null = null;

@@ -6,6 +6,7 @@ import type { Command } from "commander";
 import { defaultLearner } from "../../../policies/index.js";
 import { runTrainCommand } from "../../app/train.js";
 import { EXIT, InputError } from "../../errors.js";
+import { parseRange } from "../../monitor/external.js";
 import { sparklines } from "../../report/terminal.js";
 import { parseSeed } from "../../rng/rng.js";
 import type { EvaluationMode, RunResult } from "../../run/schema.js";
@@ -87,6 +88,8 @@ export interface TrainCliOptions {
   checkpoints?: string;
   eval?: string;
   mcEpisodes?: string;
+  designerRange?: string;
+  intentRange?: string;
   runsDir?: string;
   maxStates?: string;
   failOnAlert?: boolean;
@@ -113,6 +116,8 @@ export function registerTrain(program: Command, ctx: CliContext): void {
     .option("--checkpoints <k>", "number of checkpoints (default 20)")
     .option("--eval <mode>", "checkpoint scoring: exact, mc or both (default exact)")
     .option("--mc-episodes <n>", "rollouts per checkpoint with --eval mc|both (default 300)")
+    .option("--designer-range <low:high>", "a module without a finite model (finite: false): designer score of a random policy : of an optimal one, for normalizing (default: the module's ranges)")
+    .option("--intent-range <low:high>", "the same for the intent score")
     .addOption(runsDirOption())
     .option("--fail-on-alert", "exit 3 when any alert fired (for CI gating of reward changes)")
     .addOption(reportOption("the HTML report of the run", "<run-dir>/report.html"))
@@ -129,6 +134,8 @@ export function registerTrain(program: Command, ctx: CliContext): void {
           checkpoints: opts.checkpoints === undefined ? undefined : intOption(opts.checkpoints, "--checkpoints"),
           evaluation: parseEvaluation(opts.eval),
           mcEpisodes: opts.mcEpisodes === undefined ? undefined : intOption(opts.mcEpisodes, "--mc-episodes", { min: 2 }),
+          designerRange: opts.designerRange === undefined ? undefined : parseRange(opts.designerRange, "--designer-range"),
+          intentRange: opts.intentRange === undefined ? undefined : parseRange(opts.intentRange, "--intent-range"),
         };
         const maxStates = maxStatesOf(opts);
         const progress = progressReporter(ctx.io, `${opts.env} ${opts.reward ?? ""}`.trim(), !opts.json);
