@@ -133,6 +133,20 @@ describe("gapwatch ingest --follow", () => {
     expect(firstAlertChunk!).toBeLessThan(cuts.length);
   });
 
+  it("through the CLI: --follow --idle 0 on a finished file stores what a one-shot read stores; --idle without --follow is refused", async () => {
+    const dir = temp("ingest-follow-cli");
+    writeFileSync(join(dir, "dec.jsonl"), simJsonl(3, "decoupled"));
+    const args = ["ingest", join(dir, "dec.jsonl"), "--designer", "designer", "--intent", "intent", ...RANGES, "--runs-dir", join(dir, "runs"), "--json"];
+    const once = await cli(args);
+    const followed = await cli([...args, "--follow", "--idle", "0"]);
+    expect(followed.code).toBe(0);
+    expect(followed.json().checkpoints).toEqual(once.json().checkpoints);
+    expect(followed.json().alerts).toEqual(once.json().alerts);
+    const bad = await cli([...args, "--idle", "5"]);
+    expect(bad.code).toBe(2);
+    expect(bad.err).toContain("only applies with --follow");
+  });
+
   it("an abort signal stops the loop: stored as interrupted, CLI-equivalent status", async () => {
     const dir = temp("ingest-abort");
     const file = join(dir, "log.jsonl");

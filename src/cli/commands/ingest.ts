@@ -5,7 +5,7 @@
  */
 import type { Command } from "commander";
 import { runIngest } from "../../app/ingest.js";
-import { EXIT } from "../../errors.js";
+import { EXIT, InputError } from "../../errors.js";
 import { parseFormat } from "../../ingest/index.js";
 import { parseRange } from "../../monitor/external.js";
 import { action, intOption, numberOption, type CliContext } from "../context.js";
@@ -57,6 +57,9 @@ export function registerIngest(program: Command, ctx: CliContext): void {
     .addOption(jsonOption())
     .action(
       action(ctx, async (paths: string[], opts: IngestCliOptions) => {
+        if (!opts.follow && (opts.untilStep !== undefined || opts.idle !== undefined)) {
+          throw new InputError("cli.follow", `${opts.untilStep !== undefined ? "--until-step" : "--idle"} only applies with --follow`, opts.untilStep !== undefined ? "--until-step" : "--idle");
+        }
         const color = useColor(ctx.io, Boolean(opts.json));
         const cfg = {
           paths: paths.map((p) => resolve(ctx.io.cwd, p)),
