@@ -282,6 +282,7 @@ export async function runIngest(cfg: IngestConfig) {
     let size = totalBytes(cfg.paths);
     let lastData = clock.now();
     let stop: "idle" | "until" | "interrupt" | null = null;
+    let noticed = 0;
     for (;;) {
       const sel = checkpointsOf(cfg, snaps, false, window);
       if (sel !== undefined) {
@@ -300,7 +301,10 @@ export async function runIngest(cfg: IngestConfig) {
         lastData = clock.now();
       }
       snaps = sources.map((s) => s.poll());
-      cfg.onNotice?.(`read ${size} bytes, ${pushed.length} checkpoints, ${monitor.alerts.length} alerts`);
+      if (pushed.length !== noticed) {
+        noticed = pushed.length;
+        cfg.onNotice?.(`${pushed.length} checkpoints (to step ${pushed[pushed.length - 1].step}), ${monitor.alerts.length} alerts`);
+      }
     }
     if (stop === "idle") snaps = sources.map((s) => s.finish());
     if (stop === "interrupt") status = "interrupted";

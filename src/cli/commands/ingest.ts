@@ -9,11 +9,15 @@ import { EXIT, InputError } from "../../errors.js";
 import { parseFormat } from "../../ingest/index.js";
 import { parseRange } from "../../monitor/external.js";
 import { action, intOption, numberOption, type CliContext } from "../context.js";
-import { CAUTION, emit, paint, useColor } from "../io.js";
+import { emit, paint, useColor } from "../io.js";
 import { withInterrupt } from "../interrupt.js";
 import { jsonOption, reportOf, reportOption, runsDirOf, runsDirOption } from "../options.js";
 import { alertsText, verdictColor } from "./train.js";
 import { resolve } from "node:path";
+
+/** The caution of an external run's text summary (the trained-run one names an environment and a learner). */
+export const EXTERNAL_CAUTION =
+  "A clean result is evidence, not certification: it covers this log, read with this mapping and these ranges, only; on noisy logs a real but slow or small fall can go undetected. For safety-relevant uses follow your domain's safety standards and licensed practice.";
 
 export interface IngestCliOptions {
   designer: string;
@@ -80,6 +84,7 @@ export function registerIngest(program: Command, ctx: CliContext): void {
                 idleSeconds: opts.idle === undefined ? undefined : numberOption(opts.idle, "--idle", { min: 0 }),
               }
             : undefined,
+          onNotice: opts.follow && !opts.json ? (text: string) => ctx.io.err(`${paint(color, "dim", text)}\n`) : undefined,
           onAlert: opts.follow ? (a: { step: number; kind: string; message: string }) => ctx.io.err(`alert at step ${a.step}: ${paint(color, "red", a.kind)}: ${a.message}\n`) : undefined,
         };
         const { value: out } = await withInterrupt((signal) => runIngest({ ...cfg, signal }));
@@ -89,7 +94,7 @@ export function registerIngest(program: Command, ctx: CliContext): void {
           let t = `${paint(color, "bold", "external run")}  ${src.files.length} file(s), ${src.format}  designer ${JSON.stringify(src.mapping.designer)}  intent ${JSON.stringify(src.mapping.intent)}  checkpoints ${r.checkpoints.length}${src.window !== null ? `  window ${src.window} steps` : ""}\n`;
           t += `verdict: ${paint(color, verdictColor(r.verdict), r.verdict)}${r.status !== "complete" ? ` (${r.status})` : ""}\n  ${r.reason}\n\n`;
           t += r.alerts.length > 0 ? alertsText(r.alerts, color) : "no alerts\n";
-          t += `\nrun directory: ${r.runDir}\n${paint(color, "dim", CAUTION)}\n`;
+          t += `\nrun directory: ${r.runDir}\n${paint(color, "dim", EXTERNAL_CAUTION)}\n`;
           return t;
         });
         if (out.report && !opts.json) ctx.io.err(`report: ${out.report}\n`);
