@@ -27,6 +27,8 @@ const BAD_INPUT_PREFIXES = [
   "queue.",
   "store.",
   "cli.",
+  "ingest.",
+  "drn.",
 ];
 
 export class GapwatchError extends Error {

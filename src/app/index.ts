@@ -14,3 +14,4 @@ export { runCheckCommand, checkDocument, type CheckConfig } from "./check.js";
 export { runReportCommand, findOpener, type ReportCommandConfig } from "./report.js";
 export { listRuns, type RunsConfig } from "./runs.js";
 export { checkRunDir, type DocumentOutputOptions } from "./outputs.js";
+export { ingestDocument, runIngest, systemClock, type IngestClock, type IngestConfig, type IngestFollowOptions } from "./ingest.js";

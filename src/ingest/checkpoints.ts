@@ -15,7 +15,7 @@
 import { InputError } from "../errors.js";
 import type { Series } from "./series.js";
 import type { TableSeries } from "./table.js";
-import { type StepValue, windowCheckpoints } from "./windows.js";
+import { rollingMean, type StepValue, windowCheckpoints } from "./windows.js";
 
 /** One checkpoint for the monitor: both scores at one step, with their spread when known. */
 export interface IngestCheckpoint {
@@ -133,4 +133,20 @@ export function alignSeries(designer: Series, intent: Series, where: string): In
     throw new InputError("ingest.series", `the designer series ${JSON.stringify(designer.name)} and the intent series ${JSON.stringify(intent.name)} share no step (designer from ${designer.steps[0]}, intent from ${intent.steps[0]}); log both at the same steps`, where);
   }
   return steps.map((step) => ({ step, designer: d.get(step)!, intent: n.get(step)! }));
+}
+
+/**
+ * Checkpoints at the same window ends as `poolEpisodes`, each the mean of the last (up to) `n` episodes
+ * ended by then (windows.ts `rollingMean`): what trainers log as "mean return of the last n episodes",
+ * so an episode log can be compared point for point with such a logged curve. No spread is given (the
+ * rolling windows overlap); `episodes` is the number of episodes averaged.
+ */
+export function rollingCheckpoints(designer: Series, intent: Series, window: number, n: number, where: string): IngestCheckpoint[] {
+  const pooled = poolEpisodes(designer, intent, window, where);
+  const d = zip(designer);
+  const i = zip(intent);
+  return pooled.map((c) => {
+    const ended = d.filter((p) => p.step <= c.step).length;
+    return { step: c.step, designer: rollingMean(d, c.step, n)!, intent: rollingMean(i, c.step, n)!, episodes: Math.min(n, ended) };
+  });
 }

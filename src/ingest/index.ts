@@ -24,5 +24,5 @@ export { rollingMean, windowCheckpoints, type StepValue, type WindowCheckpoint }
 export { DelimitedReader, JsonLinesReader, readDelimitedSeries, readJsonLinesSeries, STEP_COLUMNS, type TableOptions, type TableSeries } from "./table.js";
 export { detectFormat, parseFormat, INGEST_FORMATS, type IngestFormat } from "./detect.js";
 export { listNames, pickSeries, selectSeries, seriesFromPoints, suggestName, MAX_SUGGEST_NAME, type Series } from "./series.js";
-export { alignSeries, defaultWindow, ownCheckpoints, ownLineKind, poolEpisodes, type IngestCheckpoint, type OwnLineKind } from "./checkpoints.js";
+export { alignSeries, defaultWindow, ownCheckpoints, ownLineKind, poolEpisodes, rollingCheckpoints, type IngestCheckpoint, type OwnLineKind } from "./checkpoints.js";
 export { episodeSeries, IngestSource, type SourceOptions, type SourceSnapshot } from "./source.js";

@@ -10,6 +10,7 @@ import { drawingBlock, renderAuditSection } from "./audit.js";
 import { chartFigure, curvesSpec, rawCurvesSpec, type AlertMark } from "./charts.js";
 import type { RunReportData } from "./data.js";
 import { esc } from "./escape.js";
+import { renderExternalReport } from "./external-report.js";
 import { page } from "./page.js";
 import { renderPressureSection } from "./pressure.js";
 import { alertList, caution, facts, footer, manifestBlock, num, pct, scoreKey, sectionOpen, verdictBand, type ListedAlert } from "./sections.js";
@@ -51,6 +52,7 @@ export async function renderRunReport(data: RunReportData): Promise<string> {
   const cfg = run.config;
   const alerts = numberedAlerts(run);
   const generatedAt = data.generatedAt ?? new Date().toISOString();
+  if (run.source) return renderExternalReport(run, alerts, { packageVersion: data.manifest?.packageVersion, generatedAt });
   let n = 0;
   const parts: string[] = [];
   const named = data.rewardName && data.rewardName !== cfg.reward ? data.rewardName : null;

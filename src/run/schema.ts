@@ -105,6 +105,13 @@ export interface CheckpointRecord {
   rank: number | null;
   /** Present with Monte Carlo scores: 95% half-widths of the raw scores. */
   mc?: { episodes: number; designerHalfWidth: number; intentHalfWidth: number };
+  /**
+   * Present on external runs (`gapwatch ingest`): the monitor's pooled levels and standard errors on the
+   * normalized scale (null where the relative scale or the noise is not defined yet), and the spread the
+   * log gave. designerNorm / intentNorm are then the checkpoint's own values on the scale current at it
+   * (null while the relative scale is undefined).
+   */
+  external?: { designerLevel: number | null; intentLevel: number | null; designerSe: number | null; intentSe: number | null; designerStd?: number; intentStd?: number };
 }
 
 /** One alert (the payload of one alerts.jsonl line). */
@@ -147,6 +154,45 @@ export interface ScoreReferencesDoc {
   intentRandom: number;
 }
 
+// ---- external runs (`gapwatch ingest`) ----
+
+/** One source file read by `gapwatch ingest`, as it was when the run was stored. */
+export interface SourceFileDoc {
+  path: string;
+  bytes: number;
+  /** SHA-256 of the file's content, hex. */
+  sha256: string;
+}
+
+/** What an external run read and how (manifest.json "source"): everything its run id hashes. */
+export interface ExternalSourceDoc {
+  /** The input paths as given, absolute. */
+  inputs: string[];
+  /** Every file read, in reading order. */
+  files: SourceFileDoc[];
+  /** tfevents, monitor-csv, csv or jsonl (detected or forced). */
+  format: string;
+  /** Which series are the designer and intent scores, and the step column of tables (null: event files / monitor CSV). */
+  mapping: { designer: string; intent: string; step: string | null; run: string | null };
+  /** LOW:HIGH per score in the user's units; null: the relative scale. */
+  ranges: { designer: { low: number; high: number } | null; intent: { low: number; high: number } | null };
+  /** Step window pooling episodes into checkpoints; null when the log holds checkpoints. */
+  window: number | null;
+  /** Checkpoint value = mean of the last N episodes ended by the window end, instead of the window's own episodes; null: window means. */
+  rolling: number | null;
+}
+
+/** manifest.json of an external run: no training config, a `source` block instead. */
+export interface ExternalRunManifest {
+  format: "gapwatch-run/1";
+  kind: "external";
+  runId: string;
+  source: ExternalSourceDoc;
+  packageVersion: string;
+  nodeVersion: string;
+  createdAt: string;
+}
+
 // ---- summary.json ----
 
 /** summary.json */
@@ -170,6 +216,8 @@ export interface RunSummary {
   monitorSeconds: number;
   /** Present when status is "failed". */
   error?: string;
+  /** External runs: true when at least one score is on the relative scale (no range given). */
+  relative?: boolean;
   finishedAt: string;
 }
 
@@ -208,4 +256,11 @@ export interface RunResult {
   episodes: number;
   trainSeconds: number;
   monitorSeconds: number;
+  /**
+   * External runs only (`gapwatch ingest`): what was read. `config` is then a stand-in for readers of
+   * trained runs (env "external", reward = the designer series, learner "external", seed 0) and
+   * `references` holds the ranges (NaN where a score is on the relative scale).
+   */
+  source?: ExternalSourceDoc;
+  relative?: boolean;
 }

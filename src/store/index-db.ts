@@ -11,7 +11,7 @@
  */
 import Database from "better-sqlite3";
 import { existsSync, mkdirSync, readdirSync, readFileSync, statSync } from "node:fs";
-import { join, resolve } from "node:path";
+import { basename, join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { readRun, RUN_FILES } from "./run-store.js";
 import type { RunResult, RunSummary } from "../run/schema.js";
@@ -35,6 +35,8 @@ export interface RunRow {
   runDir: string;
   /** ISO time the run finished (summary.json), else when it was indexed. */
   time: string;
+  /** External runs (`gapwatch ingest`): the source files' names, comma-separated. Absent for trained runs. */
+  source?: string;
 }
 
 export interface ComparisonRow {
@@ -71,7 +73,8 @@ CREATE TABLE IF NOT EXISTS runs (
   intent REAL,
   alerts INTEGER NOT NULL,
   run_dir TEXT NOT NULL,
-  time TEXT NOT NULL
+  time TEXT NOT NULL,
+  source TEXT
 );
 CREATE INDEX IF NOT EXISTS runs_env ON runs (env, reward, verdict);
 CREATE TABLE IF NOT EXISTS comparisons (
@@ -117,7 +120,22 @@ export function runRowOf(result: RunResult, time?: string): RunRow {
     alerts: result.alerts.length,
     runDir: result.runDir,
     time: time ?? finishedAt(result.runDir) ?? new Date().toISOString(),
+    ...(result.source ? { source: sourceLabel(result.source.files.map((f) => f.path)) } : {}),
   };
+}
+
+/** The names of an external run's source files, for the listing. */
+export function sourceLabel(paths: readonly string[]): string {
+  return paths.map((p) => basename(p)).join(", ");
+}
+
+/** Rows as SQLite gives them: a null source (trained run) is dropped so trained rows keep their shape. */
+function rowOut(r: RunRow & { source?: string | null }): RunRow {
+  if (r.source === null || r.source === undefined) {
+    const { source: _drop, ...rest } = r;
+    return rest;
+  }
+  return r;
 }
 
 /** The comparison document fields the index reads (see src/batch/compare.ts). */
@@ -154,6 +172,8 @@ export class RunIndex {
       this.db.pragma("journal_mode = WAL");
       this.db.pragma("busy_timeout = 5000");
       this.db.exec(SCHEMA);
+      // An index written before external runs existed has no source column: add it.
+      if (!(this.db.prepare("PRAGMA table_info(runs)").all() as { name: string }[]).some((c) => c.name === "source")) this.db.exec("ALTER TABLE runs ADD COLUMN source TEXT");
     } catch (err) {
       throw new InputError("store.index", `cannot open the run index: ${(err as Error).message}; delete it and run \`gapwatch runs --rebuild\``, this.file);
     }
@@ -166,13 +186,13 @@ export class RunIndex {
   upsertRun(r: RunRow): void {
     this.db
       .prepare(
-        `INSERT INTO runs (run_id, env, reward, learner, seed, steps, status, verdict, designer, intent, alerts, run_dir, time)
-         VALUES (@runId, @env, @reward, @learner, @seed, @steps, @status, @verdict, @designer, @intent, @alerts, @runDir, @time)
+        `INSERT INTO runs (run_id, env, reward, learner, seed, steps, status, verdict, designer, intent, alerts, run_dir, time, source)
+         VALUES (@runId, @env, @reward, @learner, @seed, @steps, @status, @verdict, @designer, @intent, @alerts, @runDir, @time, @source)
          ON CONFLICT(run_id) DO UPDATE SET env=excluded.env, reward=excluded.reward, learner=excluded.learner, seed=excluded.seed,
            steps=excluded.steps, status=excluded.status, verdict=excluded.verdict, designer=excluded.designer, intent=excluded.intent,
-           alerts=excluded.alerts, run_dir=excluded.run_dir, time=excluded.time`,
+           alerts=excluded.alerts, run_dir=excluded.run_dir, time=excluded.time, source=excluded.source`,
       )
-      .run(r);
+      .run({ ...r, source: r.source ?? null });
   }
 
   recordComparison(doc: ComparisonDocLike, dir: string, time = doc.createdAt ?? new Date().toISOString()): void {
@@ -213,9 +233,9 @@ export class RunIndex {
         args.push(v);
       }
     }
-    const sql = `SELECT run_id AS runId, env, reward, learner, seed, steps, status, verdict, designer, intent, alerts, run_dir AS runDir, time
+    const sql = `SELECT run_id AS runId, env, reward, learner, seed, steps, status, verdict, designer, intent, alerts, run_dir AS runDir, time, source
                  FROM runs ${where.length ? "WHERE " + where.join(" AND ") : ""} ORDER BY env, reward, learner, seed, run_id`;
-    return this.db.prepare(sql).all(...args) as RunRow[];
+    return (this.db.prepare(sql).all(...args) as (RunRow & { source: string | null })[]).map(rowOut);
   }
 
   listComparisons(filter: { env?: string } = {}): ComparisonRow[] {

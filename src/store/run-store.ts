@@ -10,13 +10,13 @@
  * same config replaces the directory's files.
  */
 import { createHash } from "node:crypto";
-import { existsSync, mkdirSync, readFileSync, rmSync } from "node:fs";
+import { existsSync, mkdirSync, readFileSync, renameSync, rmSync } from "node:fs";
 import { basename, join, resolve } from "node:path";
 import pino from "pino";
 import { GapwatchError, InputError } from "../errors.js";
 import { canonicalJson } from "../util/canonical-json.js";
-import { appendJsonLine, writeJsonAtomic } from "./atomic.js";
-import type { Alert, CheckpointRecord, RunManifest, RunPolicyFile, RunResult, RunSummary, TrainConfig } from "../run/schema.js";
+import { appendJsonLine, writeFileAtomic, writeJsonAtomic } from "./atomic.js";
+import type { Alert, CheckpointRecord, ExternalRunManifest, ExternalSourceDoc, RunManifest, RunPolicyFile, RunResult, RunSummary, TrainConfig } from "../run/schema.js";
 
 export const RUN_FILES = {
   manifest: "manifest.json",
@@ -40,6 +40,56 @@ export function runIdPrefix(config: Pick<TrainConfig, "env" | "reward" | "learne
 export function runId(config: TrainConfig): string {
   const hash = createHash("sha256").update(canonicalJson(config)).digest("hex").slice(0, 8);
   return runIdPrefix(config) + hash;
+}
+
+/**
+ * Run id of an external run (`gapwatch ingest`): `ext-<first input's name>-<hash8>`, hash8 over the
+ * canonical JSON of the source block minus its absolute paths (file sizes and content hashes, format,
+ * mapping, ranges, window), so the same logs read the same way give the same run wherever they lie.
+ */
+export function externalRunId(source: ExternalSourceDoc): string {
+  const { inputs, files, ...how } = source;
+  const hash = createHash("sha256")
+    .update(canonicalJson({ ...how, inputs: inputs.map((p) => basename(p)), files: files.map((f) => ({ name: basename(f.path), bytes: f.bytes, sha256: f.sha256 })) }))
+    .digest("hex")
+    .slice(0, 8);
+  return `ext-${slug(basename(inputs[0] ?? "input").replace(/\.[^.]+$/, ""))}-${hash}`;
+}
+
+/** The stand-in training config readers of trained runs see for an external run (see RunResult.source). */
+export function externalStandInConfig(source: ExternalSourceDoc, steps: number, checkpoints: number): TrainConfig {
+  return { env: "external", reward: source.mapping.designer, learner: "external", steps, seed: 0, checkpoints, learnerParams: {}, evaluation: "exact", mcEpisodes: 0, monitor: {} };
+}
+
+/**
+ * Write a whole external run directory at once: the files go to a hidden staging folder under
+ * `runsDir` which is then renamed to `<runsDir>/<runId>` (replacing an earlier run of the same id), so
+ * a reader never sees half a run and a failure leaves no run folder.
+ */
+export function writeExternalRun(runsDir: string, run: { manifest: ExternalRunManifest; checkpoints: CheckpointRecord[]; alerts: Alert[]; summary: RunSummary }): string {
+  const root = resolve(runsDir);
+  try {
+    mkdirSync(root, { recursive: true });
+  } catch (err) {
+    throw new InputError("store.runsDir", `cannot create the runs directory: ${(err as Error).message}; pass a writable --runs-dir`, root);
+  }
+  const staging = `.staging-${run.manifest.runId}-${process.pid}`;
+  const w = new RunWriter(root, staging);
+  try {
+    writeJsonAtomic(w.path("manifest"), run.manifest);
+    writeFileAtomic(w.path("checkpoints"), run.checkpoints.map((c) => JSON.stringify(c) + "\n").join(""));
+    for (const a of run.alerts) w.logAlert(a);
+    w.close();
+    writeJsonAtomic(w.path("summary"), run.summary);
+    const dir = join(root, run.manifest.runId);
+    rmSync(dir, { recursive: true, force: true });
+    renameSync(w.dir, dir);
+    return dir;
+  } catch (err) {
+    w.close();
+    rmSync(w.dir, { recursive: true, force: true });
+    throw err;
+  }
 }
 
 /** Writes one run directory. Synchronous file operations so a SIGINT handler's flush is complete. */
@@ -132,7 +182,7 @@ function readJson<T>(file: string): T {
 export function readRun(dir: string): RunResult {
   const manifestFile = join(dir, RUN_FILES.manifest);
   if (!existsSync(manifestFile)) throw new InputError("store.notRun", "not a run directory (no manifest.json)", dir);
-  const manifest = readJson<RunManifest>(manifestFile);
+  const manifest = readJson<RunManifest | ExternalRunManifest>(manifestFile);
   const checkpoints = readJsonLines<CheckpointRecord>(join(dir, RUN_FILES.checkpoints));
   const alerts = readJsonLines<{ step: number; kind: Alert["kind"]; magnitude: number; message: string }>(join(dir, RUN_FILES.alerts)).map(
     (l): Alert => ({ step: l.step, kind: l.kind, magnitude: l.magnitude, message: l.message }),
@@ -143,10 +193,13 @@ export function readRun(dir: string): RunResult {
   if (summary && summary.runId !== manifest.runId) {
     throw new GapwatchError("store.mismatch", `summary.json belongs to run ${summary.runId}, manifest to ${manifest.runId}`, { where: dir });
   }
+  const external = "kind" in manifest && manifest.kind === "external" ? manifest : null;
+  const steps = summary?.steps ?? last?.step ?? 0;
+  const r = external?.source.ranges;
   return {
     runId: manifest.runId,
     runDir: resolve(dir),
-    config: manifest.config,
+    config: external === null ? (manifest as RunManifest).config : externalStandInConfig(external.source, steps, checkpoints.length),
     status: summary?.status ?? "interrupted",
     verdict: summary?.verdict ?? "inconclusive",
     reason: summary?.reason ?? "the run stopped before writing its summary",
@@ -154,10 +207,14 @@ export function readRun(dir: string): RunResult {
     alerts,
     final: summary?.final ?? last,
     firstAlertStep: summary?.firstAlertStep ?? alerts[0]?.step ?? null,
-    references: manifest.references,
-    steps: summary?.steps ?? last?.step ?? 0,
+    references:
+      external === null
+        ? (manifest as RunManifest).references
+        : { designerOptimal: r?.designer?.high ?? NaN, designerRandom: r?.designer?.low ?? NaN, intentOptimal: r?.intent?.high ?? NaN, intentRandom: r?.intent?.low ?? NaN },
+    steps,
     episodes: summary?.episodes ?? last?.episodes ?? 0,
     trainSeconds: summary?.trainSeconds ?? 0,
     monitorSeconds: summary?.monitorSeconds ?? 0,
+    ...(external === null ? {} : { source: external.source, relative: summary?.relative ?? (r?.designer === null || r?.intent === null) }),
   };
 }

@@ -12,6 +12,7 @@ import { registerCompare } from "./compare.js";
 import { registerWorker } from "./worker.js";
 import { registerRuns } from "./runs.js";
 import { registerReport } from "./report.js";
+import { registerIngest } from "./ingest.js";
 
 export const commands: CommandModule[] = [
   registerDemo,
@@ -20,6 +21,7 @@ export const commands: CommandModule[] = [
   registerAudit,
   registerPressure,
   registerTrain,
+  registerIngest,
   registerCompare,
   registerWorker,
   registerRuns,

@@ -33,9 +33,23 @@ export function registerRuns(program: Command, ctx: CliContext): void {
           let t = persisted ? "" : `(no index file in ${doc.index.replace(/[\\/]index\.db$/, "")}: listed from the run folders, nothing written; gapwatch runs --rebuild writes one)\n\n`;
           t += rebuilt ? `rebuilt ${doc.index}: ${rebuilt.runs} runs, ${rebuilt.comparisons} comparisons${rebuilt.skipped.length ? `, skipped ${rebuilt.skipped.join(", ")}` : ""}\n\n` : "";
           const vc = (v: string) => paint(color, v === "aligned" ? "green" : v === "decoupled" ? "red" : "yellow", v);
+          // External runs (gapwatch ingest) add a source column naming the log files they read.
+          const withSource = runs.some((r) => r.source !== undefined);
           t += table(
-            ["env", "reward", "learner", "seed", "status", "verdict", "designer", "intent", "alerts", "run"],
-            runs.map((r) => [r.env, r.reward, r.learner, r.seed, r.status === "complete" ? r.status : paint(color, "yellow", r.status), vc(r.verdict), r.designer === null ? "-" : r.designer.toFixed(2), r.intent === null ? "-" : r.intent.toFixed(2), r.alerts, r.runId]),
+            ["env", "reward", "learner", "seed", "status", "verdict", "designer", "intent", "alerts", "run", ...(withSource ? ["source"] : [])],
+            runs.map((r) => [
+              r.env,
+              r.reward,
+              r.learner,
+              r.seed,
+              r.status === "complete" ? r.status : paint(color, "yellow", r.status),
+              vc(r.verdict),
+              r.designer === null ? "-" : r.designer.toFixed(2),
+              r.intent === null ? "-" : r.intent.toFixed(2),
+              r.alerts,
+              r.runId,
+              ...(withSource ? [r.source ?? "-"] : []),
+            ]),
             { color },
           );
           t += `${runs.length} run(s)\n`;
