@@ -6,7 +6,8 @@ import { writeJsonAtomic } from "../store/atomic.js";
 import { readRun, RUN_FILES } from "../store/run-store.js";
 import type { RunResult, RunSummary } from "../run/schema.js";
 import type { TrainConfigInput } from "../run/schema.js";
-import { runTraining, type Progress } from "../train/run.js";
+import { resolveTrainConfig, runTraining, type Progress } from "../train/run.js";
+import { planRun, readPlan } from "../batch/sweep-plan.js";
 import { writeReport } from "../report/write.js";
 import { startWorker } from "../util/worker.js";
 import { join } from "node:path";
@@ -22,6 +23,8 @@ export interface TrainCommandConfig {
   /** Set `aborted` to stop; the run is stored as "interrupted". */
   signal?: { readonly aborted: boolean };
   onProgress?: (p: Progress) => void;
+  /** Do not record the run in `<runsDir>/index.db` (the SQLite file is never opened). */
+  noIndex?: boolean;
 }
 
 /** The JSON document of `gapwatch train`. */
@@ -132,7 +135,32 @@ export async function runTrainCommand(cfg: TrainCommandConfig) {
   const result = cfg.input.env !== undefined && isModuleSpec(cfg.input.env)
     ? await trainInWorker(cfg)
     : await runTraining(cfg.input, { runsDir: cfg.runsDir, signal: cfg.signal, onProgress: cfg.onProgress, maxStates: cfg.maxStates });
-  indexRun(cfg.runsDir, result);
+  if (!cfg.noIndex) indexRun(cfg.runsDir, result);
   const report = cfg.report ? await writeReport(result.runDir, { out: typeof cfg.report === "string" ? cfg.report : undefined }) : null;
   return { result, report, doc: report ? { ...trainDocument(result), report } : trainDocument(result) };
+}
+
+export interface PlanTaskConfig {
+  /** The plan file written by `compare --plan`. */
+  plan: string;
+  /** Which run of the plan (0-based). */
+  index: number;
+  runsDir: string;
+  signal?: { readonly aborted: boolean };
+  onProgress?: (p: Progress) => void;
+}
+
+/**
+ * Run one run of a plan into the runs folder (an array-job task): no index writes. Refused (exit 2)
+ * when the run's inputs changed since the plan was written (its run id would differ).
+ */
+export async function runPlanTask(cfg: PlanTaskConfig) {
+  const plan = readPlan(cfg.plan);
+  const run = planRun(plan, cfg.index);
+  const { runId } = await resolveTrainConfig(run.input, { maxStates: plan.sweep.maxStates });
+  if (runId !== run.runId) {
+    throw new InputError("plan.stale", `run ${run.index} would now be ${runId}, not the plan's ${run.runId}: an input changed since the plan was written; write the plan again`, cfg.plan);
+  }
+  const result = await runTraining(run.input, { runsDir: cfg.runsDir, signal: cfg.signal, onProgress: cfg.onProgress, maxStates: plan.sweep.maxStates });
+  return { result, report: null, doc: { index: run.index, runId: result.runId, ...trainDocument(result) } };
 }

@@ -64,7 +64,7 @@ export interface ComparisonDocument extends ComparisonStats {
     steps: number | null;
     bootstrapSeed: number;
     bootstrapReps: number;
-    backend: "local" | "redis";
+    backend: "local" | "redis" | "plan";
   };
   runDirs: { reward: string; learner: string; seed: number; runId: string; runDir: string }[];
   createdAt: string;
@@ -119,6 +119,53 @@ export async function runLocalBatch(jobs: BatchJob[], runsDir: string, workers: 
   }
 }
 
+/**
+ * Aggregate the outcomes of a sweep's jobs and write `<runsDir>/compare-<hash>/` (comparison.json,
+ * comparison.csv) and its index row. The folder's hash covers the sweep and the job ids, so the same
+ * sweep lands in the same folder whichever way its runs were made (pool, queue, plan tasks).
+ */
+export function writeComparison(
+  cfg: Pick<CompareConfig, "env" | "rewards" | "learners" | "seeds" | "steps" | "bootstrapSeed" | "reps">,
+  jobs: BatchJob[],
+  outcomes: RunOutcome[],
+  runsDir: string,
+  backend: ComparisonDocument["config"]["backend"],
+  index: { recordComparison(doc: ComparisonDocument, dir: string): void },
+): CompareResult {
+  const records = outcomes.map(recordOf);
+  const stats = aggregateComparison(records, {
+    env: cfg.env,
+    rewards: cfg.rewards,
+    learners: cfg.learners,
+    seeds: cfg.seeds,
+    bootstrapSeed: cfg.bootstrapSeed,
+    reps: cfg.reps,
+  });
+  const config: ComparisonDocument["config"] = {
+    env: cfg.env,
+    rewards: cfg.rewards,
+    learners: cfg.learners,
+    seeds: cfg.seeds,
+    steps: cfg.steps ?? null,
+    bootstrapSeed: cfg.bootstrapSeed,
+    bootstrapReps: cfg.reps ?? BOOTSTRAP_DEFAULTS.reps,
+    backend,
+  };
+  const { backend: _b, ...hashed } = config;
+  const id = "compare-" + sha256(canonicalJson({ ...hashed, jobs: jobs.map((j) => j.jobId) })).slice(0, 12);
+  const dir = join(runsDir, id);
+  mkdirSync(dir, { recursive: true });
+  const runDirs = outcomes
+    .filter((o): o is RunOutcome & { ok: true; result: RunResult } => o.ok)
+    .map((o) => ({ ...o.cell, runId: o.result.runId, runDir: o.result.runDir }));
+  const doc: ComparisonDocument = { format: "gapwatch-comparison/1", id, ...stats, config, runDirs, createdAt: new Date().toISOString() };
+  const csv = comparisonCsv(cfg.env, records);
+  writeJsonAtomic(join(dir, COMPARISON_FILE), doc);
+  writeFileAtomic(join(dir, "comparison.csv"), csv);
+  index.recordComparison(doc, dir);
+  return { stats, doc, dir, records, csv, outcomes };
+}
+
 export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): Promise<CompareResult> {
   for (const l of cfg.learners) getLearner(l);
   if (cfg.rewards.length === 0) throw new InputError("compare.rewards", "--rewards needs at least one variant", "--rewards");
@@ -151,38 +198,7 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
     outcomes = target
       ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, runTimeoutMs: cfg.runTimeoutMs, waitTimeoutMs: cfg.waitTimeoutMs, onNotice: hooks.onNotice, onOutcome, store: (job, value) => writeShippedRun(runsDir, job, value) })
       : await runLocalBatch(jobs, runsDir, cfg.workers ?? defaultWorkers(), onOutcome, { timeoutMs: cfg.runTimeoutMs });
-    const records = outcomes.map(recordOf);
-    const stats = aggregateComparison(records, {
-      env: cfg.env,
-      rewards: cfg.rewards,
-      learners: cfg.learners,
-      seeds: cfg.seeds,
-      bootstrapSeed: cfg.bootstrapSeed,
-      reps: cfg.reps,
-    });
-    const config: ComparisonDocument["config"] = {
-      env: cfg.env,
-      rewards: cfg.rewards,
-      learners: cfg.learners,
-      seeds: cfg.seeds,
-      steps: cfg.steps ?? null,
-      bootstrapSeed: cfg.bootstrapSeed,
-      bootstrapReps: cfg.reps ?? BOOTSTRAP_DEFAULTS.reps,
-      backend: target ? "redis" : "local",
-    };
-    const { backend: _b, ...hashed } = config;
-    const id = "compare-" + sha256(canonicalJson({ ...hashed, jobs: jobs.map((j) => j.jobId) })).slice(0, 12);
-    const dir = join(runsDir, id);
-    mkdirSync(dir, { recursive: true });
-    const runDirs = outcomes
-      .filter((o): o is RunOutcome & { ok: true; result: RunResult } => o.ok)
-      .map((o) => ({ ...o.cell, runId: o.result.runId, runDir: o.result.runDir }));
-    const doc: ComparisonDocument = { format: "gapwatch-comparison/1", id, ...stats, config, runDirs, createdAt: new Date().toISOString() };
-    const csv = comparisonCsv(cfg.env, records);
-    writeJsonAtomic(join(dir, COMPARISON_FILE), doc);
-    writeFileAtomic(join(dir, "comparison.csv"), csv);
-    index.recordComparison(doc, dir);
-    return { stats, doc, dir, records, csv, outcomes };
+    return writeComparison(cfg, jobs, outcomes, runsDir, target ? "redis" : "local", index);
   } finally {
     index.close();
   }

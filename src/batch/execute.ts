@@ -15,7 +15,7 @@ import { tmpdir } from "node:os";
 import { basename, join } from "node:path";
 import { GapwatchError, InputError } from "../errors.js";
 import { checkShippedRun, runFolderInside } from "./job-guard.js";
-import { readRun, runId as makeRunId, RUN_FILES } from "../store/run-store.js";
+import { commitRunDir, readRun, runId as makeRunId, RUN_FILES, tempRunDir } from "../store/run-store.js";
 import { writeFileAtomic } from "../store/atomic.js";
 import type { RunResult } from "../run/schema.js";
 import { runTraining } from "../train/run.js";
@@ -44,6 +44,11 @@ function relabel(files: Record<string, string>, from: string, to: string, config
   json(RUN_FILES.manifest, (d) => {
     d.runId = to;
     d.config = config;
+    const inputs = d.inputs as { files?: { role: string; path: string }[] } | undefined;
+    for (const f of inputs?.files ?? []) {
+      if (f.role === "env") f.path = config.env;
+      if (f.role === "reward") f.path = config.reward;
+    }
   });
   json(RUN_FILES.summary, (d) => {
     if (d.runId === from) d.runId = to;
@@ -91,7 +96,8 @@ export async function executeRemote(job: BatchJob): Promise<ShippedRun> {
     }
     if (!moved) return { runId: result.runId, files };
     const config = { ...result.config, env: original.env, ...(original.reward !== undefined && result.config.reward === input.reward ? { reward: original.reward } : {}) };
-    const id = makeRunId(config);
+    const manifest = JSON.parse(files[RUN_FILES.manifest]) as { inputs?: { hash: string } };
+    const id = makeRunId(config, manifest.inputs?.hash);
     return { runId: id, files: relabel(files, result.runId, id, config) };
   } finally {
     rmSync(scratch, { recursive: true, force: true });
@@ -99,14 +105,20 @@ export async function executeRemote(job: BatchJob): Promise<ShippedRun> {
 }
 
 /**
- * Coordinator side: write the result of `job` into `<runsDir>/<runId>/` (each file atomically). The
+ * Coordinator side: write the result of `job` into `<runsDir>/<runId>/` (a temporary folder renamed
+ * into place, run-store.ts `commitRunDir`). The
  * result is checked first (job-guard.ts): the run id must be this job's, the files only run files.
  */
 export function writeShippedRun(runsDir: string, job: BatchJob, value: unknown): RunResult {
   const shipped = checkShippedRun(job, value);
-  const dir = runFolderInside(runsDir, shipped.runId);
-  mkdirSync(dir, { recursive: true });
-  for (const f of Object.values(RUN_FILES)) if (shipped.files[f] === undefined) rmSync(join(dir, f), { force: true });
-  for (const [name, text] of Object.entries(shipped.files)) writeFileAtomic(join(dir, name), text);
-  return readRun(dir);
+  runFolderInside(runsDir, shipped.runId);
+  const tmp = tempRunDir(runsDir, shipped.runId);
+  mkdirSync(tmp, { recursive: true });
+  try {
+    for (const [name, text] of Object.entries(shipped.files)) writeFileAtomic(join(tmp, name), text);
+  } catch (err) {
+    rmSync(tmp, { recursive: true, force: true });
+    throw err;
+  }
+  return readRun(commitRunDir(runsDir, shipped.runId, tmp));
 }

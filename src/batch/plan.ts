@@ -9,6 +9,7 @@ import { resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { canonicalJson } from "../util/canonical-json.js";
 import type { TrainConfigInput } from "../run/schema.js";
+import { inputsOf } from "../env/inputs.js";
 import type { BatchJob } from "./types.js";
 
 export interface SweepSpec {
@@ -71,10 +72,20 @@ export function shipFiles(input: TrainConfigInput): Record<string, string> {
   return files;
 }
 
-/** Deterministic job id: the same run config (and the same file contents) always gives the same id. */
-export function jobIdOf(input: TrainConfigInput, files: Record<string, string> = {}): string {
+/**
+ * Deterministic job id: the same run config and the same inputs (file contents, including a simulator
+ * module and its local imports, and gapwatch's version: `inputsHash`, src/env/inputs.ts) always give
+ * the same id; an edited input gives a new one, so a resubmission never hits a stale completed job.
+ */
+export function jobIdOf(input: TrainConfigInput, files: Record<string, string> = {}, inputsHash?: string): string {
   const fileHashes = Object.fromEntries(Object.entries(files).map(([k, v]) => [k, sha256(v)]));
-  return "run-" + sha256(canonicalJson({ input, files: fileHashes })).slice(0, 32);
+  return "run-" + sha256(canonicalJson({ input, files: fileHashes, ...(inputsHash !== undefined ? { inputs: inputsHash } : {}) })).slice(0, 32);
+}
+
+/** The input digest of a job's config, without loading the model (a `.json`/module `--env` is a file; a `--reward` ending in .json that exists is a file). */
+export function jobInputsHash(input: TrainConfigInput): string {
+  const envIsFile = /\.json$/i.test(input.env) || /\.(m|c)?[jt]sx?$/i.test(input.env);
+  return inputsOf(input.env, envIsFile, input.reward, false).hash;
 }
 
 /** One job per (reward, learner, seed). `ship` reads the input files into the jobs (Redis backend). */
@@ -82,16 +93,17 @@ export function planSweep(spec: SweepSpec, opts: { ship?: boolean } = {}): Batch
   const total = spec.rewards.length * spec.learners.length * spec.seeds.length;
   if (total > MAX_SWEEP_RUNS) throw new InputError("compare.size", `${spec.rewards.length} rewards x ${spec.learners.length} learners x ${spec.seeds.length} seeds = ${total} runs, more than the ${MAX_SWEEP_RUNS} a sweep may plan`, "--seeds");
   const jobs: BatchJob[] = [];
-  const cache = new Map<string, Record<string, string>>();
+  const cache = new Map<string, { files: Record<string, string>; inputs: string }>();
   for (const reward of spec.rewards) {
     for (const learner of spec.learners) {
       for (const seed of spec.seeds) {
         const input: TrainConfigInput = { ...(spec.base ?? {}), env: spec.env, reward, learner, seed, ...(spec.steps !== undefined ? { steps: spec.steps } : {}) };
         const key = `${reward}`;
-        let files = cache.get(key);
-        if (!files) cache.set(key, (files = shipFiles(input)));
+        let hit = cache.get(key);
+        if (!hit) cache.set(key, (hit = { files: shipFiles(input), inputs: jobInputsHash(input) }));
+        const files = hit.files;
         jobs.push({
-          jobId: jobIdOf(input, files),
+          jobId: jobIdOf(input, files, hit.inputs),
           input,
           ...(opts.ship && Object.keys(files).length ? { files } : {}),
           ...(spec.maxStates !== undefined ? { maxStates: spec.maxStates } : {}),

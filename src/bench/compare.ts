@@ -97,7 +97,7 @@ function fingerprint(runsDir: string, stats: unknown): string {
   const h = createHash("sha256");
   for (const name of readdirSync(runsDir).sort()) {
     const d = join(runsDir, name);
-    if (!existsSync(join(d, "manifest.json"))) continue;
+    if (name.startsWith(".") || !existsSync(join(d, "manifest.json"))) continue;
     h.update(name + "\n" + readFileSync(join(d, "checkpoints.jsonl"), "utf8") + JSON.stringify(JSON.parse(readFileSync(join(d, "summary.json"), "utf8")).final));
   }
   h.update(JSON.stringify(stats));

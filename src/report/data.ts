@@ -144,6 +144,7 @@ export function findRunDirs(dir: string, depth = 2): string[] {
       return;
     }
     for (const n of names) {
+      if (n.startsWith(".")) continue; // temporary and set-aside run folders (src/store/run-store.ts)
       const p = join(d, n);
       let isDir = false;
       try {

@@ -141,10 +141,33 @@ export interface RunManifest {
   model: { name: string; states: number; actions: number; gamma: number; horizon: number };
   /** Normalization references: expected discounted returns from the start distribution. */
   references: ScoreReferencesDoc;
+  /**
+   * Content hashes of the run's input files and gapwatch's version (src/env/inputs.ts); the run id
+   * includes `inputs.hash`. Absent in runs written before content addressing.
+   */
+  inputs?: RunInputs;
   packageVersion: string;
   nodeVersion: string;
   /** ISO time the run started (the only clock value in the run directory besides summary timings). */
   createdAt: string;
+}
+
+/** One hashed input file of a run. */
+export interface InputFile {
+  /** "env", "reward", or a module's local import as a path relative to the module's folder. */
+  role: string;
+  /** The file as resolved on the machine that ran it (informative; not part of the digest). */
+  path: string;
+  sha256: string;
+  bytes: number;
+}
+
+/** manifest.json "inputs". */
+export interface RunInputs {
+  files: InputFile[];
+  gapwatch: string;
+  /** SHA-256 over the roles, the file hashes and the version (what run ids and job ids include). */
+  hash: string;
 }
 
 export interface ScoreReferencesDoc {

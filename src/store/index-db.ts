@@ -13,7 +13,7 @@ import Database from "better-sqlite3";
 import { existsSync, mkdirSync, readdirSync, readFileSync, statSync } from "node:fs";
 import { basename, join, resolve } from "node:path";
 import { InputError } from "../errors.js";
-import { readRun, RUN_FILES } from "./run-store.js";
+import { isHiddenRunFolder, readRun, RUN_FILES } from "./run-store.js";
 import type { RunResult, RunSummary } from "../run/schema.js";
 
 export const INDEX_FILE = "index.db";
@@ -270,7 +270,7 @@ export class RunIndex {
    */
   rebuild(): { runs: number; comparisons: number; skipped: string[] } {
     const dir = resolve(this.runsDir);
-    const entries = existsSync(dir) ? readdirSync(dir, { withFileTypes: true }).filter((e) => e.isDirectory()).map((e) => e.name).sort() : [];
+    const entries = existsSync(dir) ? readdirSync(dir, { withFileTypes: true }).filter((e) => e.isDirectory() && !isHiddenRunFolder(e.name)).map((e) => e.name).sort() : [];
     const skipped: string[] = [];
     let runs = 0;
     let comparisons = 0;

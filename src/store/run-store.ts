@@ -5,11 +5,18 @@
  *   alerts.jsonl       one pino line per alert (level, time, runId, step, kind, magnitude, message)
  *   summary.json       status, verdict, reason, final scores, counts (atomically, at the end)
  *   policy.json        final greedy policy and learner state (atomically, at the end)
- * The run id is deterministic: `<env>-<reward>-<learner>-s<seed>-<hash8>`, hash8 = the first 8 hex
- * digits of SHA-256 over the canonical JSON (sorted keys) of the resolved config. Re-running the
- * same config replaces the directory's files.
+ * The run id is content-addressed: `<env>-<reward>-<learner>-s<seed>-<hash8>`, hash8 = the first 8
+ * hex digits of SHA-256 over the canonical JSON (sorted keys) of the resolved config and the digest
+ * of the run's inputs (file contents and gapwatch's version, src/env/inputs.ts), so editing a model,
+ * reward or module file gives a new id.
+ *
+ * A run is written into a private temporary folder `<runsDir>/.tmp-<runId>-<pid>-<random>/` and
+ * renamed into `<runsDir>/<runId>/` when it ends (`commitRunDir`): a reader never sees a half-written
+ * run under its id, two processes writing the same run at once each rename a whole folder (the last
+ * one wins), and a process killed mid-run leaves the previous folder intact (and a dot-folder that
+ * readers skip). Re-running the same config replaces the folder.
  */
-import { createHash } from "node:crypto";
+import { createHash, randomBytes } from "node:crypto";
 import { existsSync, mkdirSync, readFileSync, renameSync, rmSync } from "node:fs";
 import { basename, join, resolve } from "node:path";
 import pino from "pino";
@@ -37,10 +44,57 @@ export function runIdPrefix(config: Pick<TrainConfig, "env" | "reward" | "learne
   return `${slug(config.env)}-${slug(config.reward)}-${slug(config.learner)}-s${config.seed}-`;
 }
 
-export function runId(config: TrainConfig): string {
-  const hash = createHash("sha256").update(canonicalJson(config)).digest("hex").slice(0, 8);
+/**
+ * The run id of a resolved config and the digest of its inputs (`RunInputs.hash`). Without a digest
+ * (runs written before content addressing) only the config is hashed.
+ */
+export function runId(config: TrainConfig, inputsHash?: string): string {
+  const text = inputsHash === undefined ? canonicalJson(config) : canonicalJson({ config, inputs: inputsHash });
+  const hash = createHash("sha256").update(text).digest("hex").slice(0, 8);
   return runIdPrefix(config) + hash;
 }
+
+/** True for the names of folders under a runs folder that readers skip (temporary and set-aside runs). */
+export const isHiddenRunFolder = (name: string): boolean => name.startsWith(".");
+
+/** A fresh private folder name for a run being written: `.tmp-<runId>-<pid>-<random>`. */
+export function tempRunDir(runsDir: string, runId: string): string {
+  return join(resolve(runsDir), `.tmp-${runId}-${process.pid}-${randomBytes(4).toString("hex")}`);
+}
+
+/**
+ * Move a finished run folder `tmpDir` to `<runsDir>/<runId>`, replacing a folder already there: the
+ * old one is renamed aside first, the new one renamed in, then the old one removed. Concurrent
+ * committers of the same run retry until one whole folder is in place; returns the final path.
+ */
+export function commitRunDir(runsDir: string, runId: string, tmpDir: string): string {
+  const dest = join(resolve(runsDir), runId);
+  for (let attempt = 0; ; attempt++) {
+    try {
+      renameSync(tmpDir, dest);
+      break;
+    } catch (err) {
+      const code = (err as NodeJS.ErrnoException).code;
+      if ((code !== "ENOTEMPTY" && code !== "EEXIST" && code !== "EISDIR") || attempt >= 20) {
+        throw new GapwatchError("store.commit", `cannot move the finished run into place: ${(err as Error).message}`, { where: dest, cause: err });
+      }
+      const aside = join(resolve(runsDir), `.old-${runId}-${process.pid}-${randomBytes(4).toString("hex")}`);
+      try {
+        renameSync(dest, aside);
+      } catch (e) {
+        if ((e as NodeJS.ErrnoException).code !== "ENOENT") throw new GapwatchError("store.commit", `cannot set the previous run aside: ${(e as Error).message}`, { where: dest, cause: e });
+        continue;
+      }
+      rmSync(aside, { recursive: true, force: true });
+    }
+  }
+  return dest;
+}
+
+/**
+ * Writes one run directory: into a private temporary folder (`dir`), moved to `finalDir` by
+ * `commit()`. Synchronous file operations so a SIGINT handler's flush is complete.
+ */
 
 /**
  * Run id of an external run (`gapwatch ingest`): `ext-<first input's name>-<hash8>`, hash8 over the
@@ -94,19 +148,23 @@ export function writeExternalRun(runsDir: string, run: { manifest: ExternalRunMa
 
 /** Writes one run directory. Synchronous file operations so a SIGINT handler's flush is complete. */
 export class RunWriter {
-  readonly dir: string;
+  /** Where the files are being written (the temporary folder until `commit()`, then `finalDir`). */
+  dir: string;
+  readonly finalDir: string;
+  private readonly runsDir: string;
   private readonly alertLog: pino.Logger;
   private readonly alertDest: pino.DestinationStream & { flushSync(): void; end(): void };
   private closed = false;
 
   constructor(runsDir: string, readonly runId: string) {
-    this.dir = join(resolve(runsDir), runId);
+    this.runsDir = resolve(runsDir);
+    this.finalDir = join(this.runsDir, runId);
+    this.dir = tempRunDir(this.runsDir, runId);
     try {
       mkdirSync(this.dir, { recursive: true });
     } catch (err) {
       throw new InputError("store.runsDir", `cannot create the run directory: ${(err as Error).message}; pass a writable --runs-dir`, this.dir);
     }
-    for (const f of Object.values(RUN_FILES)) rmSync(join(this.dir, f), { force: true });
     this.alertDest = pino.destination({ dest: join(this.dir, RUN_FILES.alerts), sync: true }) as unknown as typeof this.alertDest;
     this.alertLog = pino(
       {
@@ -149,6 +207,19 @@ export class RunWriter {
     this.closed = true;
     this.alertDest.flushSync();
     this.alertDest.end();
+  }
+
+  /** Close and move the finished run into `<runsDir>/<runId>/`; returns that folder. Call after writeSummary. */
+  commit(): string {
+    this.close();
+    if (this.dir !== this.finalDir) this.dir = commitRunDir(this.runsDir, this.runId, this.dir);
+    return this.dir;
+  }
+
+  /** Close and delete the temporary folder (a run that must not be stored). */
+  discard(): void {
+    this.close();
+    if (this.dir !== this.finalDir) rmSync(this.dir, { recursive: true, force: true });
   }
 }
 
@@ -193,6 +264,8 @@ export function readRun(dir: string): RunResult {
   if (summary && summary.runId !== manifest.runId) {
     throw new GapwatchError("store.mismatch", `summary.json belongs to run ${summary.runId}, manifest to ${manifest.runId}`, { where: dir });
   }
+  // A summary that disagrees with the checkpoints on disk (a folder mixed from two writers) is not trusted.
+  const torn = summary !== null && summary.checkpointCount !== undefined && summary.checkpointCount !== checkpoints.length;
   const external = "kind" in manifest && manifest.kind === "external" ? manifest : null;
   const steps = summary?.steps ?? last?.step ?? 0;
   const r = external?.source.ranges;
@@ -200,9 +273,11 @@ export function readRun(dir: string): RunResult {
     runId: manifest.runId,
     runDir: resolve(dir),
     config: external === null ? (manifest as RunManifest).config : externalStandInConfig(external.source, steps, checkpoints.length),
-    status: summary?.status ?? "interrupted",
-    verdict: summary?.verdict ?? "inconclusive",
-    reason: summary?.reason ?? "the run stopped before writing its summary",
+    status: torn ? "interrupted" : summary?.status ?? "interrupted",
+    verdict: torn ? "inconclusive" : summary?.verdict ?? "inconclusive",
+    reason: torn
+      ? `checkpoints.jsonl holds ${checkpoints.length} checkpoints but summary.json counts ${summary?.checkpointCount}; re-run it`
+      : summary?.reason ?? "the run stopped before writing its summary",
     checkpoints,
     alerts,
     final: summary?.final ?? last,

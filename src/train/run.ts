@@ -11,13 +11,14 @@ import { performance } from "node:perf_hooks";
 import { GapwatchError, InputError } from "../errors.js";
 import { learnerView, viewEnv } from "../model/learner-view.js";
 import { builtinScenarioNames, isModuleSpec, loadEnv, loadFiniteVariant, type EnvLoadOptions, type LoadedEnv } from "../env/index.js";
+import { inputsOf } from "../env/inputs.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { evaluateExact, evaluateMonteCarlo, normalizeScores, reachableStates, scoreReferencesFor, type ScoreReferences, type Scores } from "../monitor/evaluate.js";
 import { Monitor, type ScoreBounds } from "../monitor/monitor.js";
 import { createRng } from "../rng/rng.js";
 import { defaultVariantName, designerReward } from "../model/reward.js";
 import { RunWriter, runId as makeRunId } from "../store/run-store.js";
-import type { Alert, CheckpointRecord, RunManifest, RunResult, RunStatus, RunSummary, TrainConfig, TrainConfigInput } from "../run/schema.js";
+import type { Alert, CheckpointRecord, RunInputs, RunManifest, RunResult, RunStatus, RunSummary, TrainConfig, TrainConfigInput } from "../run/schema.js";
 import { logger } from "../util/log.js";
 import { packageVersion } from "../util/paths.js";
 import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS } from "./config.js";
@@ -54,6 +55,10 @@ export interface ResolvedRun {
   variant: RewardVariant;
   /** Where the environment came from (built-in scenarios are cached per process). */
   kind: LoadedEnv["kind"];
+  /** Content hashes of the input files and the version (the run id includes `inputs.hash`). */
+  inputs: RunInputs;
+  /** The run's content-addressed id. */
+  runId: string;
 }
 
 /**
@@ -123,7 +128,9 @@ export async function resolveTrainConfig(input: TrainConfigInput, opts: EnvLoadO
     monitor: input.monitor ?? {},
   };
   checkTrainConfig(config);
-  return { config, model, variant, kind: loaded.kind };
+  const knownVariant = input.reward === undefined || Object.prototype.hasOwnProperty.call(model.variants ?? {}, input.reward);
+  const inputs = inputsOf(input.env, loaded.kind !== "scenario", input.reward, knownVariant);
+  return { config, model, variant, kind: loaded.kind, inputs, runId: makeRunId(config, inputs.hash) };
 }
 
 function referencesDoc(r: ScoreReferences) {
@@ -160,8 +167,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     if (loaded.kind === "module" && !loaded.model) return runModuleTraining(input, loaded, opts);
     load = async () => loaded;
   }
-  const { config, model, variant, kind: loadedKind } = await resolveTrainConfig(input, { maxStates: opts.maxStates }, load);
-  const id = makeRunId(config);
+  const { config, model, variant, kind: loadedKind, inputs, runId: id } = await resolveTrainConfig(input, { maxStates: opts.maxStates }, load);
   const writer = new RunWriter(opts.runsDir, id);
   const log = logger().child({ runId: id, env: config.env, reward: config.reward, seed: config.seed });
   log.info({ learner: config.learner, steps: config.steps, checkpoints: config.checkpoints, evaluation: config.evaluation }, "run started");
@@ -185,6 +191,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     checkpointEvery: every,
     model: { name: model.name, states: model.nStates, actions: model.nActions, gamma: model.gamma, horizon: model.horizon },
     references: referencesDoc(refs),
+    inputs,
     packageVersion: packageVersion(),
     nodeVersion: process.version,
     createdAt: new Date().toISOString(),
@@ -243,7 +250,7 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     }
   }
   const result = finish();
-  if (status === "failed") throw new GapwatchError("train.failed", `training failed: ${error}`, { where: writer.dir });
+  if (status === "failed") throw new GapwatchError("train.failed", `training failed: ${error}`, { where: writer.finalDir });
   return result;
 
   function finish(): RunResult {
@@ -279,11 +286,11 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
       finishedAt: new Date().toISOString(),
     };
     writer.writeSummary(summary);
-    writer.close();
+    const runDir = writer.commit();
     log.info({ status, verdict: v.verdict, steps, alerts: monitor.alerts.length }, "run finished");
     return {
       runId: id,
-      runDir: writer.dir,
+      runDir,
       config,
       status,
       verdict: v.verdict,

@@ -7,7 +7,7 @@
 import type { Command } from "commander";
 import { resolve } from "node:path";
 import { defaultLearner } from "../../../policies/index.js";
-import { runCompareCommand } from "../../app/compare.js";
+import { collectCommand, runCompareCommand, writePlanCommand, type CollectGate } from "../../app/compare.js";
 import type { CompareResult } from "../../batch/compare.js";
 import { MAX_SWEEP_RUNS, parseList, parseSeedList } from "../../batch/plan.js";
 import { defaultWorkers } from "../../batch/pool.js";
@@ -38,6 +38,19 @@ interface CompareCliOptions {
   json?: boolean;
   /** --report: true for the default `<comparison-dir>/report.html`, or a file. */
   report?: boolean | string;
+  plan?: string;
+  collect?: string;
+  failOn?: string;
+}
+
+const GATES: readonly CollectGate[] = ["missing", "failed", "decoupled"];
+
+function parseGates(text: string): CollectGate[] {
+  return parseList(text, "--fail-on").map((g) => {
+    const hit = GATES.find((k) => k === g);
+    if (!hit) throw new InputError("cli.failOn", `--fail-on takes ${GATES.join(", ")}; got "${g}"`, "--fail-on");
+    return hit;
+  });
 }
 
 const f2 = (x: number | null) => (x === null ? "-" : x.toFixed(2));
@@ -83,8 +96,8 @@ export function registerCompare(program: Command, ctx: CliContext): void {
   program
     .command("compare")
     .description("train every reward variant on the same seeds, locally or on many machines; rank by intent with bootstrap intervals")
-    .addOption(envOption())
-    .requiredOption("--rewards <list>", "comma-separated reward variant names or reward files")
+    .addOption(envOption().makeOptionMandatory(false))
+    .option("--rewards <list>", "comma-separated reward variant names or reward files (required unless --collect)")
     .option("--learners <list>", `comma-separated learners (default ${defaultLearner})`)
     .option("--seeds <n>", "seeds 1..n (default 10)")
     .option("--seed-list <list>", "explicit seeds, e.g. 1,2,3 or 1-20")
@@ -100,11 +113,50 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .option("--csv <file>", "also write the per-run CSV here")
     .addOption(reportOption("the HTML report of the comparison", "<comparison-dir>/report.html"))
     .addOption(maxStatesOption())
+    .option("--plan <file>", "write the sweep's plan (every run's config and id) to this file and run nothing; with --collect: the plan to read")
+    .option("--collect <dir>", "build the comparison from the finished run folders in DIR (a runs folder) for the plan (--plan, default DIR/plan.json)")
+    .option("--fail-on <list>", "with --collect: exit 3 when any of missing, failed, decoupled occurs")
     .addOption(jsonOption())
     .action(
       action(ctx, async (opts: CompareCliOptions) => {
+        if (opts.collect !== undefined) {
+          const runsDir = resolve(ctx.io.cwd, opts.collect);
+          const out = await collectCommand({
+            runsDir,
+            plan: resolve(ctx.io.cwd, opts.plan ?? resolve(runsDir, "plan.json")),
+            failOn: opts.failOn === undefined ? [] : parseGates(opts.failOn),
+            csv: opts.csv === undefined ? undefined : resolve(ctx.io.cwd, opts.csv),
+            report: reportOf(ctx.io, opts.report),
+          });
+          emit(ctx.io, Boolean(opts.json), out.doc, () => compareText(out.result, useColor(ctx.io)));
+          if (out.missing.length) ctx.io.err(`missing runs (by plan index): ${out.missing.join(",")}\n`);
+          if (opts.json) ctx.io.err(`comparison: ${out.result.dir}\n`);
+          return out.gate ? EXIT.gate : EXIT.ok;
+        }
+        if (opts.failOn !== undefined) throw new InputError("cli.conflict", "--fail-on goes with --collect", "--fail-on");
+        if (!opts.env) throw new InputError("cli.missing", "compare needs --env (or --collect DIR)", "--env");
+        if (!opts.rewards) throw new InputError("cli.missing", "compare needs --rewards (or --collect DIR)", "--rewards");
         if (opts.seeds !== undefined && opts.seedList !== undefined) throw new InputError("cli.conflict", "give --seeds or --seed-list, not both", "--seed-list");
         const seeds = opts.seedList !== undefined ? parseSeedList(opts.seedList) : Array.from({ length: intOption(opts.seeds, "--seeds", { def: 10, max: MAX_SWEEP_RUNS }) }, (_, i) => i + 1);
+        if (opts.plan !== undefined) {
+          if (opts.queue !== undefined) throw new InputError("cli.conflict", "give --plan or --queue, not both", "--plan");
+          const file = resolve(ctx.io.cwd, opts.plan);
+          const { plan, doc } = await writePlanCommand(
+            {
+              env: opts.env,
+              rewards: parseList(opts.rewards, "--rewards"),
+              learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
+              seeds,
+              steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
+              bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
+              reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: BOOTSTRAP_DEFAULTS.reps }),
+              maxStates: maxStatesOf(opts),
+            },
+            file,
+          );
+          emit(ctx.io, Boolean(opts.json), doc, () => `plan ${plan.id}: ${plan.runs.length} runs (indices 0..${plan.runs.length - 1}) written to ${file}\n`);
+          return EXIT.ok;
+        }
         const showBar = ctx.io.stderrIsTTY && !opts.json;
         const t0 = Date.now();
         const { result, report, doc } = await runCompareCommand(

@@ -3,8 +3,9 @@
  * Exit codes: 0 done, 2 bad input, 3 an alert fired and --fail-on-alert was given, 130 interrupted.
  */
 import type { Command } from "commander";
+import { resolve } from "node:path";
 import { defaultLearner } from "../../../policies/index.js";
-import { runTrainCommand } from "../../app/train.js";
+import { runPlanTask, runTrainCommand } from "../../app/train.js";
 import { EXIT, InputError } from "../../errors.js";
 import { parseRange } from "../../monitor/external.js";
 import { sparklines } from "../../report/terminal.js";
@@ -80,7 +81,10 @@ export function progressReporter(io: CliIO, label: string, enabled = true): { up
 }
 
 export interface TrainCliOptions {
-  env: string;
+  env?: string;
+  plan?: string;
+  /** --index I (a string), or false with --no-index. */
+  index?: string | false;
   reward?: string;
   learner?: string;
   steps?: string;
@@ -108,7 +112,7 @@ export function registerTrain(program: Command, ctx: CliContext): void {
   program
     .command("train")
     .description("train a learner on the designer reward while the monitor watches the held-out intent; verdict aligned / decoupled / inconclusive")
-    .addOption(envOption())
+    .addOption(envOption().makeOptionMandatory(false))
     .addOption(rewardOption())
     .option("--learner <learner>", `q-learning, sarsa, expected-sarsa, double-q, linear-sarsa (default ${defaultLearner})`)
     .option("--steps <n>", "environment steps (default: sized to the model, a few seconds at most)")
@@ -122,9 +126,24 @@ export function registerTrain(program: Command, ctx: CliContext): void {
     .option("--fail-on-alert", "exit 3 when any alert fired (for CI gating of reward changes)")
     .addOption(reportOption("the HTML report of the run", "<run-dir>/report.html"))
     .addOption(maxStatesOption())
+    .option("--plan <file>", "run one run of a plan written by compare --plan (with --index; never writes the index)")
+    .option("--index <i>", "which run of the plan (0-based; default $SLURM_ARRAY_TASK_ID, else $JOB_COMPLETION_INDEX)")
+    .option("--no-index", "do not record the run in <runs-dir>/index.db (the file is not opened)")
     .addOption(jsonOption())
     .action(
       action(ctx, async (opts: TrainCliOptions) => {
+        if (opts.plan !== undefined) {
+          const text = (typeof opts.index === "string" ? opts.index : undefined) ?? ctx.io.env.SLURM_ARRAY_TASK_ID ?? ctx.io.env.JOB_COMPLETION_INDEX;
+          if (text === undefined) throw new InputError("cli.missing", "train --plan needs --index I (or SLURM_ARRAY_TASK_ID / JOB_COMPLETION_INDEX)", "--index");
+          const index = intOption(text, "--index", { min: 0 });
+          const progress = progressReporter(ctx.io, `plan run ${index}`, !opts.json);
+          const { value: out } = await withInterrupt((signal) =>
+            runPlanTask({ plan: resolve(ctx.io.cwd, opts.plan as string), index, runsDir: runsDirOf(ctx.io, opts), signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()),
+          );
+          emit(ctx.io, Boolean(opts.json), out.doc, () => trainText(out.result, useColor(ctx.io)));
+          return out.result.status === "interrupted" ? EXIT.interrupted : EXIT.ok;
+        }
+        if (!opts.env) throw new InputError("cli.missing", "train needs --env (or --plan FILE --index I)", "--env");
         const input = {
           env: opts.env,
           reward: opts.reward,
@@ -140,7 +159,7 @@ export function registerTrain(program: Command, ctx: CliContext): void {
         const maxStates = maxStatesOf(opts);
         const progress = progressReporter(ctx.io, `${opts.env} ${opts.reward ?? ""}`.trim(), !opts.json);
         const { value: out } = await withInterrupt((signal) =>
-          runTrainCommand({ input, runsDir: runsDirOf(ctx.io, opts), report: reportOf(ctx.io, opts.report), maxStates, signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()),
+          runTrainCommand({ input, runsDir: runsDirOf(ctx.io, opts), noIndex: opts.index === false, report: reportOf(ctx.io, opts.report), maxStates, signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()),
         );
         const r = out.result;
         emit(ctx.io, Boolean(opts.json), out.doc, () => trainText(r, useColor(ctx.io)));
