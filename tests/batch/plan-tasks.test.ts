@@ -17,7 +17,7 @@ const root = mkdtempSync(join(tmpdir(), "gapwatch-plan-"));
 afterAll(() => rmSync(root, { recursive: true, force: true }));
 
 const MAIN = resolve("src/cli/main.ts");
-const SWEEP = ["--env", "greenhouse-rounds", "--rewards", "default,fast", "--seed-list", "1-3", "--steps", "20000", "--bootstrap-reps", "300"];
+const SWEEP = ["--env", "fresh-coat-tug", "--rewards", "default,fast", "--seed-list", "1-3", "--steps", "20000", "--bootstrap-reps", "300"];
 
 function task(args: string[], env: Record<string, string> = {}, killAfterMs?: number): Promise<{ code: number | null; signal: NodeJS.Signals | null; stderr: string }> {
   return new Promise((res) => {
@@ -61,7 +61,7 @@ describe("plan, array tasks, collect", () => {
     expect(partial.stderr).toMatch(/missing runs \(by plan index\): 2/);
 
     expect((await task(base, { SLURM_ARRAY_TASK_ID: "2" })).code).toBe(0);
-    const runFolders = readdirSync(runsDir).filter((n) => n.startsWith("greenhouse-rounds-"));
+    const runFolders = readdirSync(runsDir).filter((n) => n.startsWith("fresh-coat-tug-"));
     expect(runFolders.sort()).toEqual(plan.runs.map((r) => r.runId).sort()); // one folder per run, even when run twice
 
     const collected = memoryIO();
@@ -93,7 +93,7 @@ describe("plan, array tasks, collect", () => {
 
   it("train --no-index never creates the index file", async () => {
     const runsDir = join(root, "noindex");
-    expect(await runCli(["train", "--env", "greenhouse-rounds", "--steps", "2000", "--runs-dir", runsDir, "--no-index"], memoryIO())).toBe(0);
+    expect(await runCli(["train", "--env", "fresh-coat-tug", "--steps", "2000", "--runs-dir", runsDir, "--no-index"], memoryIO())).toBe(0);
     expect(existsSync(join(runsDir, "index.db"))).toBe(false);
     expect(readdirSync(runsDir).filter((n) => !n.startsWith(".")).length).toBe(1);
   }, 60_000);

@@ -67,7 +67,7 @@ describe("check: step limits", () => {
 
 describe("check: what it says", () => {
   it("--property X says that X passed, not that all properties passed", async () => {
-    const r = await cli(["check", "--env", "ridge-survey", "--runs", "5", "--property", "determinism"]);
+    const r = await cli(["check", "--env", "quench-hall-run", "--runs", "5", "--property", "determinism"]);
     expect(r.code).toBe(0);
     expect(r.out).toContain("property determinism passed");
     expect(r.out).not.toContain("all properties passed");

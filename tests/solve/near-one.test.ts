@@ -88,8 +88,8 @@ describe("solve at gamma = 1", () => {
     expect(e.message).toMatch(/loops 0 -> 0|loops s0 -> s0|loops \S+ -> \S+/);
   });
 
-  it("the built-in circuit scenario (archive-shuttle) at gamma 1 is unbounded, not a large number", () => {
-    const { model, variant } = builtin("archive-shuttle");
+  it("the built-in circuit scenario (assay-carousel) at gamma 1 is unbounded, not a large number", () => {
+    const { model, variant } = builtin("assay-carousel");
     expect(catchInputError(() => solveVariant(model, variant, { gamma: 1 })).code).toBe("solve.unbounded");
   });
 
@@ -100,7 +100,7 @@ describe("solve at gamma = 1", () => {
   });
 
   it("a sweep cap too small for value iteration is a solve.notConverged InputError, not silent values", async () => {
-    const err = await runSolve({ env: "ridge-survey", maxIters: 3 }).then(
+    const err = await runSolve({ env: "quench-hall-run", maxIters: 3 }).then(
       () => null,
       (e: unknown) => e,
     );

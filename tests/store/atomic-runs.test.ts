@@ -46,7 +46,7 @@ function expectWholeRuns(runsDir: string): string[] {
 describe("atomic run folders", () => {
   it("two sweeps writing the same runs into one folder at once leave every run whole", async () => {
     const runsDir = join(root, "concurrent");
-    const cfg = { runsDir, env: "greenhouse-rounds", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2], steps: 20_000, base: { checkpoints: 20 }, workers: 1, bootstrapSeed: 1, reps: 200 };
+    const cfg = { runsDir, env: "fresh-coat-tug", rewards: ["default"], learners: ["q-learning"], seeds: [1, 2], steps: 20_000, base: { checkpoints: 20 }, workers: 1, bootstrapSeed: 1, reps: 200 };
     const [a, b] = await Promise.all([runCompare(cfg), runCompare(cfg)]);
     expect(a.stats).toEqual(b.stats);
     const ids = expectWholeRuns(runsDir);
@@ -58,7 +58,7 @@ describe("atomic run folders", () => {
 
   it("two writers of the same run interleaving checkpoint by checkpoint leave one whole run", async () => {
     const runsDir = join(root, "interleaved");
-    const input = { env: "greenhouse-rounds", reward: "default", seed: 3, steps: 40_000, checkpoints: 40 };
+    const input = { env: "fresh-coat-tug", reward: "default", seed: 3, steps: 40_000, checkpoints: 40 };
     // sync: false yields to the event loop after every checkpoint, so the two runs alternate their writes.
     const [a, b] = await Promise.all([runTraining(input, { runsDir }), runTraining(input, { runsDir })]);
     expect(a.runId).toBe(b.runId);
@@ -68,8 +68,8 @@ describe("atomic run folders", () => {
 
   it("a run killed mid-way leaves the previous complete run intact, and nothing reads complete that is not", async () => {
     const runsDir = join(root, "killed");
-    const args = [runsDir, "greenhouse-rounds", "default", "400000", "400"];
-    const first = await runTraining({ env: "greenhouse-rounds", reward: "default", seed: 1, steps: 400_000, checkpoints: 400 }, { runsDir, sync: true });
+    const args = [runsDir, "fresh-coat-tug", "default", "400000", "400"];
+    const first = await runTraining({ env: "fresh-coat-tug", reward: "default", seed: 1, steps: 400_000, checkpoints: 400 }, { runsDir, sync: true });
     expect(first.status).toBe("complete");
     const before = readFileSync(join(first.runDir, RUN_FILES.checkpoints), "utf8");
 
@@ -101,7 +101,7 @@ describe("atomic run folders", () => {
 
   it("a summary that disagrees with checkpoints.jsonl does not read complete", async () => {
     const runsDir = join(root, "torn");
-    const r = await runTraining({ env: "greenhouse-rounds", reward: "default", seed: 4, steps: 4_000, checkpoints: 10 }, { runsDir, sync: true });
+    const r = await runTraining({ env: "fresh-coat-tug", reward: "default", seed: 4, steps: 4_000, checkpoints: 10 }, { runsDir, sync: true });
     const file = join(r.runDir, RUN_FILES.checkpoints);
     const lines = readFileSync(file, "utf8").split("\n").filter(Boolean);
     writeFileSync(file, [...lines, ...lines.slice(0, 3)].join("\n") + "\n");

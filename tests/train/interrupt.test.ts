@@ -28,7 +28,7 @@ describe("train honours an interrupt within about a second", () => {
     const signal = { aborted: false };
     let abortedAt = 0;
     // 2 checkpoints over 2e8 steps: one chunk is far longer than a second.
-    const run = runTraining({ env: "ridge-survey", steps: 200_000_000, checkpoints: 2, seed: 3 }, { runsDir: runs, signal });
+    const run = runTraining({ env: "quench-hall-run", steps: 200_000_000, checkpoints: 2, seed: 3 }, { runsDir: runs, signal });
     setTimeout(() => {
       signal.aborted = true;
       abortedAt = performance.now();

@@ -71,6 +71,6 @@ describe("train on a finite: false module", () => {
       code: "config.evaluation",
       exitCode: 2,
     });
-    await expect(runTraining({ env: "ridge-survey", ...ranges }, { runsDir: runs, sync: true })).rejects.toMatchObject({ code: "config.range" });
+    await expect(runTraining({ env: "quench-hall-run", ...ranges }, { runsDir: runs, sync: true })).rejects.toMatchObject({ code: "config.range" });
   }, 60_000);
 });
