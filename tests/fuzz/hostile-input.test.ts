@@ -77,7 +77,7 @@ describe("a huge declared state count (defect 1)", () => {
   it("a count the file cannot describe names the missing pairs (bound raised)", async () => {
     const f = write({ ...chainDoc(), states: 5_000_000 });
     const r = await cli("solve", "--env", f, "--max-states", "1000000000");
-    expectOneLine(r, /no entry for state 2 action 0 .*missing in all/);
+    expectOneLine(r, /no entry for state 2 action 0 .*missing in all.*"state": 2/);
   });
 });
 

@@ -249,7 +249,7 @@ function checkDescribable(doc: ModelDocument, maxStates: number, F: (code: strin
       F(
         "missingTransition",
         ["transitions"],
-        `no entry for state ${s} action ${a} (${clip(doc.actions[a])}) (${missing} non-terminal state-action pairs are missing in all; $.states declares ${nS} states but $.transitions has ${doc.transitions.length} entries); add the missing entries, list the states in $.terminal, or lower $.states`,
+        `no entry for state ${s} action ${a} (${clip(doc.actions[a])}) (${missing} non-terminal state-action pairs are missing in all; $.states declares ${nS} states, $.transitions has ${doc.transitions.length} entries); add {"state": ${s}, "action": ${a}, "outcomes": [...]} or list state ${s} in $.terminal (or lower $.states)`,
       );
     }
   }
