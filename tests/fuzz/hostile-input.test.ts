@@ -10,6 +10,7 @@ import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
 import { didYouMean } from "../../src/model/format/json-errors.js";
 import { formatError, InputError } from "../../src/errors.js";
+import { nonFinitePaths } from "../helpers/fuzz.js";
 import { tempDirRemovedAfterAll } from "../helpers/temp-dirs.js";
 
 const dir = tempDirRemovedAfterAll("hostile");
@@ -45,14 +46,6 @@ function write(doc: unknown, raw?: string): string {
   const f = join(dir, `m${n++}.json`);
   writeFileSync(f, raw ?? JSON.stringify(doc));
   return f;
-}
-
-/** JSON paths of nulls (non-finite numbers) in a result document; a policy's null marks a terminal state. */
-function nonFinite(v: unknown, path = "$"): string[] {
-  if (v === null) return [path];
-  if (Array.isArray(v)) return v.flatMap((x, i) => nonFinite(x, `${path}[${i}]`));
-  if (typeof v === "object") return Object.entries(v as object).flatMap(([k, x]) => (k === "policy" ? [] : nonFinite(x, `${path}.${k}`)));
-  return [];
 }
 
 function expectOneLine(r: { code: number; err: string }, pattern?: RegExp) {
@@ -95,7 +88,7 @@ describe("names that are Object.prototype members (defect 3)", () => {
       // designer return 0 under an all-zero reward; intent 1 (one move to the goal, undiscounted first step)
       expect(doc.designerOptimal.values).toEqual([0, 0]);
       expect(doc.intentOptimal.intent).toBe(1);
-      expect(nonFinite(doc)).toEqual([]);
+      expect(nonFinitePaths(doc)).toEqual([]);
       const r2 = await cli("solve", "--env", f, "--json");
       expect(r2.code, r2.err).toBe(0);
       // weight -1 per step: going at once costs 1 (the designer's optimum)

@@ -161,7 +161,7 @@ export interface FuzzCase {
 const NULLABLE = new Set(["policy", "designerOptimalIdlesAt", "counterexample", "path"]);
 
 /** JSON paths of non-finite numbers (JSON.stringify writes them as null) in a --json document. */
-function nonFinitePaths(v: unknown, path = "$"): string[] {
+export function nonFinitePaths(v: unknown, path = "$"): string[] {
   if (v === null) return [path];
   if (Array.isArray(v)) return v.flatMap((x, i) => nonFinitePaths(x, `${path}[${i}]`));
   if (typeof v === "object") return Object.entries(v as object).flatMap(([k, x]) => (NULLABLE.has(k) ? [] : nonFinitePaths(x, `${path}.${k}`)));
