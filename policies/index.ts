@@ -71,7 +71,8 @@ export const learners: Readonly<Record<LearnerName, LearnerEntry>> = {
 export const defaultLearner: LearnerName = "q-learning";
 
 export function learnerEntry(name: string): LearnerEntry {
-  const e = (learners as Record<string, LearnerEntry>)[name];
+  // Own properties only: a name like "constructor" must not reach Object.prototype.
+  const e = Object.hasOwn(learners, name) ? (learners as Record<string, LearnerEntry>)[name] : undefined;
   if (!e) throw new InputError("config.learner", `unknown learner ${JSON.stringify(name)}; choose one of ${Object.keys(learners).join(", ")}`, "learner");
   return e;
 }

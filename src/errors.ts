@@ -58,12 +58,26 @@ export function exitCodeFor(code: string): number {
   return BAD_INPUT_PREFIXES.some((p) => code.startsWith(p)) ? EXIT.badInput : EXIT.internal;
 }
 
+/** Longest error line printed (characters); a longer one is cut with an ellipsis. */
+export const MAX_ERROR_LINE = 500;
+
+// C0/C1 control characters (ESC starts terminal escape codes) and Unicode bidirectional controls.
+// eslint-disable-next-line no-control-regex
+const UNPRINTABLE = /[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069]/g;
+
+/** A line safe for a terminal: line breaks folded to spaces, control and bidi characters replaced by "?", at most `max` characters. Pure. */
+export function printableLine(text: string, max = MAX_ERROR_LINE): string {
+  const head = text.length > max * 4 ? text.slice(0, max * 4) : text;
+  const line = head.replace(/\s*[\n\r\u2028\u2029]\s*/g, " ").replace(UNPRINTABLE, "?");
+  return line.length > max ? `${line.slice(0, max - 1)}…` : line;
+}
+
 /** One line for a terminal: `error [model.probabilitySum] file.json $.transitions[3]: ...`. Pure. */
 export function formatError(err: unknown): string {
   if (err instanceof GapwatchError) {
     const where = err.where ? ` ${err.where}:` : "";
-    return `error [${err.code}]${where} ${err.message}`.replace(/\s*\n\s*/g, " ");
+    return printableLine(`error [${err.code}]${where} ${err.message}`);
   }
   const msg = err instanceof Error ? err.message : String(err);
-  return `internal error: ${msg}`.replace(/\s*\n\s*/g, " ");
+  return printableLine(`internal error: ${msg}`);
 }

@@ -13,7 +13,7 @@ export const envOption = (): Option => new Option("--env <env>", "built-in scena
 
 export const rewardOption = (): Option => new Option("--reward <reward>", "reward variant name or reward file (default: the variant named default, else the first)");
 
-export const maxStatesOption = (): Option => new Option("--max-states <n>", `state bound when compiling a simulator module (default ${DEFAULT_MAX_STATES})`);
+export const maxStatesOption = (): Option => new Option("--max-states <n>", `state bound for model files and simulator modules (default ${DEFAULT_MAX_STATES})`);
 
 /** `--max-iters`: the solvers' iteration cap (value-iteration sweeps; policy improvements near gamma = 1). */
 export const maxItersOption = (): Option =>

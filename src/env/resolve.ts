@@ -10,11 +10,13 @@ import { resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { loadModelFile } from "../model/format/model-file.js";
 import { parseRewardFile } from "../model/format/reward-file.js";
-import { defaultVariantName } from "../model/reward.js";
+import { checkVariant, defaultVariantName } from "../model/reward.js";
+import { clip } from "../model/format/json-errors.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { loadSimulator } from "../sim/load.js";
 import { builtinScenarioNames, loadScenario } from "./scenarios.js";
 import type { EnvLoadOptions, FiniteEnv, LoadedEnv, ModuleEnv } from "./types.js";
+import { ownValue } from "../util/own.js";
 
 /** Is `--env` a simulator module path (`.ts`, `.js`, `.mts`, `.mjs`)? */
 export function isModuleSpec(spec: string): boolean {
@@ -22,11 +24,11 @@ export function isModuleSpec(spec: string): boolean {
 }
 
 /** Resolve `--env` synchronously for built-ins and model files. */
-export function loadEnvSync(spec: string): FiniteEnv {
+export function loadEnvSync(spec: string, opts: EnvLoadOptions = {}): FiniteEnv {
   if (/\.json$/i.test(spec)) {
     const file = resolve(spec);
     if (!existsSync(file)) throw new InputError("env.notFound", `model file not found`, spec);
-    return { model: loadModelFile(file), kind: "file", spec };
+    return { model: loadModelFile(file, { maxStates: opts.maxStates }), kind: "file", spec };
   }
   const names = builtinScenarioNames();
   if (names.includes(spec)) return loadScenario(spec);
@@ -50,7 +52,7 @@ export async function loadEnv(spec: string, opts: EnvLoadOptions = {}): Promise<
     if (!existsSync(resolve(spec))) throw new InputError("env.notFound", `simulator module not found`, spec);
     return loadModuleEnv(resolve(spec), opts);
   }
-  return loadEnvSync(spec);
+  return loadEnvSync(spec, opts);
 }
 
 /** Resolve `--reward` against a model: a known variant name, a reward-file path, or the default. */
@@ -61,11 +63,27 @@ export function resolveReward(model: FiniteModel, spec?: string): RewardVariant 
     if (!name) throw new InputError("reward.none", `${model.name} has no reward variants; pass --reward <file.json>`, "--reward");
     return known[name];
   }
-  if (known[spec]) return known[spec];
+  const named = ownValue(known, spec);
+  if (named) return named;
   if (/\.json$/i.test(spec)) {
     const file = resolve(spec);
     if (!existsSync(file)) throw new InputError("reward.notFound", "reward file not found", spec);
-    return parseRewardFile(readFileSync(file, "utf8"), spec);
+    let text: string;
+    try {
+      text = readFileSync(file, "utf8");
+    } catch (e) {
+      throw new InputError("reward.read", `cannot read the reward file (${(e as NodeJS.ErrnoException).code ?? (e as Error).message}); pass a reward file`, spec);
+    }
+    const variant = parseRewardFile(text, spec);
+    if (variant.env !== undefined && variant.env !== model.name) {
+      throw new InputError(
+        "reward.env",
+        `this reward is written for ${JSON.stringify(clip(variant.env))}, but the environment is ${JSON.stringify(clip(model.name))}; pass the matching --env, or set "env" in the reward file`,
+        `${spec} $.env`,
+      );
+    }
+    checkVariant(model, variant);
+    return variant;
   }
   const names = Object.keys(known);
   throw new InputError(

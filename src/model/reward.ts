@@ -4,13 +4,15 @@
  */
 import { InputError } from "../errors.js";
 import type { FiniteModel, RewardVariant } from "./types.js";
+import { ownValue } from "../util/own.js";
+import { clip, hint, jsonPath, type Path } from "./format/json-errors.js";
 
 /** Resolve a variant's shaping potential to Phi per state (Phi(terminal) treated as 0 by callers). */
 export function resolvePotential(model: FiniteModel, variant: RewardVariant): Float64Array | null {
   const sh = variant.shaping;
   if (!sh) return null;
   if (typeof sh.potential === "string") {
-    const phi = model.potentials?.[sh.potential];
+    const phi = ownValue(model.potentials, sh.potential);
     if (!phi) {
       const known = Object.keys(model.potentials ?? {});
       throw new InputError(
@@ -31,18 +33,35 @@ export function resolvePotential(model: FiniteModel, variant: RewardVariant): Fl
   return Float64Array.from(sh.potential);
 }
 
-/** Check that every weighted feature exists in the model. */
+/** Bound on the magnitude of a weight, a shaping scale or a potential value (keeps every return finite). */
+export const MAX_WEIGHT = 1e12;
+
+/** Where a variant's problems are: its reward file, or the variant of the model. */
+function variantWhere(variant: RewardVariant, path: Path): string {
+  return `${variant.source ?? `reward ${variant.name}`} ${jsonPath(path)}`;
+}
+
+/** Check that every weighted feature exists in the model and every number is finite and bounded. */
 export function checkVariant(model: FiniteModel, variant: RewardVariant): void {
   for (const f of Object.keys(variant.weights)) {
     if (!model.features.includes(f)) {
       throw new InputError(
         "reward.unknownFeature",
-        `weight for unknown feature "${f}"; ${model.name} has features: ${model.features.join(", ")}`,
-        `reward ${variant.name} $.weights.${f}`,
+        `weight for unknown feature ${JSON.stringify(clip(f))}${hint(f, model.features)}; ${model.name} has features: ${model.features.length ? model.features.map((x) => clip(x)).join(", ") : "none"}`,
+        variantWhere(variant, ["weights", f]),
       );
     }
-    if (!Number.isFinite(variant.weights[f])) {
-      throw new InputError("reward.weight", `weight of "${f}" must be a finite number`, `reward ${variant.name} $.weights.${f}`);
+    const w = ownValue(variant.weights, f);
+    if (!(typeof w === "number" && Math.abs(w) <= MAX_WEIGHT)) {
+      throw new InputError("reward.weight", `weight of ${JSON.stringify(clip(f))} is ${String(w)}; give a finite number within +-${MAX_WEIGHT}`, variantWhere(variant, ["weights", f]));
+    }
+  }
+  const sh = variant.shaping;
+  if (sh) {
+    if (!(Math.abs(sh.scale) <= MAX_WEIGHT)) throw new InputError("reward.shaping", `shaping scale ${sh.scale} is not a finite number within +-${MAX_WEIGHT}`, variantWhere(variant, ["shaping", "scale"]));
+    if (Array.isArray(sh.potential)) {
+      const i = sh.potential.findIndex((x) => !(Math.abs(x) <= MAX_WEIGHT));
+      if (i >= 0) throw new InputError("reward.shaping", `potential value ${sh.potential[i]} is not a finite number within +-${MAX_WEIGHT}`, variantWhere(variant, ["shaping", "potential", i]));
     }
   }
 }
@@ -56,7 +75,7 @@ export function designerReward(model: FiniteModel, variant: RewardVariant, gamma
   checkVariant(model, variant);
   const nF = model.features.length;
   const w = new Float64Array(nF);
-  model.features.forEach((f, i) => (w[i] = variant.weights[f] ?? 0));
+  model.features.forEach((f, i) => (w[i] = ownValue(variant.weights, f) ?? 0));
   const nO = model.next.length;
   const r = new Float64Array(nO);
   for (let o = 0; o < nO; o++) {

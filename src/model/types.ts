@@ -39,6 +39,8 @@ export interface RewardVariant {
   name: string;
   /** Scenario (or model) this variant was written for. */
   env?: string;
+  /** The reward file it was read from (named in error messages). */
+  source?: string;
   /** Weight per feature name; a missing feature has weight 0. */
   weights: Record<string, number>;
   /**

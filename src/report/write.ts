@@ -5,6 +5,7 @@
  */
 import { existsSync, mkdirSync, readFileSync } from "node:fs";
 import { dirname, join, resolve } from "node:path";
+import { InputError } from "../errors.js";
 import { parseRewardFile } from "../model/format/reward-file.js";
 import { loadFinite } from "../env/resolve.js";
 import type { FiniteModel } from "../model/types.js";
@@ -72,7 +73,16 @@ export async function writeReport(dir: string, opts: WriteReportOptions = {}): P
 /** Write an already-rendered report (a standalone audit or pressure page) to `out`, creating its folder; resolves to the absolute path. */
 export function writeReportFile(out: string, html: string): string {
   const file = resolve(out);
-  mkdirSync(dirname(file), { recursive: true });
-  writeFileAtomic(file, html);
+  try {
+    mkdirSync(dirname(file), { recursive: true });
+    writeFileAtomic(file, html);
+  } catch (e) {
+    const code = (e as NodeJS.ErrnoException).code;
+    // A path the user gave that is no folder (or not writable) is their input, not an internal failure.
+    if (code === "EEXIST" || code === "ENOTDIR" || code === "EISDIR" || code === "EACCES" || code === "EROFS") {
+      throw new InputError("input.output", `cannot write the report to ${file} (${code}); check --report and --runs-dir (a folder is needed where a file is)`, dirname(file));
+    }
+    throw e;
+  }
   return file;
 }

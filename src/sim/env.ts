@@ -21,7 +21,7 @@ export interface ModuleEnv<S> extends TabularEnv {
 export function moduleTabularEnv<S>(def: EnvDefinition<S>, weights: Record<string, number>, source: string): ModuleEnv<S> {
   const ids = new Map<string, number>();
   const states: S[] = [];
-  const w = def.features.map((f) => weights[f] ?? 0);
+  const w = def.features.map((f) => ownValue(weights, f) ?? 0);
   let steps = 0;
   const idOf = (s: S): number => {
     const k = def.key ? def.key(s) : canonicalJson(s);
@@ -44,13 +44,18 @@ export function moduleTabularEnv<S>(def: EnvDefinition<S>, weights: Record<strin
     step(s: number, a: number, rng: Rng, out: StepOut) {
       steps++;
       if (a < 0 || a >= def.actions.length || !Number.isInteger(a)) throw new InputError("module.action", `invalid action ${a}`, source);
-      const r = guard(source, `step ${steps} (state ${canonicalJson(states[s])}, action ${def.actions[a]})`, () => def.step(states[s], a, rng));
-      checkNumbers(source, `step ${steps}`, r.features, r.intent, def.features);
-      let reward = 0;
-      for (let f = 0; f < w.length; f++) if (w[f] !== 0) reward += w[f] * (r.features[def.features[f]] ?? 0);
-      out.next = idOf(r.state);
+      const what = `step ${steps} (state ${canonicalJson(states[s])}, action ${def.actions[a]})`;
+      // Every read of the module's result happens inside guard: a throwing getter is the module's error.
+      const { next, reward, terminated } = guard(source, what, () => {
+        const r = def.step(states[s], a, rng);
+        checkNumbers(source, `step ${steps}`, r.features, r.intent, def.features);
+        let reward = 0;
+        for (let f = 0; f < w.length; f++) if (w[f] !== 0) reward += w[f] * (ownValue(r.features, def.features[f]) ?? 0);
+        return { next: r.state, reward, terminated: Boolean(r.terminated) };
+      });
+      out.next = idOf(next);
       out.reward = reward;
-      out.terminated = Boolean(r.terminated);
+      out.terminated = terminated;
     },
     obsDim,
     observe: def.observe
@@ -66,6 +71,7 @@ export function moduleTabularEnv<S>(def: EnvDefinition<S>, weights: Record<strin
 }
 
 import { createRng } from "../rng/rng.js";
+import { ownValue } from "../util/own.js";
 function createProbe(): Rng {
   return createRng("observe-probe");
 }

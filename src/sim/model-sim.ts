@@ -9,13 +9,14 @@ import { InputError } from "../errors.js";
 import { sampleOutcome, samplingTables, sampleStart } from "../model/sampler.js";
 import type { FiniteModel } from "../model/types.js";
 import type { EnvDefinition, Outcome } from "./define.js";
+import { emptyDict } from "../util/own.js";
 
 export function modelSimulator(model: FiniteModel): EnvDefinition<number> {
   const nA = model.nActions;
   const nF = model.features.length;
   const src = model.source ?? model.name;
   const featuresOf = (o: number): Record<string, number> => {
-    const f: Record<string, number> = {};
+    const f = emptyDict<number>();
     for (let j = 0; j < nF; j++) {
       const v = model.featureValues[o * nF + j];
       if (v !== 0) f[model.features[j]] = v;

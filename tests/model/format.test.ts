@@ -363,7 +363,7 @@ describe("parseRewardFile", () => {
   const good = { format: "gapwatch-reward/1", name: "step-cost", env: "sb-4x4", weights: { step: -1 } };
   it("reads the fixture and a shaped variant", () => {
     const file = join(fixtures, "rewards", "sb-step.json");
-    expect(parseRewardFile(readFileSync(file, "utf8"), file)).toEqual({ name: "step-cost", env: "sb-4x4", weights: { step: -1 } });
+    expect(parseRewardFile(readFileSync(file, "utf8"), file)).toEqual({ name: "step-cost", env: "sb-4x4", source: file, weights: { step: -1 } });
     const shaped = parseRewardFile(JSON.stringify({ ...good, shaping: { potential: [0, 1.5], scale: 2 } }), "r.json");
     expect(shaped.shaping).toEqual({ potential: [0, 1.5], scale: 2 });
     expect(parseRewardFile(JSON.stringify({ ...good, shaping: { potential: "distance", scale: 1 } }), "r.json").shaping?.potential).toBe("distance");

@@ -23,6 +23,7 @@ import type { AuditContext } from "../context.js";
 import { fmt } from "../context.js";
 import type { Finding } from "../findings.js";
 import { actionValues, expectedReward } from "../../solve/sweeps.js";
+import { ownValue } from "../../util/own.js";
 
 export interface WeightInterval {
   feature: string;
@@ -59,7 +60,7 @@ export function weightIntervals(ctx: AuditContext, features?: string[]): WeightI
   }
   const weights = Object.values(variant.weights).map(Math.abs).filter((x) => x > 0);
   const maxW = weights.length ? Math.max(...weights) : 1;
-  const list = features ?? model.features.filter((f) => (variant.weights[f] ?? 0) !== 0 || ctx.solve.regretNorm >= ctx.opts.regretWarning);
+  const list = features ?? model.features.filter((f) => (ownValue(variant.weights, f) ?? 0) !== 0 || ctx.solve.regretNorm >= ctx.opts.regretWarning);
   const V = new Float64Array(nS);
   const r = new Float64Array(nSA);
   const fexp = new Float64Array(nSA);
@@ -76,7 +77,7 @@ export function weightIntervals(ctx: AuditContext, features?: string[]): WeightI
       for (let o = saStart[k]; o < saStart[k + 1]; o++) acc += prob[o] * model.featureValues[o * nF + f];
       fexp[k] = acc;
     }
-    const w0 = variant.weights[feature] ?? 0;
+    const w0 = ownValue(variant.weights, feature) ?? 0;
     const scale = w0 !== 0 ? Math.abs(w0) : maxW;
     let probes = 0;
     V.set(ctx.solve.designerOptimal.values);

@@ -17,6 +17,7 @@ import { maxMeanCycle } from "../cycles.js";
 import type { Finding } from "../findings.js";
 import { checkPotentialShaping, type ShapingCheck } from "../shaping.js";
 import { designerReward } from "../../model/reward.js";
+import { ownValue } from "../../util/own.js";
 
 function summarizeCheck(model: AuditContext["model"], c: ShapingCheck): Record<string, unknown> {
   if (c.potentialBased) return { potentialBased: true, maxResidual: c.maxResidual, tol: c.tol };
@@ -60,7 +61,7 @@ export function shapingCheck(ctx: AuditContext): Finding[] {
   const T = new Float64Array(nO);
   for (let f = 0; f < nF; f++) {
     const name = model.features[f];
-    const w = variant.weights[name] ?? 0;
+    const w = ownValue(variant.weights, name) ?? 0;
     if (w === 0) continue;
     for (let o = 0; o < nO; o++) T[o] = w * model.featureValues[o * nF + f];
     const c = checkPotentialShaping(model, T, { gamma });

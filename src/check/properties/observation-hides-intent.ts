@@ -1,6 +1,7 @@
 import fc from "fast-check";
 import { play, stateKey, Violation } from "../drive.js";
 import { type PropertySpec, actionsArb, runFc } from "../harness.js";
+import { ownValue } from "../../util/own.js";
 
 // observation-hides-intent. What a learner sees of a state: the numbers in its key (the numeric tokens
 // of key(state), by position, when every state seen has the same number of them) and the components of
@@ -60,14 +61,14 @@ export const observationHidesIntent: PropertySpec = {
           series.intentSum.push(isum);
           series.intentLast.push(st.intent);
           feats.forEach((f, j) => {
-            const v = st.features[f] ?? 0;
+            const v = ownValue(st.features, f) ?? 0;
             fsum[j] += v;
             push(designer, `running sum of feature ${f}`, fsum[j]);
             push(designer, `feature ${f}`, v);
           });
           variants.forEach(([n, r], j) => {
             let v = 0;
-            for (const [f, w] of Object.entries(r.weights)) v += w * (st.features[f] ?? 0);
+            for (const [f, w] of Object.entries(r.weights)) v += w * (ownValue(st.features, f) ?? 0);
             vsum[j] += v;
             push(designer, `designer return of ${n}`, vsum[j]);
             push(designer, `designer reward of ${n}`, v);

@@ -6,6 +6,7 @@ import { InputError } from "../../errors.js";
 import { resolvePotential, checkVariant } from "../reward.js";
 import type { FiniteModel } from "../types.js";
 import { CANONICAL_INT, MODEL_FORMAT, SHAPING_FEATURE_PREFIX, type ModelDocument, type OutcomeDocument, type TransitionDocument } from "./schema.js";
+import { ownValue } from "../../util/own.js";
 
 /**
  * Write a compiled model as a gapwatch-mdp/1 document (a plain object; `JSON.stringify` it, or use
@@ -28,7 +29,7 @@ export function exportModel(model: FiniteModel): ModelDocument {
   for (const [key, v] of Object.entries(model.variants ?? {})) {
     checkVariant(model, v);
     const weights: Record<string, number> = {};
-    for (const f of model.features) if (v.weights[f] !== undefined) weights[f] = v.weights[f];
+    for (const f of model.features) if (ownValue(v.weights, f) !== undefined) weights[f] = v.weights[f];
     const phi = resolvePotential(model, v);
     if (phi && v.shaping) {
       let col = `${SHAPING_FEATURE_PREFIX}${key}`;

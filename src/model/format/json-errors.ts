@@ -37,15 +37,22 @@ function editDistance(a: string, b: string): number {
   return d[m][n];
 }
 
+/** Longest word (and candidate) `didYouMean` compares. */
+export const MAX_SUGGEST_LENGTH = 64;
+
 /**
  * The closest candidate to `word` when it is a near miss: same up to case, a few edits away (about one
  * per three characters), or else the longest candidate that `word` starts with ("prob" -> "p").
  */
 export function didYouMean(word: string, candidates: readonly string[]): string | undefined {
+  // Suggestions are for near misses of short names: a long word is no near miss, and the edit
+  // distance costs length x length, so long inputs are not compared at all.
+  if (word.length > MAX_SUGGEST_LENGTH) return undefined;
   let best: string | undefined;
   let bestD = Infinity;
   const w = word.toLowerCase();
   for (const c of candidates) {
+    if (c.length > MAX_SUGGEST_LENGTH) continue;
     const d = editDistance(w, c.toLowerCase());
     if (d < bestD) {
       bestD = d;
@@ -246,11 +253,37 @@ export function lineColumn(text: string, pos: number): { line: number; column: n
 
 export function parseJsonText(text: string, where: string, ns: Namespace): unknown {
   const body = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
+  let data: unknown;
   try {
-    return JSON.parse(body);
+    data = JSON.parse(body);
   } catch (e) {
     const loc = locateJsonError(body) ?? { pos: body.length, msg: (e as Error).message };
     const { line, column } = lineColumn(body, loc.pos);
     throw new InputError(`${ns}.json`, `invalid JSON at line ${line}, column ${column}: ${loc.msg}; fix the syntax there`, `${where}:${line}:${column}`);
   }
+  // Only a text holding the word (or a \u escape that could spell it) can hold the key: skip the walk otherwise.
+  if (body.includes("__proto__") || body.includes("\\u")) {
+    const path = findKey(data, RESERVED_KEY);
+    if (path) fail(ns, "reservedName", where, path, `the name "${RESERVED_KEY}" is reserved; rename this key`);
+  }
+  return data;
+}
+
+/** A name that may not be used for anything a file names (it would reach an object's prototype). */
+export const RESERVED_KEY = "__proto__";
+
+/** JSON path of the first own key `key` in a parsed JSON value (iterative: no stack limit), or null. */
+function findKey(root: unknown, key: string): Path | null {
+  const stack: { v: unknown; path: Path }[] = [{ v: root, path: [] }];
+  while (stack.length > 0) {
+    const { v, path } = stack.pop()!;
+    if (v === null || typeof v !== "object") continue;
+    if (Array.isArray(v)) {
+      for (let i = v.length - 1; i >= 0; i--) if (v[i] !== null && typeof v[i] === "object") stack.push({ v: v[i], path: [...path, i] });
+      continue;
+    }
+    if (Object.hasOwn(v, key)) return [...path, key];
+    for (const [k, x] of Object.entries(v)) if (x !== null && typeof x === "object") stack.push({ v: x, path: [...path, k] });
+  }
+  return null;
 }

@@ -3,36 +3,52 @@ import { readFileSync } from "node:fs";
 import { InputError } from "../../errors.js";
 import { ModelBuilder, PROB_TOLERANCE } from "../builder.js";
 import type { FiniteModel, RewardVariant } from "../types.js";
-import { clip, fail, hint, parseJsonText, type Path } from "./json-errors.js";
+import { clip, fail, hint, parseJsonText, RESERVED_KEY, type Path } from "./json-errors.js";
 import { CANONICAL_INT, checkFormatTag, DEFAULT_HORIZON, modelSchema, validate, type ModelDocument } from "./schema.js";
+import { emptyDict } from "../../util/own.js";
 
 /** Parse and validate the text of a gapwatch-mdp/1 model file; `where` names it in messages. */
-export function parseModelFile(text: string, where: string): FiniteModel {
+export function parseModelFile(text: string, where: string, opts: ModelFileOptions = {}): FiniteModel {
   const data = parseJsonText(text, where, "model");
   checkFormatTag("model", data, where);
   const doc = validate("model", modelSchema, data, where) as ModelDocument;
-  return buildFromDocument(doc, where);
+  return buildFromDocument(doc, where, opts.maxStates ?? DEFAULT_MAX_MODEL_STATES);
 }
 
+export interface ModelFileOptions {
+  /** Hard bound on the declared state count (`--max-states`); default DEFAULT_MAX_MODEL_STATES. */
+  maxStates?: number;
+}
+
+/** Default hard bound on a model file's state count (raise it with `--max-states`). */
+export const DEFAULT_MAX_MODEL_STATES = 100_000;
+/** Bound on the magnitude of feature values and intent increments (keeps every return finite). */
+export const MAX_MAGNITUDE = 1e12;
+
 /** Read and parse a model file. */
-export function loadModelFile(file: string): FiniteModel {
+export function loadModelFile(file: string, opts: ModelFileOptions = {}): FiniteModel {
   let text: string;
   try {
     text = readFileSync(file, "utf8");
   } catch (e) {
     throw new InputError("model.read", `cannot read the model file (${(e as NodeJS.ErrnoException).code ?? (e as Error).message}); check the path`, file);
   }
-  return parseModelFile(text, file);
+  return parseModelFile(text, file, opts);
 }
 
 /** Semantic checks on a schema-valid document, then build through ModelBuilder. */
-function buildFromDocument(doc: ModelDocument, where: string): FiniteModel {
+function buildFromDocument(doc: ModelDocument, where: string, maxStates: number): FiniteModel {
   function F(code: string, path: Path, msg: string): never {
     fail("model", code, where, path, msg);
   }
+  checkDescribable(doc, maxStates, F);
 
   if (!(doc.gamma > 0 && doc.gamma <= 1)) F("gamma", ["gamma"], `gamma must be in (0, 1], got ${doc.gamma}; use e.g. 0.99 (or 1 for an episodic task whose policies all terminate)`);
 
+  for (const [list, items] of [["actions", doc.actions], ["features", doc.features], ["states", Array.isArray(doc.states) ? doc.states : []]] as const) {
+    const i = items.indexOf(RESERVED_KEY);
+    if (i >= 0) F("reservedName", [list, i], `the name "${RESERVED_KEY}" is reserved; rename it`);
+  }
   const nA = doc.actions.length;
   {
     const seen = new Map<string, number>();
@@ -138,10 +154,12 @@ function buildFromDocument(doc: ModelDocument, where: string): FiniteModel {
         if (fi === undefined) {
           F("unknownFeature", [...op, "features", f], `feature ${JSON.stringify(f)} is not declared${hint(f, features)}; declared features: ${features.length ? features.join(", ") : "none"}; add it to $.features or fix the name`);
         }
+        if (!(Math.abs(v) <= MAX_MAGNITUDE)) F("magnitude", [...op, "features", f], `feature ${JSON.stringify(clip(f))} has value ${v}, beyond the bound ${MAX_MAGNITUDE}; rescale the feature`);
         scratch[fi!] = v;
         if (v !== 0) nonzero = true;
       }
       const intent = o.intent ?? 0;
+      if (!(Math.abs(intent) <= MAX_MAGNITUDE)) F("magnitude", [...op, "intent"], `intent ${intent} is beyond the bound ${MAX_MAGNITUDE}; rescale the intent`);
       if (isTerminal) {
         if (o.next !== t.state) F("terminalNotAbsorbing", [...op, "next"], `${describeState(t.state)} is terminal, so its outcomes must stay in it, but this one goes to ${o.next}; set "next": ${t.state} or remove the state from $.terminal`);
         if (nonzero || intent !== 0) F("terminalNotAbsorbing", op, `${describeState(t.state)} is terminal, so its outcomes must carry zero features and zero intent; remove them, or remove the state from $.terminal`);
@@ -186,17 +204,53 @@ function buildFromDocument(doc: ModelDocument, where: string): FiniteModel {
   }
 
   if (doc.rewards) {
-    const variants: Record<string, RewardVariant> = {};
+    const variants = emptyDict<RewardVariant>();
     for (const [vname, v] of Object.entries(doc.rewards)) {
       if (vname.length === 0) F("rewardName", ["rewards", vname], `a reward variant needs a non-empty name; rename the key`);
       for (const f of Object.keys(v.weights)) {
+        const w = v.weights[f];
+        if (!(Math.abs(w) <= MAX_MAGNITUDE)) F("magnitude", ["rewards", vname, "weights", f], `weight ${w} is beyond the bound ${MAX_MAGNITUDE}; rescale the weights`);
         if (!featureIndex.has(f)) {
           F("unknownFeature", ["rewards", vname, "weights", f], `weight for undeclared feature ${JSON.stringify(f)}${hint(f, features)}; declared features: ${features.length ? features.join(", ") : "none"}; add it to $.features or fix the name`);
         }
       }
-      variants[vname] = { name: vname, weights: { ...v.weights } };
+      variants[vname] = { name: vname, weights: Object.assign(emptyDict<number>(), v.weights) };
     }
     builder.setVariants(variants);
   }
   return builder.build();
+}
+
+/**
+ * Check the declared state count against the hard bound and against what the file can describe,
+ * before anything is allocated per state: every non-terminal state needs one transition entry per
+ * action, so `(states - distinct terminal states) * actions` may not exceed the number of entries.
+ * When it does, the first missing pair is named (found by scanning only as far as the entries reach).
+ */
+function checkDescribable(doc: ModelDocument, maxStates: number, F: (code: string, path: Path, msg: string) => never): void {
+  const nS = typeof doc.states === "number" ? doc.states : doc.states.length;
+  const nA = doc.actions.length;
+  if (nS > maxStates) {
+    F("tooManyStates", ["states"], `${nS} states declared, more than the bound ${maxStates}; raise it with --max-states if the file really describes that many`);
+  }
+  const terminal = new Set<number>();
+  for (const s of doc.terminal) if (Number.isInteger(s) && s >= 0 && s < nS) terminal.add(s);
+  const pairs = new Set<number>();
+  for (const t of doc.transitions) {
+    if (t.state >= 0 && t.state < nS && !terminal.has(t.state) && t.action >= 0 && t.action < nA) pairs.add(t.state * nA + t.action);
+  }
+  const needed = (nS - terminal.size) * nA;
+  if (needed <= doc.transitions.length) return;
+  const missing = needed - pairs.size;
+  for (let s = 0; s < nS; s++) {
+    if (terminal.has(s)) continue;
+    for (let a = 0; a < nA; a++) {
+      if (pairs.has(s * nA + a)) continue;
+      F(
+        "missingTransition",
+        ["transitions"],
+        `no entry for state ${s} action ${a} (${clip(doc.actions[a])}) (${missing} non-terminal state-action pairs are missing in all; $.states declares ${nS} states, $.transitions has ${doc.transitions.length} entries); add {"state": ${s}, "action": ${a}, "outcomes": [...]} or list state ${s} in $.terminal (or lower $.states)`,
+      );
+    }
+  }
 }
