@@ -9,10 +9,10 @@ import { join } from "node:path";
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { compileBudget, enumerateAllocations, optimalAllocation } from "../../src/model/budget.js";
-import { loadScenario } from "../../src/model/registry.js";
+import { loadScenario } from "../../src/env/index.js";
 import { pressureCurve } from "../../src/pressure/curve.js";
 import { solveVariant } from "../../src/solve/compare.js";
-import { deterministicPolicy, evaluatePolicy, startValue, valueIteration } from "../../src/solve/dp.js";
+import { deterministicPolicy, evaluatePolicy, startValue, valueIteration } from "../../src/solve/index.js";
 import { envsDir } from "../../src/util/paths.js";
 import { InputError } from "../../src/errors.js";
 
