@@ -3,14 +3,14 @@ import { isModuleSpec } from "../env/index.js";
 import { EXIT, GapwatchError, InputError } from "../errors.js";
 import { indexRun } from "../store/index-db.js";
 import { writeJsonAtomic } from "../store/atomic.js";
-import { readRun, RUN_FILES } from "../store/run-store.js";
+import { commitRunDir, readRun, RUN_FILES } from "../store/run-store.js";
 import type { RunResult, RunSummary } from "../run/schema.js";
 import type { TrainConfigInput } from "../run/schema.js";
 import { resolveTrainConfig, runTraining, type Progress } from "../train/run.js";
 import { planRun, readPlan } from "../batch/sweep-plan.js";
 import { writeReport } from "../report/write.js";
 import { startWorker } from "../util/worker.js";
-import { join } from "node:path";
+import { dirname, join } from "node:path";
 
 export interface TrainCommandConfig {
   input: TrainConfigInput;
@@ -71,7 +71,9 @@ function storeInterrupted(runDir: string): RunResult {
     finishedAt: new Date().toISOString(),
   };
   writeJsonAtomic(join(runDir, RUN_FILES.summary), summary);
-  return { ...r, status: "interrupted", reason };
+  // The thread wrote into its private temporary folder; move the run into place as the run would have.
+  const finalDir = commitRunDir(dirname(runDir), r.runId, runDir);
+  return { ...r, runDir: finalDir, status: "interrupted", reason };
 }
 
 /**

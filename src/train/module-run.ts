@@ -162,7 +162,7 @@ export async function runModuleTraining(input: TrainConfigInput, env: LoadedModu
     }
   }
   const out = finish();
-  if (status === "failed") throw new GapwatchError("train.failed", `training failed: ${error}`, { where: writer.dir });
+  if (status === "failed") throw new GapwatchError("train.failed", `training failed: ${error}`, { where: writer.finalDir });
   return out;
 
   function finish(): RunResult {
@@ -200,9 +200,9 @@ export async function runModuleTraining(input: TrainConfigInput, env: LoadedModu
       finishedAt: new Date().toISOString(),
     };
     writer.writeSummary(summary);
-    writer.close();
+    const runDir = writer.commit();
     log.info({ status, verdict: v.verdict, steps, alerts: monitor.alerts.length }, "run finished");
     const alerts: Alert[] = monitor.alerts.slice();
-    return { runId: id, runDir: writer.dir, config, status, verdict: v.verdict, reason, checkpoints: monitor.records.slice(), alerts, final, firstAlertStep: v.firstAlertStep, references, steps, episodes, trainSeconds, monitorSeconds: monitorMs / 1000 };
+    return { runId: id, runDir, config, status, verdict: v.verdict, reason, checkpoints: monitor.records.slice(), alerts, final, firstAlertStep: v.firstAlertStep, references, steps, episodes, trainSeconds, monitorSeconds: monitorMs / 1000 };
   }
 }
