@@ -1,15 +1,26 @@
 /** `gapwatch export`: an environment as a model file document (gapwatch-mdp/1). */
 import { loadFinite } from "../env/resolve.js";
+import { formatDrn } from "../model/drn-export.js";
 import { exportModel } from "../model/format/export.js";
 
 export interface ExportConfig {
   env: string;
+  /** "json" (gapwatch-mdp/1, default) or "drn" (the explicit format of probabilistic model checkers). */
+  format?: "json" | "drn";
   /** State bound when `env` is a simulator module. */
   maxStates?: number;
 }
 
-/** The model document; `doc` is what `export` prints (with or without --json). */
+/**
+ * The model document; `doc` is what `export` prints (with or without --json). With `format: "drn"`,
+ * `text` is the DRN file and `warnings` say what DRN cannot carry (per-outcome rewards, variants).
+ */
 export async function runExport(cfg: ExportConfig) {
   const { model } = await loadFinite(cfg.env, { command: "export", maxStates: cfg.maxStates });
-  return { doc: exportModel(model) };
+  if (cfg.format === "drn") {
+    const { text, warnings } = formatDrn(model);
+    return { doc: null, text, warnings };
+  }
+  const doc = exportModel(model);
+  return { doc, text: JSON.stringify(doc, null, 1) + "\n", warnings: [] as string[] };
 }

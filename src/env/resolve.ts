@@ -8,7 +8,9 @@
 import { existsSync, readFileSync } from "node:fs";
 import { resolve } from "node:path";
 import { InputError } from "../errors.js";
+import { loadDrnFile } from "../model/drn.js";
 import { loadModelFile } from "../model/format/model-file.js";
+import { logger } from "../util/log.js";
 import { parseRewardFile } from "../model/format/reward-file.js";
 import { checkVariant, defaultVariantName } from "../model/reward.js";
 import { clip } from "../model/format/json-errors.js";
@@ -30,12 +32,24 @@ export function loadEnvSync(spec: string, opts: EnvLoadOptions = {}): FiniteEnv 
     if (!existsSync(file)) throw new InputError("env.notFound", `model file not found`, spec);
     return { model: loadModelFile(file, { maxStates: opts.maxStates }), kind: "file", spec };
   }
+  if (/\.drn$/i.test(spec)) {
+    // The explicit format of probabilistic model checkers (src/model/drn.ts): what it cannot carry
+    // (per-outcome rewards, reward variants) is said in warnings, logged on stderr.
+    const file = resolve(spec);
+    if (!existsSync(file)) throw new InputError("env.notFound", `DRN model file not found`, spec);
+    const { model, warnings } = loadDrnFile(file);
+    if (opts.maxStates !== undefined && model.nStates > opts.maxStates) {
+      throw new InputError("env.tooManyStates", `the DRN model has ${model.nStates} states, more than --max-states ${opts.maxStates}`, spec);
+    }
+    for (const w of warnings) logger().warn({ file: spec }, w);
+    return { model, kind: "file", spec, warnings };
+  }
   const names = builtinScenarioNames();
   if (names.includes(spec)) return loadScenario(spec);
   if (isModuleSpec(spec)) throw new InputError("env.module", `simulator modules load asynchronously; use loadEnv()`, spec);
   throw new InputError(
     "env.unknown",
-    `unknown environment "${spec}"; built-in scenarios: ${names.join(", ")}; or pass a path to a model file (.json) or a simulator module (.ts/.js)`,
+    `unknown environment "${spec}"; built-in scenarios: ${names.join(", ")}; or pass a path to a model file (.json, or .drn from a probabilistic model checker) or a simulator module (.ts/.js)`,
     "--env",
   );
 }

@@ -20,6 +20,8 @@ export interface ScenarioEnv {
 export interface ModelFileEnv {
   kind: "file";
   model: FiniteModel;
+  /** What a DRN file could not carry (src/model/drn.ts), when the file was one. */
+  warnings?: string[];
   /** The path the user passed. */
   spec: string;
 }
