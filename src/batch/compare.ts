@@ -9,7 +9,7 @@
  * Both backends produce the same run directories (same run ids, same checkpoints.jsonl bytes) and
  * the same statistics: a run depends only on its config, and the aggregation only on the runs.
  */
-import { mkdirSync } from "node:fs";
+import { existsSync, mkdirSync } from "node:fs";
 import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { canonicalJson } from "../util/canonical-json.js";
@@ -25,6 +25,7 @@ import { planSweep, sha256, type SweepSpec } from "./plan.js";
 import { defaultWorkers, PoolError, WorkerPool, type PoolRunOptions } from "./pool.js";
 import { parseQueueUrl, runOnQueue } from "./queue.js";
 import type { BatchJob, BatchProgress, RunOutcome } from "./types.js";
+import { isModuleSpec } from "../env/index.js";
 
 export interface CompareConfig extends SweepSpec {
   runsDir: string;
@@ -176,13 +177,20 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   const target = cfg.queue ? parseQueueUrl(cfg.queue) : undefined;
   const jobs = planSweep(cfg, { ship: Boolean(target) });
   // Every variant, learner and file resolved before the first run: a misspelt name stops the sweep
-  // at once instead of failing its own runs while the rest train.
-  const checked = new Set<string>();
-  for (const job of jobs) {
-    const key = `${job.cell.reward}\u0000${job.cell.learner}`;
-    if (checked.has(key)) continue;
-    checked.add(key);
-    await resolveTrainConfig(job.input);
+  // at once instead of failing its own runs while the rest train. A simulator module is user code that
+  // may hang while it compiles, which only a run's thread (with --run-timeout) can stop: for modules
+  // only the learners and the files are checked here, and the variants by the runs themselves.
+  if (isModuleSpec(cfg.env)) {
+    if (!existsSync(resolve(cfg.env))) throw new InputError("env.notFound", "simulator module not found", cfg.env);
+    for (const r of cfg.rewards) if (/\.json$/i.test(r) && !existsSync(resolve(r))) throw new InputError("reward.notFound", "reward file not found", r);
+  } else {
+    const checked = new Set<string>();
+    for (const job of jobs) {
+      const key = `${job.cell.reward}\u0000${job.cell.learner}`;
+      if (checked.has(key)) continue;
+      checked.add(key);
+      await resolveTrainConfig(job.input);
+    }
   }
   const index = openIndex(runsDir);
   let done = 0;
