@@ -6,14 +6,14 @@
  * and random streams as `runTraining` (src/train/run.ts), which hands such modules to this file.
  */
 import { performance } from "node:perf_hooks";
-import { GapwatchError, InputError } from "../errors.js";
+import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import { resolveReward } from "../env/index.js";
 import type { ModuleEnv as LoadedModule } from "../env/types.js";
 import { evaluateModuleMonteCarlo } from "../monitor/evaluate-module.js";
 import { Monitor } from "../monitor/monitor.js";
 import { createRng } from "../rng/rng.js";
-import type { Alert, CheckpointRecord, RunManifest, RunResult, RunStatus, RunSummary, TrainConfig, TrainConfigInput } from "../run/schema.js";
+import type { Alert, CheckpointRecord, RunManifest, RunResult, TrainConfig, TrainConfigInput } from "../run/schema.js";
 import { DEFAULT_MODULE_GAMMA, DEFAULT_MODULE_HORIZON, type EnvDefinition, type ScoreRange } from "../sim/define.js";
 import { moduleTabularEnv } from "../sim/env.js";
 import { RunWriter, runId as makeRunId } from "../store/run-store.js";
@@ -22,6 +22,7 @@ import { packageVersion } from "../util/paths.js";
 import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS } from "./config.js";
 import { getLearner } from "./learners.js";
 import type { Agent } from "../../policies/driver.js";
+import { trainAndStore, type RunProgress } from "./store-run.js";
 
 /** The options of `runTraining` (src/train/run.ts, which imports this file) that apply here. */
 export interface ModuleRunOptions {
@@ -116,15 +117,13 @@ export async function runModuleTraining(input: TrainConfigInput, env: LoadedModu
 
   const menv = moduleTabularEnv(def, weights, env.spec);
   const monitor = new Monitor(config.monitor);
-  let lastAgent: Agent | null = null;
-  let steps = 0;
-  let episodes = 0;
+  const progress: RunProgress = { steps: 0, episodes: 0, agent: null };
   let monitorMs = 0;
   const onCheckpoint = (step: number, agent: Agent, stats: { episodes: number }) => {
     const c0 = performance.now();
-    lastAgent = agent;
-    steps = step;
-    episodes = stats.episodes;
+    progress.agent = agent;
+    progress.steps = step;
+    progress.episodes = stats.episodes;
     const pi = agent.greedyPolicy(menv.stateCapacity());
     const act = (s: unknown) => {
       const i = menv.findId(s);
@@ -143,66 +142,21 @@ export async function runModuleTraining(input: TrainConfigInput, env: LoadedModu
     opts.onProgress?.({ step, steps: config.steps, episodes: stats.episodes, record, alerts });
   };
 
-  const learner = getLearner(config.learner);
-  const trainOpts = { steps: config.steps, rng: explore, envRng, checkpointEvery: every, onCheckpoint, signal: opts.signal };
-  const tTrain = performance.now();
-  let status: RunStatus = "complete";
-  let error: string | undefined;
-  try {
-    const result = opts.sync ? learner.train(menv, config.learnerParams, trainOpts) : await learner.trainAsync(menv, config.learnerParams, trainOpts);
-    lastAgent = result.agent;
-    episodes = result.episodes;
-    if (result.stopped && steps < config.steps) status = "interrupted";
-  } catch (err) {
-    status = "failed";
-    error = err instanceof Error ? err.message : String(err);
-    if (err instanceof GapwatchError && err.exitCode === 2) {
-      finish();
-      throw err;
-    }
-  }
-  const out = finish();
-  if (status === "failed") throw new GapwatchError("train.failed", `training failed: ${error}`, { where: writer.finalDir });
-  return out;
-
-  function finish(): RunResult {
-    const v = monitor.verdict();
-    const final = monitor.records.length > 0 ? monitor.records[monitor.records.length - 1] : null;
-    const reason = status === "interrupted" ? `interrupted at step ${steps} of ${config.steps}; so far: ${v.reason}` : v.reason;
-    if (lastAgent) {
-      const agent = lastAgent as Agent;
-      const n = menv.stateCapacity();
-      writer.writePolicy({
-        format: "gapwatch-run-policy/1",
-        runId: id,
-        step: steps,
-        actions: [...def.actions],
-        greedy: Array.from(agent.greedyPolicy(n), (a) => def.actions[a]),
-        learner: agent.toJSON(),
-      });
-    }
-    const trainSeconds = Math.max(0, (performance.now() - tTrain - monitorMs) / 1000);
-    const summary: RunSummary = {
-      format: "gapwatch-run-summary/1",
-      runId: id,
-      status,
-      verdict: v.verdict,
-      reason,
-      final,
-      alertCount: monitor.alerts.length,
-      firstAlertStep: v.firstAlertStep,
-      steps,
-      episodes,
-      checkpointCount: monitor.records.length,
-      trainSeconds,
-      monitorSeconds: monitorMs / 1000,
-      ...(error ? { error } : {}),
-      finishedAt: new Date().toISOString(),
-    };
-    writer.writeSummary(summary);
-    const runDir = writer.commit();
-    log.info({ status, verdict: v.verdict, steps, alerts: monitor.alerts.length }, "run finished");
-    const alerts: Alert[] = monitor.alerts.slice();
-    return { runId: id, runDir, config, status, verdict: v.verdict, reason, checkpoints: monitor.records.slice(), alerts, final, firstAlertStep: v.firstAlertStep, references, steps, episodes, trainSeconds, monitorSeconds: monitorMs / 1000 };
-  }
+  return trainAndStore({
+    id,
+    config,
+    writer,
+    monitor,
+    references,
+    learner: getLearner(config.learner),
+    env: menv,
+    trainOpts: { steps: config.steps, rng: explore, envRng, checkpointEvery: every, onCheckpoint, signal: opts.signal },
+    sync: opts.sync,
+    progress,
+    // The states found while training, in the order they were found.
+    policyOf: (agent) => ({ actions: [...def.actions], greedy: Array.from(agent.greedyPolicy(menv.stateCapacity()), (a) => def.actions[a]) }),
+    monitorMs: () => monitorMs,
+    checkpointMs: () => monitorMs,
+    log,
+  });
 }

@@ -8,7 +8,7 @@
  * seed/evaluate.
  */
 import { performance } from "node:perf_hooks";
-import { GapwatchError, InputError } from "../errors.js";
+import { InputError } from "../errors.js";
 import { learnerView, viewEnv } from "../model/learner-view.js";
 import { builtinScenarioNames, isModuleSpec, loadEnv, loadFiniteVariant, type EnvLoadOptions, type LoadedEnv } from "../env/index.js";
 import { inputsOf } from "../env/inputs.js";
@@ -18,13 +18,14 @@ import { Monitor, type ScoreBounds } from "../monitor/monitor.js";
 import { createRng } from "../rng/rng.js";
 import { defaultVariantName, designerReward } from "../model/reward.js";
 import { RunWriter, runId as makeRunId } from "../store/run-store.js";
-import type { Alert, CheckpointRecord, RunInputs, RunManifest, RunResult, RunStatus, RunSummary, TrainConfig, TrainConfigInput } from "../run/schema.js";
+import type { Alert, CheckpointRecord, RunInputs, RunManifest, RunResult, TrainConfig, TrainConfigInput } from "../run/schema.js";
 import { logger } from "../util/log.js";
 import { packageVersion } from "../util/paths.js";
 import { checkpointEvery, checkTrainConfig, defaultLearnerParams, defaultSteps, TRAIN_DEFAULTS } from "./config.js";
 import { getLearner } from "./learners.js";
 import type { Agent } from "../../policies/driver.js";
 import { runModuleTraining } from "./module-run.js";
+import { trainAndStore, type RunProgress } from "./store-run.js";
 
 export interface Progress {
   step: number;
@@ -200,17 +201,15 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
   opts.onStart?.({ runId: id, runDir: writer.dir });
 
   const monitor = new Monitor(config.monitor);
-  let lastAgent: Agent | null = null;
+  const progress: RunProgress = { steps: 0, episodes: 0, agent: null };
   let lastActions: Int32Array | null = null;
   let lastReach: Int32Array | null = null;
   let lastScored: ReturnType<typeof scoreCheckpoint> | null = null;
-  let steps = 0;
-  let episodes = 0;
   const onCheckpoint = (step: number, agent: Agent, stats: { episodes: number }) => {
     const c0 = performance.now();
-    lastAgent = agent;
-    steps = step;
-    episodes = stats.episodes;
+    progress.agent = agent;
+    progress.steps = step;
+    progress.episodes = stats.episodes;
     const actions = agent.greedyPolicy(model.nStates);
     // Exact scores depend only on the actions in the states the policy reaches from the start: when
     // those are unchanged since the previous checkpoint, so are the scores.
@@ -230,80 +229,23 @@ export async function runTraining(input: TrainConfigInput, opts: RunOptions): Pr
     opts.onProgress?.({ step, steps: config.steps, episodes: stats.episodes, record, alerts });
   };
 
-  const learner = getLearner(config.learner);
-  const env = viewEnv(learnerView(model, rd));
-  const trainOpts = { steps: config.steps, rng: explore, envRng, checkpointEvery: every, onCheckpoint, signal: opts.signal };
-  const tTrain = performance.now();
-  let status: RunStatus = "complete";
-  let error: string | undefined;
-  try {
-    const result = opts.sync ? learner.train(env, config.learnerParams, trainOpts) : await learner.trainAsync(env, config.learnerParams, trainOpts);
-    lastAgent = result.agent;
-    episodes = result.episodes;
-    if (result.stopped && steps < config.steps) status = "interrupted";
-  } catch (err) {
-    status = "failed";
-    error = err instanceof Error ? err.message : String(err);
-    if (err instanceof GapwatchError && err.exitCode === 2) {
-      finish();
-      throw err;
-    }
-  }
-  const result = finish();
-  if (status === "failed") throw new GapwatchError("train.failed", `training failed: ${error}`, { where: writer.finalDir });
-  return result;
-
-  function finish(): RunResult {
-    const v = monitor.verdict();
-    const final = monitor.records.length > 0 ? monitor.records[monitor.records.length - 1] : null;
-    const reason = status === "interrupted" ? `interrupted at step ${steps} of ${config.steps}; so far: ${v.reason}` : v.reason;
-    if (lastAgent) {
-      const agent = lastAgent as Agent;
-      writer.writePolicy({
-        format: "gapwatch-run-policy/1",
-        runId: id,
-        step: steps,
-        actions: [...model.actions],
-        greedy: Array.from(agent.greedyPolicy(model.nStates), (a, s) => (model.terminal[s] ? null : model.actions[a])),
-        learner: agent.toJSON(),
-      });
-    }
-    const summary: RunSummary = {
-      format: "gapwatch-run-summary/1",
-      runId: id,
-      status,
-      verdict: v.verdict,
-      reason,
-      final,
-      alertCount: monitor.alerts.length,
-      firstAlertStep: v.firstAlertStep,
-      steps,
-      episodes,
-      checkpointCount: monitor.records.length,
-      trainSeconds: Math.max(0, (performance.now() - tTrain - checkpointMs) / 1000),
-      monitorSeconds: monitorMs / 1000,
-      ...(error ? { error } : {}),
-      finishedAt: new Date().toISOString(),
-    };
-    writer.writeSummary(summary);
-    const runDir = writer.commit();
-    log.info({ status, verdict: v.verdict, steps, alerts: monitor.alerts.length }, "run finished");
-    return {
-      runId: id,
-      runDir,
-      config,
-      status,
-      verdict: v.verdict,
-      reason,
-      checkpoints: monitor.records.slice(),
-      alerts: monitor.alerts.slice(),
-      final,
-      firstAlertStep: v.firstAlertStep,
-      references: referencesDoc(refs),
-      steps,
-      episodes,
-      trainSeconds: summary.trainSeconds,
-      monitorSeconds: summary.monitorSeconds,
-    };
-  }
+  return trainAndStore({
+    id,
+    config,
+    writer,
+    monitor,
+    references: referencesDoc(refs),
+    learner: getLearner(config.learner),
+    env: viewEnv(learnerView(model, rd)),
+    trainOpts: { steps: config.steps, rng: explore, envRng, checkpointEvery: every, onCheckpoint, signal: opts.signal },
+    sync: opts.sync,
+    progress,
+    policyOf: (agent) => ({
+      actions: [...model.actions],
+      greedy: Array.from(agent.greedyPolicy(model.nStates), (a, s) => (model.terminal[s] ? null : model.actions[a])),
+    }),
+    monitorMs: () => monitorMs,
+    checkpointMs: () => checkpointMs,
+    log,
+  });
 }
