@@ -1,7 +1,10 @@
 /**
  * Long fuzz run over model and reward files (the seeded engine in tests/helpers/fuzz.ts):
  *
- *   npx tsx scripts/fuzz.ts [--cases 10000] [--seed 1] [--time-limit-ms 5000]
+ *   npx tsx scripts/fuzz.ts [--cases 10000] [--seed 1] [--from 0] [--time-limit-ms 5000]
+ *
+ * `--from K` starts at case K (each case draws from its own fork of the seed, so case K is the same
+ * whether or not the cases before it ran): a failing case of a long run is replayed alone.
  *
  * Prints one line per failing case and a summary (cases, outcomes, exit codes, slowest case); exits 1
  * when any case failed. A case that never returns is caught by a watchdog thread, which prints the case
@@ -18,6 +21,7 @@ const arg = (name: string, def: string): string => {
 const cases = Number(arg("--cases", "10000"));
 const seed = arg("--seed", "1");
 const timeLimitMs = Number(arg("--time-limit-ms", "5000"));
+const from = Number(arg("--from", "0"));
 
 // Watchdog: the main thread stores the running case and its start time; a case that runs 60x the
 // limit (sync hangs block timers) is reported and the process killed.
@@ -43,12 +47,13 @@ let slowest = { ms: 0, index: -1 };
 const result = await runFuzz({
   cases,
   seed,
+  from,
   timeLimitMs,
   onCase(c) {
     Atomics.store(shared, 0, c.index + 1);
     if (c.ms > slowest.ms) slowest = { ms: c.ms, index: c.index };
     if (isFailure(c)) say(`FAIL case ${c.index} ${c.command} ${c.target}: ${c.outcome} (exit ${c.code}, ${c.ms.toFixed(0)} ms) ${c.firstLine}`);
-    if ((c.index + 1) % 500 === 0) process.stderr.write(`${c.index + 1}/${cases} cases, ${((Date.now() - t0) / 1000).toFixed(0)} s\n`);
+    if ((c.index + 1 - from) % 500 === 0) process.stderr.write(`${c.index + 1 - from}/${cases} cases, ${((Date.now() - t0) / 1000).toFixed(0)} s\n`);
   },
 });
 const s = summarize(result);

@@ -72,6 +72,27 @@ export function printableLine(text: string, max = MAX_ERROR_LINE): string {
   return line.length > max ? `${line.slice(0, max - 1)}…` : line;
 }
 
+// Our own styling codes (SGR, e.g. ESC[1m ... ESC[22m) are the only escape sequences kept in printed text.
+// eslint-disable-next-line no-control-regex
+const SGR_OR_UNPRINTABLE = /\u001b\[[0-9;]{0,12}m|[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069]/g;
+
+/**
+ * Text safe for a terminal, line breaks and tabs kept: every control character (ESC of a cursor or
+ * title sequence, carriage return, backspace, bell) and every Unicode direction control becomes "?";
+ * only colour/bold codes (ESC [ digits m) stay. For human output that carries names from users' files
+ * (features, actions, variants, tags). Pure.
+ */
+export function terminalText(text: string): string {
+  return text.replace(SGR_OR_UNPRINTABLE, (m) => (m.length > 1 ? m : "?"));
+}
+
+const DIRECTION_CONTROLS = /[\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069\u2028\u2029]/g;
+
+/** JSON text with Unicode direction controls and line separators written as \u escapes: the same data, nothing reordered on a terminal. Pure. */
+export function jsonWithoutDirectionControls(json: string): string {
+  return json.replace(DIRECTION_CONTROLS, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, "0")}`);
+}
+
 /** One line for a terminal: `error [model.probabilitySum] file.json $.transitions[3]: ...`. Pure. */
 export function formatError(err: unknown): string {
   if (err instanceof GapwatchError) {

@@ -3,6 +3,8 @@
  * errors, progress and logs. Colour only on a TTY, never with --json, and never when NO_COLOR is set.
  * Everything is redirectable so the whole CLI can be tested in-process.
  */
+import { jsonWithoutDirectionControls, terminalText } from "../errors.js";
+
 export interface CliIO {
   out(text: string): void;
   err(text: string): void;
@@ -91,10 +93,14 @@ export function formatNumber(x: number, digits = 4): string {
 
 export { sparkline } from "../report/terminal.js";
 
-/** Print the result of a command: JSON document or human text. */
+/**
+ * Print the result of a command: JSON document or human text. Names from users' files reach both: the
+ * human text has control and direction characters replaced (`terminalText`), the JSON has direction
+ * controls as \u escapes (the same data).
+ */
 export function emit(io: CliIO, json: boolean, doc: unknown, human: () => string): void {
-  if (json) io.out(JSON.stringify(doc, (_k, v) => (ArrayBuffer.isView(v) ? Array.from(v as unknown as ArrayLike<number>) : v)) + "\n");
-  else io.out(human());
+  if (json) io.out(jsonWithoutDirectionControls(JSON.stringify(doc, (_k, v) => (ArrayBuffer.isView(v) ? Array.from(v as unknown as ArrayLike<number>) : v))) + "\n");
+  else io.out(terminalText(human()));
 }
 
 /** The caution every human-readable result ends with. */

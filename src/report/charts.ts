@@ -9,7 +9,7 @@
 import * as vega from "vega";
 import { compile, type TopLevelSpec } from "vega-lite";
 import { DIVERGING, ROLE } from "./palette.js";
-import { esc } from "./escape.js";
+import { esc, hideControls } from "./escape.js";
 
 /** Shared look: our fonts, muted axes, no chart border. */
 const CONFIG = {
@@ -307,12 +307,12 @@ export function pressureSpec(points: PressurePoint[], marks: { label: string; st
   return { config: CONFIG, vconcat: [panel("designer", false), panel("intent", true)], spacing: 8, resolve: { scale: { y: "independent" } } } as unknown as TopLevelSpec;
 }
 
-/** Compile a Vega-Lite spec and render it to an SVG string headlessly. */
+/** Compile a Vega-Lite spec and render it to an SVG string headlessly (names from users' files: control and direction characters shown as U+FFFD). */
 export async function renderSvg(spec: TopLevelSpec): Promise<string> {
   const compiled = compile(spec).spec;
   const view = new vega.View(vega.parse(compiled), { renderer: "none" });
   try {
-    return await view.toSVG();
+    return hideControls(await view.toSVG());
   } finally {
     view.finalize();
   }

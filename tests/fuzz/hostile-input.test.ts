@@ -3,13 +3,14 @@
  * one printable line, or exit 0 with finite results; never exit 1, a hang or non-finite numbers.
  * The expectations are the project's own input contract (DEVELOPERS.md: bad input = one line, exit 2).
  */
+import fc from "fast-check";
 import { mkdirSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { memoryIO } from "../../src/cli/io.js";
 import { runCli } from "../../src/cli/program.js";
 import { didYouMean } from "../../src/model/format/json-errors.js";
-import { formatError, InputError } from "../../src/errors.js";
+import { formatError, InputError, terminalText } from "../../src/errors.js";
 import { nonFinitePaths } from "../helpers/fuzz.js";
 import { tempDirRemovedAfterAll } from "../helpers/temp-dirs.js";
 
@@ -191,5 +192,53 @@ describe("exit 2 where exit 2 belongs; no raw control characters (defect 25)", (
     const line = formatError(new InputError("model.x", `a\u001b[2J${"y".repeat(10_000)}\u2066`, "f.json"));
     expect(line.length).toBeLessThanOrEqual(500);
     expect(line).not.toMatch(/[\u001b\u2066\n]/);
+  });
+});
+
+describe("control and direction characters in names (defect 25)", () => {
+  // ECMA-48 (5th ed., 1991) section 5.3/8.3: ESC starts a control sequence (CSI "ESC [", OSC "ESC ]"),
+  // BEL ends an OSC; Unicode Standard Annex #9 (bidi) lists U+202A..U+202E and U+2066..U+2069 as
+  // explicit direction formatting characters, which reorder what a terminal or a page shows.
+  const NASTY = "st\u001b]0;owned\u0007ep\u001b[2J\u202egnp.exe\u0008\r";
+  const doc = () => {
+    const d = chainDoc();
+    d.features = [NASTY];
+    d.actions = ["go\u202e", "stay\u001b[1A"];
+    for (const t of d.transitions) for (const o of t.outcomes) o.features = { [NASTY]: 1 };
+    d.rewards = { default: { weights: { [NASTY]: -1 } } };
+    return d;
+  };
+  const CONTROL_OR_BIDI = /[\u0000-\u0008\u000b-\u001f\u007f-\u009f\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069]/;
+
+  for (const cmd of [["audit"]]) {
+    it(`${cmd[0]}: human output shows the names with every control and direction character replaced`, async () => {
+      const file = write(doc());
+      const r = await cli(...cmd, "--env", file);
+      expect(r.code, r.err).toBe(0);
+      // no escape sequence other than colour codes (there are none without a TTY) and no bidi control
+      expect(CONTROL_OR_BIDI.test(r.out.replace(/[\n\t]/g, ""))).toBe(false);
+      if (cmd[0] === "audit") expect(r.out).toContain("st?]0;owned?ep?[2J?gnp.exe??"); // the weight-sensitivity table names the feature
+    });
+  }
+
+  it("--json keeps the names as data: the same strings after JSON.parse, direction controls written as \\u escapes", async () => {
+    const file = write(doc());
+    const r = await cli("solve", "--env", file, "--json");
+    expect(r.code, r.err).toBe(0);
+    expect(/[\u202a-\u202e]/.test(r.out)).toBe(false);
+    expect(r.out).toContain("\\u202e");
+    expect(JSON.parse(r.out).designerOptimal.policy[0]).toBe("go\u202e");
+  });
+
+  it("terminalText: every control and direction character becomes ?, colour codes and line breaks stay", () => {
+    expect(terminalText(NASTY)).toBe("st?]0;owned?ep?[2J?gnp.exe??");
+    expect(terminalText("\u001b[1mbold\u001b[22m\n\tx")).toBe("\u001b[1mbold\u001b[22m\n\tx");
+    fc.assert(
+      fc.property(fc.string({ unit: "binary" }), (s) => {
+        const t = terminalText(s);
+        expect(CONTROL_OR_BIDI.test(t.replace(/\u001b\[[0-9;]*m/g, "").replace(/[\n\t]/g, ""))).toBe(false);
+        if (!CONTROL_OR_BIDI.test(s)) expect(t).toBe(s); // printable text is left alone
+      }),
+    );
   });
 });

@@ -173,6 +173,8 @@ const COMMANDS: string[][] = [["solve", "--json"], ["audit", "--no-sensitivity",
 export interface FuzzOptions {
   cases: number;
   seed: number | string;
+  /** First case index (cases are independent: case i draws from its own fork of the seed). Default 0. */
+  from?: number;
   /** A case taking longer than this (ms) is a failure ("slow"); default 5000. */
   timeLimitMs?: number;
   /** Called after each case. */
@@ -187,7 +189,7 @@ export async function runFuzz(opts: FuzzOptions): Promise<FuzzCase[]> {
   const limit = opts.timeLimitMs ?? 5000;
   const out: FuzzCase[] = [];
   try {
-    for (let index = 0; index < opts.cases; index++) {
+    for (let index = opts.from ?? 0; index < (opts.from ?? 0) + opts.cases; index++) {
       const caseRng = rng.fork(`case-${index}`);
       const base = pick(caseRng, seeds);
       const target = caseRng.int(4) === 0 ? "reward" : "model";

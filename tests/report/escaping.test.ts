@@ -9,7 +9,11 @@ import { readFileSync, writeFileSync } from "node:fs";
 import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 import { renderComparisonReport } from "../../src/report/comparison-report.js";
-import { esc, jsonForScript } from "../../src/report/escape.js";
+import { esc, hideControls, jsonForScript } from "../../src/report/escape.js";
+
+// C0/C1 controls except tab and line breaks, and the Unicode direction controls (UAX #9).
+// eslint-disable-next-line no-control-regex
+const HIDDEN_CHARS = /[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f-\u009f\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069]/;
 import { renderSvg } from "../../src/report/charts.js";
 import { writeReport } from "../../src/report/write.js";
 import { readRun } from "../../src/store/run-store.js";
@@ -28,13 +32,19 @@ describe("escape helpers", () => {
     expect(esc(EVIL)).toBe("&lt;img src=x onerror=alert(1)&gt;&lt;script&gt;alert(2)&lt;/script&gt;");
   });
 
+  it("control characters and Unicode direction controls (UAX #9 explicit formatting characters) become U+FFFD", () => {
+    expect(esc("a\u202eb\u001b[2Jc\u2066d")).toBe("a\ufffdb\ufffd[2Jc\ufffdd");
+    expect(esc("tab\tand\nline")).toBe("tab\tand\nline");
+  });
+
   it("property: escaped text has no raw < > \" ' and decodes back to the input", () => {
     const decode = (s: string) => s.replace(/&(amp|lt|gt|quot|#39);/g, (_m, e: string) => ({ amp: "&", lt: "<", gt: ">", quot: '"', "#39": "'" })[e]!);
     fc.assert(
       fc.property(fc.string({ unit: "binary" }), (s) => {
         const e = esc(s);
         expect(/[<>"']/.test(e)).toBe(false);
-        expect(decode(e)).toBe(s);
+        expect(decode(e)).toBe(hideControls(s));
+        expect(HIDDEN_CHARS.test(e)).toBe(false);
       }),
     );
   });
@@ -44,7 +54,7 @@ describe("escape helpers", () => {
       fc.property(fc.jsonValue(), fc.string({ unit: "binary" }), (v, s) => {
         const doc = { v, s, evil: EVIL + s };
         const text = jsonForScript(doc);
-        expect(/[<>&\u2028\u2029]/.test(text)).toBe(false);
+        expect(/[<>&\u2028\u2029\u202a-\u202e\u2066-\u2069]/.test(text)).toBe(false);
         expect(JSON.parse(text)).toEqual(JSON.parse(JSON.stringify(doc)));
       }),
     );
@@ -55,6 +65,12 @@ describe("escape helpers", () => {
     expect(svg).not.toContain("<script");
     expect(svg).not.toContain("<img");
     expect(svg).toContain("&lt;script&gt;");
+  });
+
+  it("chart text carries no control or direction character from a name", async () => {
+    const svg = await renderSvg({ data: { values: [{ name: "a\u202eb\u001b]0;t\u0007", x: 1 }] }, mark: "bar", encoding: { y: { field: "name", type: "nominal" }, x: { field: "x", type: "quantitative" } } });
+    expect(HIDDEN_CHARS.test(svg)).toBe(false);
+    expect(svg).toContain("a\ufffdb\ufffd]0;t\ufffd");
   });
 });
 
@@ -68,8 +84,8 @@ describe.skipIf(!HAVE_CHROMIUM)("escaping in the browser", () => {
     const back = await page.evaluate((n) => Array.from({ length: n }, (_, i) => { const el = document.getElementById(`t${i}`)!; return [el.textContent, el.getAttribute("title"), el.children.length]; }), samples.length);
     // The HTML parser normalizes CR and CRLF to LF in text and attribute values (WHATWG HTML, preprocessing the input stream).
     back.forEach(([text, title, kids], i) => {
-      expect(text).toBe(samples[i].replace(/\r\n?/g, "\n"));
-      expect(title).toBe(samples[i].replace(/\r\n?/g, "\n"));
+      expect(text).toBe(hideControls(samples[i]).replace(/\r\n?/g, "\n"));
+      expect(title).toBe(hideControls(samples[i]).replace(/\r\n?/g, "\n"));
       expect(kids).toBe(0);
     });
     await page.close();

@@ -11,7 +11,7 @@ import { collectCommand, runCompareCommand, writePlanCommand, type CollectGate }
 import type { CompareResult } from "../../batch/compare.js";
 import { MAX_SWEEP_RUNS, parseList, parseSeedList } from "../../batch/plan.js";
 import { defaultWorkers } from "../../batch/pool.js";
-import { InputError, EXIT } from "../../errors.js";
+import { EXIT, InputError, printableLine } from "../../errors.js";
 import { BOOTSTRAP_DEFAULTS } from "../../stats/bootstrap.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { CAUTION, emit, paint, table, useColor } from "../io.js";
@@ -179,7 +179,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
             report: reportOf(ctx.io, opts.report),
           },
           {
-            onNotice: (line) => ctx.io.err(`${showBar ? "\n" : ""}${line}\n`),
+            onNotice: (line) => ctx.io.err(`${showBar ? "\n" : ""}${printableLine(line)}\n`),
             onProgress: (p) => {
               if (showBar) ctx.io.err(`\r${progressLine(p.done, p.total, p.failed, Date.now() - t0)}${p.done === p.total ? "\n" : ""}`);
             },

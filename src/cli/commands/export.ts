@@ -1,6 +1,6 @@
 import type { Command } from "commander";
 import { runExport } from "../../app/export.js";
-import { InputError } from "../../errors.js";
+import { InputError, printableLine } from "../../errors.js";
 import { action, type CliContext } from "../context.js";
 import { envOption, jsonOption, maxStatesOf, maxStatesOption } from "../options.js";
 
@@ -18,7 +18,7 @@ export function registerExport(program: Command, ctx: CliContext): void {
         if (format !== "json" && format !== "drn") throw new InputError("cli.format", `--format expects json or drn, got "${format.slice(0, 40)}"`, "--format");
         if (format === "drn" && opts.json) throw new InputError("cli.conflict", "--json prints the gapwatch-mdp/1 document; drop it with --format drn", "--json");
         const { text, warnings } = await runExport({ env: opts.env, format, maxStates: maxStatesOf(opts) });
-        for (const w of warnings) ctx.io.err(`warning: ${w}\n`);
+        for (const w of warnings) ctx.io.err(`warning: ${printableLine(w)}\n`);
         ctx.io.out(text);
       }),
     );

@@ -5,7 +5,7 @@
  */
 import type { Command } from "commander";
 import { runIngest } from "../../app/ingest.js";
-import { EXIT, InputError } from "../../errors.js";
+import { EXIT, InputError, printableLine } from "../../errors.js";
 import { parseFormat } from "../../ingest/index.js";
 import { parseRange } from "../../monitor/external.js";
 import { action, intOption, numberOption, type CliContext } from "../context.js";
@@ -84,8 +84,8 @@ export function registerIngest(program: Command, ctx: CliContext): void {
                 idleSeconds: opts.idle === undefined ? undefined : numberOption(opts.idle, "--idle", { min: 0 }),
               }
             : undefined,
-          onNotice: opts.follow && !opts.json ? (text: string) => ctx.io.err(`${paint(color, "dim", text)}\n`) : undefined,
-          onAlert: opts.follow ? (a: { step: number; kind: string; message: string }) => ctx.io.err(`alert at step ${a.step}: ${paint(color, "red", a.kind)}: ${a.message}\n`) : undefined,
+          onNotice: opts.follow && !opts.json ? (text: string) => ctx.io.err(`${paint(color, "dim", printableLine(text))}\n`) : undefined,
+          onAlert: opts.follow ? (a: { step: number; kind: string; message: string }) => ctx.io.err(`alert at step ${a.step}: ${paint(color, "red", a.kind)}: ${printableLine(a.message)}\n`) : undefined,
         };
         const { value: out } = await withInterrupt((signal) => runIngest({ ...cfg, signal }));
         const r = out.result;

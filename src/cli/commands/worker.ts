@@ -8,7 +8,7 @@
 import type { Command } from "commander";
 import { availableParallelism } from "node:os";
 import { existsSync, statSync } from "node:fs";
-import { EXIT, InputError } from "../../errors.js";
+import { EXIT, InputError, printableLine } from "../../errors.js";
 import { parseList } from "../../batch/plan.js";
 import { parseQueueUrl, QUEUE_DEFAULTS, startQueueWorker } from "../../batch/queue.js";
 import { action, intOption, type CliContext } from "../context.js";
@@ -28,7 +28,7 @@ export function registerWorker(program: Command, ctx: CliContext): void {
         const target = parseQueueUrl(opts.queue);
         const concurrency = intOption(opts.concurrency, "--concurrency", { def: availableParallelism() });
         const log = (line: string) => {
-          if (!opts.quiet) ctx.io.err(`${new Date().toISOString()} ${line}\n`);
+          if (!opts.quiet) ctx.io.err(`${new Date().toISOString()} ${printableLine(line)}\n`);
         };
         const allowModules = opts.allowModules === undefined ? [] : parseList(opts.allowModules, "--allow-modules");
         for (const dir of allowModules) {
