@@ -242,3 +242,20 @@ describe("control and direction characters in names (defect 25)", () => {
     );
   });
 });
+
+describe("deeply nested values (long fuzz run, case 8190 of seed 1)", () => {
+  // The search for the reserved key once copied the JSON path at every level: 100,000 nested arrays
+  // beside a \u escape took minutes. Now it is linear; the file is refused by the schema, one line.
+  it("100,000 nested arrays next to a \\u escape are refused with one line, not searched quadratically", async () => {
+    const d = chainDoc();
+    const raw = JSON.stringify({ ...d, name: "ch\\u0061in", extra: "__DEEP__" }).replace('"__DEEP__"', "[".repeat(100_000) + "1" + "]".repeat(100_000));
+    const r = await cli("solve", "--env", write(null, raw));
+    expectOneLine(r);
+  });
+
+  it("the reserved key is still found at depth, with its JSON path", async () => {
+    const raw = JSON.stringify({ ...chainDoc(), extra: "__DEEP__" }).replace('"__DEEP__"', "[".repeat(3) + '{"a":{"__proto__":1}}' + "]".repeat(3));
+    const r = await cli("solve", "--env", write(null, raw));
+    expectOneLine(r, /\$\.extra\[0\]\[0\]\[0\]\.a\.__proto__.*reserved/);
+  });
+});

@@ -272,18 +272,29 @@ export function parseJsonText(text: string, where: string, ns: Namespace): unkno
 /** A name that may not be used for anything a file names (it would reach an object's prototype). */
 export const RESERVED_KEY = "__proto__";
 
-/** JSON path of the first own key `key` in a parsed JSON value (iterative: no stack limit), or null. */
+/**
+ * JSON path of the first own key `key` in a parsed JSON value, or null. Iterative (no stack limit) and
+ * linear in the size of the value however deep it nests: each entry points at its parent, and the path
+ * is spelled out only for the key found (copying the path at every level was quadratic in the depth).
+ */
 function findKey(root: unknown, key: string): Path | null {
-  const stack: { v: unknown; path: Path }[] = [{ v: root, path: [] }];
+  interface Entry { v: unknown; step: string | number | null; parent: Entry | null }
+  const pathOf = (e: Entry | null, last: string): Path => {
+    const path: (string | number)[] = [last];
+    for (let at = e; at !== null && at.step !== null; at = at.parent) path.push(at.step);
+    return path.reverse();
+  };
+  const stack: Entry[] = [{ v: root, step: null, parent: null }];
   while (stack.length > 0) {
-    const { v, path } = stack.pop()!;
+    const e = stack.pop()!;
+    const v = e.v;
     if (v === null || typeof v !== "object") continue;
     if (Array.isArray(v)) {
-      for (let i = v.length - 1; i >= 0; i--) if (v[i] !== null && typeof v[i] === "object") stack.push({ v: v[i], path: [...path, i] });
+      for (let i = v.length - 1; i >= 0; i--) if (v[i] !== null && typeof v[i] === "object") stack.push({ v: v[i], step: i, parent: e });
       continue;
     }
-    if (Object.hasOwn(v, key)) return [...path, key];
-    for (const [k, x] of Object.entries(v)) if (x !== null && typeof x === "object") stack.push({ v: x, path: [...path, k] });
+    if (Object.hasOwn(v, key)) return pathOf(e, key);
+    for (const [k, x] of Object.entries(v)) if (x !== null && typeof x === "object") stack.push({ v: x, step: k, parent: e });
   }
   return null;
 }
