@@ -3,7 +3,8 @@ import type { Rng } from "../rng/rng.js";
 import { createRng } from "../rng/rng.js";
 import { type EnvDefinition, type StepResult } from "../sim/define.js";
 import { canonicalJson } from "../util/canonical-json.js";
-import { Episode, type EpisodeStep } from "../sim/episode.js";
+import { Episode, stateText, type EpisodeStep } from "../sim/episode.js";
+import { checkedStarts, checkedTransitions, checkStepResult, guard } from "../sim/compile.js";
 import type { CheckSubject } from "./subject.js";
 
 /** A property violation: the message is the counterexample's explanation. */
@@ -59,4 +60,30 @@ export function play<S>(subject: CheckSubject<S>, seed: number, actions: readonl
 
 export function describeActions(def: EnvDefinition<unknown>, actions: readonly number[]): string {
   return `[${actions.map((a) => def.actions[a] ?? String(a)).join(", ")}]`;
+}
+
+// The subject's own code called directly (outside the episode wrapper) by a property: every call goes
+// through `guard` (a throw becomes one line naming the call) and every result through the checks the
+// episode wrapper and the compiler make (`checkStepResult`), so a Promise, a missing state or a getter
+// that throws ends the check with one clear line instead of a confusing counterexample.
+
+/** `step(state, a)` of the subject, checked. */
+export function stepChecked<S>(sub: CheckSubject<S>, state: S, a: number, rng: Rng): { state: S; features: Record<string, number>; intent?: number; terminated: boolean } {
+  const what = `step(${stateText(sub.def as EnvDefinition<unknown>, state)}, ${sub.def.actions[a]})`;
+  return checkStepResult<S>(sub.source, what, guard(sub.source, what, () => sub.def.step(state, a, rng)));
+}
+
+/** `reset()` of the subject through `guard`. */
+export function resetChecked<S>(sub: CheckSubject<S>, rng: Rng): S {
+  return guard(sub.source, "reset()", () => sub.def.reset(rng));
+}
+
+/** `starts()` of the subject, checked (the subject must have one). */
+export function startsChecked<S>(sub: CheckSubject<S>): { state: S; p: number }[] {
+  return checkedStarts(sub.def, sub.source);
+}
+
+/** `transitions(state, a)` of the subject, checked (the subject must have one). */
+export function transitionsChecked<S>(sub: CheckSubject<S>, state: S, a: number) {
+  return checkedTransitions(sub.def, state, a, sub.source, stateText(sub.def as EnvDefinition<unknown>, state));
 }

@@ -58,18 +58,38 @@ export function checkStepResult<S>(source: string, what: string, r: unknown): { 
   });
 }
 
+/**
+ * A module's `transitions(state, a)` called through `guard`, each outcome through `checkStepResult`:
+ * a non-empty array of plain outcomes, each with p in (0, 1]. `label` names the state in messages.
+ */
+export function checkedTransitions<S>(def: EnvDefinition<S>, state: S, a: number, source: string, label: string): Outcome<S>[] {
+  const call = `transitions(${label}, ${def.actions[a]})`;
+  const outs = guard(source, call, () => def.transitions!(state, a));
+  if (!Array.isArray(outs) || outs.length === 0) throw new InputError("module.transitions", `${call} returned no outcomes`, source);
+  return outs.map((o, i) => {
+    const c = checkStepResult<S>(source, `${call} outcome ${i}`, o);
+    if (typeof c.p !== "number" || !(c.p > 0 && c.p <= 1)) throw new InputError("module.transitions", `${call} outcome ${i} has probability ${String(c.p).slice(0, 40)}; each p must be in (0, 1]`, source);
+    return { ...c, p: c.p };
+  });
+}
+
+/** A module's `starts()` through `guard`: an array of { state, p } with p a finite number. */
+export function checkedStarts<S>(def: EnvDefinition<S>, source: string): { state: S; p: number }[] {
+  return guard(source, "starts()", () => {
+    const list = def.starts!();
+    if (!Array.isArray(list)) throw new InputError("module.result", `starts() returned ${list === null ? "null" : typeof list}; it must return an array of { state, p }`, source);
+    return list.map((x, i) => {
+      if (!x || typeof x !== "object") throw new InputError("module.result", `starts() item ${i} is not an object { state, p }`, source);
+      const { state, p } = x as { state: S; p: unknown };
+      if (typeof p !== "number" || !Number.isFinite(p)) throw new InputError("module.result", `starts() item ${i} has p = ${String(p).slice(0, 40)}; it must be a finite number`, source);
+      return { state, p };
+    });
+  });
+}
+
 function outcomesOf<S>(def: EnvDefinition<S>, state: S, a: number, source: string, label: string): Outcome<S>[] {
   const what = `step(${label}, ${def.actions[a]})`;
-  if (def.transitions) {
-    const call = `transitions(${label}, ${def.actions[a]})`;
-    const outs = guard(source, call, () => def.transitions!(state, a));
-    if (!Array.isArray(outs) || outs.length === 0) throw new InputError("module.transitions", `${call} returned no outcomes`, source);
-    return outs.map((o, i) => {
-      const c = checkStepResult<S>(source, `${call} outcome ${i}`, o);
-      if (typeof c.p !== "number" || !(c.p > 0 && c.p <= 1)) throw new InputError("module.transitions", `${call} outcome ${i} has probability ${String(c.p).slice(0, 40)}; each p must be in (0, 1]`, source);
-      return { ...c, p: c.p };
-    });
-  }
+  if (def.transitions) return checkedTransitions(def, state, a, source, label);
   // Deterministic module: two probes with different seeds must agree.
   const r1 = checkStepResult<S>(source, what, guard(source, what, () => def.step(state, a, createRng("probe-1"))));
   const r2 = checkStepResult<S>(source, what, guard(source, what, () => def.step(state, a, createRng("probe-2"))));

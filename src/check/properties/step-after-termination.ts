@@ -1,5 +1,6 @@
 import { InputError } from "../../errors.js";
 import { createRng } from "../../rng/rng.js";
+import { checkStepResult } from "../../sim/compile.js";
 import { play, Violation } from "../drive.js";
 import { type PropertySpec, trajArb, runFc, stepCapOf, text } from "../harness.js";
 
@@ -26,12 +27,14 @@ export const stepAfterTermination: PropertySpec = {
       const last = t.steps[t.steps.length - 1];
       if (!last || !last.terminated) return;
       for (let a = 0; a < sub.def.actions.length; a++) {
-        let r;
+        let raw: unknown;
         try {
-          r = sub.def.step(last.state, a, createRng(`after/${seed}`));
+          raw = sub.def.step(last.state, a, createRng(`after/${seed}`));
         } catch {
           continue; // refused: fine
         }
+        // Accepted: what it returned must be a step result like any other (checked as the episode wrapper does).
+        const r = checkStepResult(sub.source, `step(${text(sub, last.state)}, ${sub.def.actions[a]}) after termination`, raw);
         if (r.terminated !== true) {
           throw new Violation(
             `the episode terminated at step ${last.t} in ${text(sub, last.state)}, but step(${text(sub, last.state)}, ${sub.def.actions[a]}) returned terminated=false (next ${text(sub, r.state)}): a terminal state must refuse (throw) or stay terminal`,

@@ -1,5 +1,5 @@
 import { createRng } from "../../rng/rng.js";
-import { outcomeKey, play, stateKey, Violation } from "../drive.js";
+import { outcomeKey, play, resetChecked, startsChecked, stateKey, stepChecked, transitionsChecked, Violation } from "../drive.js";
 import { groups, modelIsDeterministic, type PropertySpec, trajArb, runFc, text } from "../harness.js";
 
 /** stochastic-variety: chance of a false alarm per tested pair is at most this. */
@@ -32,24 +32,24 @@ export const stochasticVariety: PropertySpec = {
         if (def.starts && !startsDone) {
           startsDone = true;
           const g = new Map<string, number>();
-          for (const st of def.starts()) g.set(stateKey(def, st.state), (g.get(stateKey(def, st.state)) ?? 0) + st.p);
+          for (const st of startsChecked(sub)) g.set(stateKey(def, st.state), (g.get(stateKey(def, st.state)) ?? 0) + st.p);
           if (g.size > 1) {
             tested++;
             const n = drawsFor(Math.max(...g.values()));
             const seen = new Set<string>();
-            for (let i = 0; i < n && seen.size < 2; i++) seen.add(stateKey(def, def.reset(createRng(`variety/${seed}/reset/${i}`))));
+            for (let i = 0; i < n && seen.size < 2; i++) seen.add(stateKey(def, resetChecked(sub, createRng(`variety/${seed}/reset/${i}`))));
             if (seen.size < 2) throw new Violation(`starts() lists ${g.size} start states but reset() gave ${[...seen][0]} for all ${n} seeds`);
           }
         }
         if (!def.transitions) return;
         const t = play(sub, seed, actions);
         for (const st of t.steps) {
-          const g = groups(sub, def.transitions(st.from, st.action));
+          const g = groups(sub, transitionsChecked(sub, st.from, st.action));
           if (g.size < 2) continue;
           tested++;
           const n = drawsFor(Math.max(...g.values()));
           const seen = new Set<string>();
-          for (let i = 0; i < n && seen.size < 2; i++) seen.add(outcomeKey(def, def.step(st.from, st.action, createRng(`variety/${seed}/${i}`))));
+          for (let i = 0; i < n && seen.size < 2; i++) seen.add(outcomeKey(def, stepChecked(sub, st.from, st.action, createRng(`variety/${seed}/${i}`))));
           if (seen.size < 2) {
             throw new Violation(`transitions(${text(sub, st.from)}, ${def.actions[st.action]}) lists ${g.size} distinct outcomes but step() gave the same result for all ${n} seeds: ${[...seen][0]}`);
           }

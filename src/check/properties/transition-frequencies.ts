@@ -1,7 +1,7 @@
 import fc from "fast-check";
 import { createRng } from "../../rng/rng.js";
 import { chiSquareTest } from "../chisq.js";
-import { outcomeKey, play, stateKey, Violation } from "../drive.js";
+import { outcomeKey, play, resetChecked, startsChecked, stateKey, stepChecked, transitionsChecked, Violation } from "../drive.js";
 import { groups, modelIsDeterministic, type PropertySpec, actionsArb, runFc, failedStatic, text } from "../harness.js";
 
 /** Family-wise significance of the transition-frequency test (Bonferroni over the tested pairs). */
@@ -54,12 +54,12 @@ export const transitionFrequencies: PropertySpec = {
     let tested = 0;
     if (def.starts) {
       const listed = new Map<string, number>();
-      for (const st of def.starts()) listed.set(stateKey(def, st.state), (listed.get(stateKey(def, st.state)) ?? 0) + st.p);
+      for (const st of startsChecked(sub)) listed.set(stateKey(def, st.state), (listed.get(stateKey(def, st.state)) ?? 0) + st.p);
       if (listed.size > 1) {
         tested++;
         const rng = createRng(`frequencies/${ctx.seed}/reset`);
         try {
-          frequencyTest("reset()", listed, () => stateKey(def, def.reset(rng)), alpha);
+          frequencyTest("reset()", listed, () => stateKey(def, resetChecked(sub, rng)), alpha);
         } catch (e) {
           if (e instanceof Violation) return failedStatic(name, { seed: ctx.seed, reset: true }, e.message);
           throw e;
@@ -75,12 +75,12 @@ export const transitionFrequencies: PropertySpec = {
       ({ seed, actions, pick }) => {
         if (!def.transitions) return;
         const t = play(sub, seed, actions);
-        const pairs = t.steps.map((st) => ({ st, g: groups(sub, def.transitions!(st.from, st.action)) })).filter((x) => x.g.size > 1);
+        const pairs = t.steps.map((st) => ({ st, g: groups(sub, transitionsChecked(sub, st.from, st.action)) })).filter((x) => x.g.size > 1);
         if (pairs.length === 0) return;
         const { st, g } = pairs[pick % pairs.length];
         tested++;
         const rng = createRng(`frequencies/${seed}/${pick}`);
-        frequencyTest(`step(${text(sub, st.from)}, ${def.actions[st.action]})`, g, () => outcomeKey(def, def.step(st.from, st.action, rng)), alpha);
+        frequencyTest(`step(${text(sub, st.from)}, ${def.actions[st.action]})`, g, () => outcomeKey(def, stepChecked(sub, st.from, st.action, rng)), alpha);
       },
       {
         skip: () => (tested === 0 ? `no stochastic step reached in ${ctx.runs} runs` : undefined),
