@@ -10,7 +10,7 @@
  * the same statistics: a run depends only on its config, and the aggregation only on the runs.
  */
 import { existsSync, mkdirSync } from "node:fs";
-import { join, resolve } from "node:path";
+import { basename, join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { canonicalJson } from "../util/canonical-json.js";
 import { COMPARISON_FILE, openIndex } from "../store/index-db.js";
@@ -25,7 +25,7 @@ import { planSweep, sha256, type SweepSpec } from "./plan.js";
 import { defaultWorkers, PoolError, WorkerPool, type PoolRunOptions } from "./pool.js";
 import { parseQueueUrl, runOnQueue } from "./queue.js";
 import type { BatchJob, BatchProgress, RunOutcome } from "./types.js";
-import { isModuleSpec } from "../env/index.js";
+import { isModuleSpec, moduleVariantNames, unknownVariant } from "../env/index.js";
 
 export interface CompareConfig extends SweepSpec {
   runsDir: string;
@@ -179,10 +179,16 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   // Every variant, learner and file resolved before the first run: a misspelt name stops the sweep
   // at once instead of failing its own runs while the rest train. A simulator module is user code that
   // may hang while it compiles, which only a run's thread (with --run-timeout) can stop: for modules
-  // only the learners and the files are checked here, and the variants by the runs themselves.
+  // the definition is imported (not compiled) for its variant names, and the files are checked.
   if (isModuleSpec(cfg.env)) {
     if (!existsSync(resolve(cfg.env))) throw new InputError("env.notFound", "simulator module not found", cfg.env);
-    for (const r of cfg.rewards) if (/\.json$/i.test(r) && !existsSync(resolve(r))) throw new InputError("reward.notFound", "reward file not found", r);
+    const names = await moduleVariantNames(cfg.env);
+    const moduleName = basename(cfg.env);
+    for (const r of cfg.rewards) {
+      if (/\.json$/i.test(r)) {
+        if (!existsSync(resolve(r))) throw new InputError("reward.notFound", "reward file not found", r);
+      } else if (!names.includes(r)) throw unknownVariant(r, moduleName, names);
+    }
   } else {
     const checked = new Set<string>();
     for (const job of jobs) {

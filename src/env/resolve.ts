@@ -13,9 +13,9 @@ import { loadModelFile } from "../model/format/model-file.js";
 import { logger } from "../util/log.js";
 import { parseRewardFile } from "../model/format/reward-file.js";
 import { checkVariant, defaultVariantName } from "../model/reward.js";
-import { clip } from "../model/format/json-errors.js";
+import { clip, didYouMean } from "../model/format/json-errors.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { loadSimulator } from "../sim/load.js";
+import { importModule, loadSimulator, validateDefinition } from "../sim/load.js";
 import { builtinScenarioNames, loadScenario } from "./scenarios.js";
 import type { EnvLoadOptions, FiniteEnv, LoadedEnv, ModuleEnv } from "./types.js";
 import { ownValue } from "../util/own.js";
@@ -99,12 +99,26 @@ export function resolveReward(model: FiniteModel, spec?: string): RewardVariant 
     checkVariant(model, variant);
     return variant;
   }
-  const names = Object.keys(known);
-  throw new InputError(
+  throw unknownVariant(spec, model.name, Object.keys(known));
+}
+
+/** The one line for a reward name that is neither a variant of the environment nor a file: with a did-you-mean. */
+export function unknownVariant(spec: string, envName: string, names: readonly string[]): InputError {
+  const near = didYouMean(spec, names);
+  return new InputError(
     "reward.unknown",
-    `unknown reward variant "${spec}" for ${model.name}; known: ${names.length ? names.join(", ") : "none"}; or pass a path to a reward file`,
+    `unknown reward variant "${clip(spec)}" for ${envName}${near ? `; did you mean "${near}"?` : ""}; known: ${names.length ? names.join(", ") : "none"}; or pass a path to a reward file`,
     "--reward",
   );
+}
+
+/**
+ * The reward variant names a simulator module defines (`rewards` of its definition), read by importing
+ * the module without enumerating its states (compiling may not end for a large module).
+ */
+export async function moduleVariantNames(file: string): Promise<string[]> {
+  const def = validateDefinition(await importModule(resolve(file)), file);
+  return Object.keys(def.rewards ?? {});
 }
 
 /** The finite model of a loaded environment, or a clear error for commands that need one. */

@@ -104,10 +104,16 @@ describe("queue faults", () => {
     const runsDir = fresh("misspelt");
     const r = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "default,fsat", "--seeds", "2", "--runs-dir", runsDir, "--workers", "1");
     expect(r.code).toBe(2);
-    expect(r.err).toContain("fsat");
+    expect(r.err).toContain('unknown reward variant "fsat" for fresh-coat-tug; did you mean "fast"?');
     expect(r.err.trim().split("\n")).toHaveLength(1);
-    const { readdirSync } = await import("node:fs");
-    expect(readdirSync(runsDir).filter((n) => n.startsWith("greenhouse"))).toEqual([]);
+    const { existsSync, readdirSync } = await import("node:fs");
+    expect(existsSync(runsDir) ? readdirSync(runsDir).filter((n) => n.startsWith("fresh-coat-tug")) : []).toEqual([]);
+    // A simulator module: its variant names are read from the definition (not compiled) before any run.
+    const m = await cli("compare", "--env", "tests/fixtures/envs/corridor-ok.ts", "--rewards", "default,defualt", "--seeds", "2", "--runs-dir", runsDir, "--workers", "1");
+    expect(m.code, m.err).toBe(2);
+    expect(m.err.trim().split("\n")).toHaveLength(1);
+    expect(m.err).toContain('unknown reward variant "defualt" for corridor-ok.ts; did you mean "default"?');
+    expect(existsSync(runsDir) ? readdirSync(runsDir).filter((n) => n.startsWith("corridor")) : []).toEqual([]);
     const s = await cli("compare", "--env", "fresh-coat-tug", "--rewards", "default", "--seeds", "1000000000", "--runs-dir", runsDir);
     expect(s.code).toBe(2);
     expect(s.err).toContain("--seeds");
