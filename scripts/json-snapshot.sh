@@ -27,6 +27,6 @@ for env in seed-vault-courier fresh-coat-tug quench-hall-run assay-carousel; do
   $CLI export --env "$env" > "$OUT/export-$env.json"
   run "check-$env" check --env "$env" --json
 done
-run compare-greenhouse compare --env fresh-coat-tug --rewards fast,default --seeds 3 --runs-dir "$RUNS" --json
+run compare-fresh-coat-tug compare --env fresh-coat-tug --rewards fast,default --seeds 3 --runs-dir "$RUNS" --json
 run demo demo --runs-dir "$RUNS" --json
 run runs runs --runs-dir "$RUNS" --json

@@ -65,7 +65,7 @@ describe("gapwatch audit", () => {
   it("audits a model file exported from a scenario", async () => {
     const m = loadScenario("fresh-coat-tug").model;
     const dir = mkdtempSync(join(tmpdir(), "gapwatch-cli-audit-"));
-    const file = join(dir, "greenhouse.json");
+    const file = join(dir, "fresh-coat-tug.json");
     writeFileSync(file, formatModelDocument(exportModel(m)));
     const r = await cli(["audit", "--env", file, "--reward", "fast", "--fail-on", "critical", "--json"]);
     expect(r.code).toBe(3);
