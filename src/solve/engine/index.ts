@@ -1,6 +1,6 @@
 /**
  * The component-wise solving engine: same answers as the textbook solvers of dp.ts (within a proven
- * accuracy), less work. Not yet the default of any command.
+ * accuracy), less work. The default exact solver of every command through ../default-solver.ts.
  */
 export { evaluatePolicyEngine, evaluatePolicyEngineMany } from "./evaluate.js";
 export { planValueIteration, solveValuesEngine, valueIterationEngine, type EngineSolution, type ValuePlan } from "./value-iteration.js";
