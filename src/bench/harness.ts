@@ -168,15 +168,15 @@ export function printTable(r: WorkloadResult): void {
   out(`## ${r.title}`);
   const head =
     w.kind === "vi"
-      ? [pad("impl", 13), lpad("runs", 4), lpad("solve_s", 9), lpad("[min..max]", 19), lpad("ms/sweep", 9), lpad("cells/s", 8), lpad("vs C", 7), lpad("vs numpy", 9), lpad("wall_s", 8), "  checksum"]
-      : [pad("impl", 13), lpad("runs", 4), lpad("train_s", 9), lpad("[min..max]", 19), lpad("steps/s", 9), lpad("speed/C", 8), lpad("vs C", 7), lpad("", 9), lpad("wall_s", 8), "  checksum"];
+      ? [pad("impl", 15), lpad("runs", 4), lpad("solve_s", 9), lpad("[min..max]", 19), lpad("ms/sweep", 9), lpad("cells/s", 8), lpad("vs C", 7), lpad("vs numpy", 9), lpad("wall_s", 8), "  checksum"]
+      : [pad("impl", 15), lpad("runs", 4), lpad("train_s", 9), lpad("[min..max]", 19), lpad("steps/s", 9), lpad("speed/C", 8), lpad("vs C", 7), lpad("", 9), lpad("wall_s", 8), "  checksum"];
   out(head.join(" "));
   for (const row of r.rows) {
     const range = `[${fmtSec(row.min)}..${fmtSec(row.max)}]`;
     const cells =
       w.kind === "vi"
         ? [
-            pad(row.impl, 13),
+            pad(row.impl, 15),
             lpad(String(row.runs), 4),
             lpad(fmtSec(row.seconds), 9),
             lpad(range, 19),
@@ -186,7 +186,7 @@ export function printTable(r: WorkloadResult): void {
             lpad(fmtRatio(row.vsNumpy), 9),
           ]
         : [
-            pad(row.impl, 13),
+            pad(row.impl, 15),
             lpad(String(row.runs), 4),
             lpad(fmtSec(row.seconds), 9),
             lpad(range, 19),
