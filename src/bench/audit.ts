@@ -9,7 +9,7 @@ import { runAudit } from "../audit/run.js";
 import { builtinScenarioNames, loadScenario, resolveReward } from "../env/index.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { optimalSolution } from "../solve/exact.js";
+import { optimalSolution } from "../solve/default-solver.js";
 import { valueIteration } from "../solve/value-iteration.js";
 import { median } from "./harness.js";
 import { LAVA_VARIANT, lavaModel } from "./lava.js";
