@@ -2,9 +2,13 @@
  * Benchmark entry "audit": the static audit (src/audit/run.ts) of the largest built-in scenario and of
  * the 256x256 lava field (lava.ts), each timed next to plain value iteration of the same model's
  * designer reward. In-process, no peers; times are medians over the runs. The 256x256 audit skips the
- * weight-sensitivity check (tens of exact solves per feature; timed separately on the scenario).
+ * weight-sensitivity check (one policy evaluation per breakpoint crossed; timed separately). Then
+ * the weight-sensitivity check alone (weightIntervals, parametric, all swept features) on both
+ * models, against the targets 0.2 s (largest built-in) and 10 s (256x256 lava field).
  * Reported, never enforced.
  */
+import { prepareAudit } from "../audit/context.js";
+import { weightIntervals } from "../audit/checks/sensitivity.js";
 import { runAudit } from "../audit/run.js";
 import { builtinScenarioNames, loadScenario, resolveReward } from "../env/index.js";
 import { designerReward } from "../model/reward.js";
@@ -45,6 +49,22 @@ export function timeAudit(name: string, model: FiniteModel, variant: RewardVaria
   return { name, states: model.nStates, sensitivity, viSeconds: median(vi), auditSeconds: median(au), critical, findings };
 }
 
+export interface SensitivityTiming {
+  name: string;
+  features: number;
+  evaluations: number;
+  seconds: number;
+}
+
+/** weightIntervals (all swept features) on a prepared context; the preparation is not timed. */
+export function timeSensitivity(name: string, model: FiniteModel, variant: RewardVariant): SensitivityTiming {
+  const ctx = prepareAudit(model, variant);
+  const t = now();
+  const rows = weightIntervals(ctx);
+  const seconds = now() - t;
+  return { name, features: rows.length, evaluations: rows.reduce((acc, r) => acc + r.probes, 0), seconds };
+}
+
 /** The largest built-in scenario by state count, with its first gaming-prone variant (default variant otherwise). */
 export function largestScenario(): { name: string; model: FiniteModel; variant: RewardVariant } {
   let best: { name: string; model: FiniteModel } | null = null;
@@ -66,14 +86,21 @@ export function runAuditBench(opts: { quick: boolean; runs: number }): { lines: 
   const n = opts.quick ? 64 : 256;
   const lava = lavaModel(n, n);
   rows.push(timeAudit(`lava ${n}x${n}`, lava.model, LAVA_VARIANT, opts.quick ? 1 : 1, false));
+  const sens = [timeSensitivity(`${big.name}/${big.variant.name}`, big.model, big.variant), timeSensitivity(`lava ${n}x${n}`, lava.model, LAVA_VARIANT)];
   const lines = [
     "model                              states  sensitivity      vi_s   audit_s  audit/vi  critical/findings",
     ...rows.map(
       (r) =>
         `${r.name.padEnd(34)} ${String(r.states).padStart(6)}  ${(r.sensitivity ? "yes" : "no").padEnd(11)} ${r.viSeconds.toFixed(3).padStart(9)} ${r.auditSeconds.toFixed(3).padStart(9)} ${(r.auditSeconds / r.viSeconds).toFixed(1).padStart(9)}  ${r.critical}/${r.findings}`,
     ),
+    "",
+    "weight sensitivity (parametric)    features  evaluations  seconds",
+    ...sens.map((r) => `${r.name.padEnd(34)} ${String(r.features).padStart(8)}  ${String(r.evaluations).padStart(11)}  ${r.seconds.toFixed(3).padStart(7)}`),
   ];
-  const summary = rows.map((r) => `audit ${r.name}${r.sensitivity ? "" : " (no sensitivity)"}: ${r.auditSeconds.toFixed(2)} s vs value iteration ${r.viSeconds.toFixed(3)} s`);
+  const summary = [
+    ...rows.map((r) => `audit ${r.name}${r.sensitivity ? "" : " (no sensitivity)"}: ${r.auditSeconds.toFixed(2)} s vs value iteration ${r.viSeconds.toFixed(3)} s`),
+    ...sens.map((r) => `weight sensitivity ${r.name}: ${r.seconds.toFixed(2)} s (${r.features} features, ${r.evaluations} policy evaluations)`),
+  ];
   return { lines, summary };
 }
 
