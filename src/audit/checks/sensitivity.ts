@@ -172,7 +172,9 @@ export function weightIntervals(ctx: AuditContext, features?: string[]): WeightI
         if (reachesOnlyOk(model, pi, okAction, buf) !== ok0) return w0 + te;
         t = te;
       }
-      return w0 + t;
+      // Cap reached (not seen on the built-ins): conservative answers, the last breakpoint crossed as
+      // the edge of an ok interval, no fix claimed otherwise.
+      return ok0 ? w0 + t : dir * Infinity;
     };
     out.push(intervalRow(feature, w0, ok0, edge(-1), edge(1), probes));
   }
