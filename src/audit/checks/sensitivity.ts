@@ -20,8 +20,14 @@
  * lexicographically: first Q(t_e), then dir * qf (the slope), then the lower action index (a
  * 1-sensitive comparison; it converges to the policy that is optimal on (t_e, t_e + delta) for some
  * delta > 0). The walk goes from policy to policy until the intent answer differs from the one at w0,
- * or the edge is beyond SEARCH_SPAN * scale (reported as +-Infinity). Each step costs two or three
- * evaluations (of two rewards each), so the cost is the number of breakpoints crossed, not a grid.
+ * or the edge is beyond SEARCH_SPAN * scale (reported as +-Infinity).
+ *
+ * Cost (parametric-walk.ts): V0 and the improvement at w0 do not depend on the feature and are computed
+ * once; each feature adds one evaluation of Vf (none for a feature that is 0 on every reachable
+ * outcome: no edge, the interval is unbounded). A breakpoint changes the action of a few states; only
+ * the states that reach them under the new policy change value, so only those are re-solved (engine
+ * `evaluateOnStates`, the rest held) and only the action values leading into them recomputed. The cost
+ * is the breakpoints crossed times the size of their upstream sets, not a grid nor a full solve each.
  *
  * Which states: the inequalities are imposed, and policies improved, on the non-terminal states
  * reachable from the start distribution under any actions (ctx.reachable). That set is closed under
@@ -49,134 +55,56 @@
 import type { AuditContext } from "../context.js";
 import { fmt } from "../context.js";
 import type { Finding } from "../findings.js";
-import { evaluatePolicyEngineMany } from "../../solve/engine/index.js";
-import { deterministicPolicy } from "../../solve/policy.js";
 import { expectedReward } from "../../solve/sweeps.js";
+import { ParametricWalk, type WalkState } from "./parametric-walk.js";
 import { weightIntervalsBisection } from "./sensitivity-bisection.js";
 import { currentWeight, featureColumn, intentOkActions, intervalRow, reachesOnlyOk, SEARCH_SPAN, sweptFeatures, walkBuffers, type WeightInterval, weightScale } from "./sensitivity-common.js";
 
 export type { WeightInterval } from "./sensitivity-common.js";
 
-/** Accuracy of the policy evaluations (max-norm, proven by the engine). */
-const EVAL_ACCURACY = 1e-12;
-/** Relative tolerance of a tie between two action values (or slopes). */
-const TIE = 1e-9;
-/** Cap on policy-iteration rounds at one point and on breakpoints crossed per direction. */
-const MAX_ROUNDS = 200;
+/** Cap on breakpoints crossed per direction. */
 const MAX_BREAKS = 100_000;
-
-interface Evaluated {
-  v0: Float64Array;
-  vf: Float64Array;
-}
 
 export function weightIntervals(ctx: AuditContext, features?: string[]): WeightInterval[] {
   if (!(ctx.gamma < 1)) return weightIntervalsBisection(ctx, features);
-  const { model, gamma } = ctx;
-  const nS = model.nStates;
-  const nA = model.nActions;
-  const { saStart, next, prob, terminal } = model;
+  const { model } = ctx;
   const okAction = intentOkActions(ctx);
   const { list, maxW } = sweptFeatures(ctx, features);
-  const rBase = expectedReward(model, ctx.rd);
-  const liveList: number[] = [];
-  for (let s = 0; s < nS; s++) if (ctx.reachable[s] && !terminal[s]) liveList.push(s);
-  const live = Int32Array.from(liveList);
-  const q0 = new Float64Array(nS * nA);
-  const qf = new Float64Array(nS * nA);
-  const buf = walkBuffers(nS);
+  const walk = new ParametricWalk(model, ctx.reachable, expectedReward(model, ctx.rd), ctx.gamma);
+  // The policy at w0 (greedy, lowest index on ties) and its V0: the same for every feature.
+  const base = walk.start(ctx.solve.designerOptimal.policy);
+  const ok0 = reachesOnlyOk(model, base.pi, okAction, walkBuffers(model.nStates));
+  const buf = walkBuffers(model.nStates);
   const out: WeightInterval[] = [];
   for (const feature of list) {
     const f = model.features.indexOf(feature);
     if (f < 0) continue;
-    const phi = featureColumn(model, f);
-    const fexp = expectedReward(model, phi);
     const w0 = currentWeight(ctx, feature);
+    const fexp = expectedReward(model, featureColumn(model, f));
+    if (!walk.moves(fexp)) {
+      // Every reachable action value is flat in this weight: no breakpoint anywhere.
+      out.push(intervalRow(feature, w0, ok0, -Infinity, Infinity, 0));
+      continue;
+    }
     const span = SEARCH_SPAN * weightScale(w0, maxW);
-    let probes = 0;
-    // V0, Vf of pi and the action values q0, qf of every live pair.
-    const evaluate = (pi: Int32Array): Evaluated => {
-      probes++;
-      const [e0, ef] = evaluatePolicyEngineMany(model, [ctx.rd, phi], deterministicPolicy(model, pi), { gamma, accuracy: EVAL_ACCURACY });
-      const v0 = e0.values;
-      const vf = ef.values;
-      for (let i = 0; i < live.length; i++) {
-        const s = live[i];
-        for (let k = s * nA; k < (s + 1) * nA; k++) {
-          let a0 = 0;
-          let af = 0;
-          for (let o = saStart[k]; o < saStart[k + 1]; o++) ((a0 += prob[o] * v0[next[o]]), (af += prob[o] * vf[next[o]]));
-          q0[k] = rBase[k] + gamma * a0;
-          qf[k] = fexp[k] + gamma * af;
-        }
-      }
-      return { v0, vf };
-    };
-    // One improvement step at t, comparing (Q(t), dir * slope, -index); true if pi changed.
-    const improve = (pi: Int32Array, ev: Evaluated, t: number, dir: number): boolean => {
-      let changed = false;
-      for (let i = 0; i < live.length; i++) {
-        const s = live[i];
-        const base = s * nA;
-        const tolV = TIE * (1 + Math.abs(ev.v0[s] + t * ev.vf[s]));
-        const tolM = TIE * (1 + Math.abs(ev.vf[s]));
-        let b = pi[s];
-        for (let a = 0; a < nA; a++) {
-          if (a === b) continue;
-          const dv = q0[base + a] - q0[base + b] + t * (qf[base + a] - qf[base + b]);
-          if (dv < -tolV) continue;
-          if (dv <= tolV) {
-            const dm = dir * (qf[base + a] - qf[base + b]);
-            if (dm < -tolM) continue;
-            if (dm <= tolM && a > b) continue;
-          }
-          b = a;
-        }
-        if (b !== pi[s]) ((pi[s] = b), (changed = true));
-      }
-      return changed;
-    };
-    // Policy iteration at t (from pi, in place, whose evaluation ev is current) to the policy optimal at t + dir * 0.
-    const solveAt = (pi: Int32Array, ev: Evaluated, t: number, dir: number): Evaluated => {
-      for (let round = 0; round < MAX_ROUNDS && improve(pi, ev, t, dir); round++) ev = evaluate(pi);
-      return ev;
-    };
-    // The nearest t beyond tCur (direction dir) where some action catches up with pi; +-Infinity if none.
-    const nextEdge = (pi: Int32Array, tCur: number, dir: number): number => {
-      let te = dir * Infinity;
-      for (let i = 0; i < live.length; i++) {
-        const s = live[i];
-        const kp = s * nA + pi[s];
-        for (let k = s * nA; k < (s + 1) * nA; k++) {
-          const m = qf[k] - qf[kp];
-          if (dir * m <= TIE * (1 + Math.abs(qf[kp]))) continue;
-          let root = -(q0[k] - q0[kp]) / m;
-          if (dir * (root - tCur) < 0) root = tCur;
-          if (dir * (root - te) < 0) te = root;
-        }
-      }
-      return te;
-    };
-    const pi0 = Int32Array.from(ctx.solve.designerOptimal.policy);
-    const ev0 = solveAt(pi0, evaluate(pi0), 0, 0);
-    const ok0 = reachesOnlyOk(model, pi0, okAction, buf);
+    const atW0 = walk.withFeature(base, fexp);
     const edge = (dir: number): number => {
-      const pi = pi0.slice();
-      let ev = ev0;
-      if (dir > 0) ev = evaluate(pi); // q0, qf were overwritten by the other direction
+      const st: WalkState = walk.copy(atW0);
       let t = 0;
       for (let n = 0; n < MAX_BREAKS; n++) {
-        const te = nextEdge(pi, t, dir);
+        const te = walk.nextEdge(st, t, dir);
         if (!(Math.abs(te) <= span)) return dir * Infinity;
-        ev = solveAt(pi, ev, te, dir);
-        if (reachesOnlyOk(model, pi, okAction, buf) !== ok0) return w0 + te;
+        walk.solveAt(st, te, dir);
+        if (reachesOnlyOk(model, st.pi, okAction, buf) !== ok0) return w0 + te;
         t = te;
       }
       // Cap reached (not seen on the built-ins): conservative answers, the last breakpoint crossed as
       // the edge of an ok interval, no fix claimed otherwise.
       return ok0 ? w0 + t : dir * Infinity;
     };
-    out.push(intervalRow(feature, w0, ok0, edge(-1), edge(1), probes));
+    const down = edge(-1);
+    const up = edge(1);
+    out.push(intervalRow(feature, w0, ok0, down, up, walk.takeEvaluations()));
   }
   return out;
 }
