@@ -162,9 +162,10 @@ function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: Resolv
   let iterative = 0;
   for (let c = 0; c < count; c++) if (compStart[c + 1] - compStart[c] > Math.max(1, o.directMax)) iterative++;
   const dm = Math.max(1, o.directMax);
-  const dense = new Float64Array(dm * dm);
-  const rhs = new Float64Array(dm);
-  const local = new Int32Array(n).fill(-1);
+  // Buffers of the components of more than one state, allocated on first use (all singletons is common).
+  let dense: Float64Array | null = null;
+  let rhs: Float64Array | null = null;
+  let local: Int32Array | null = null;
   const scratch: Scratch = { tau: null, ones: null };
   let converged = true;
   let bound = 0;
@@ -196,8 +197,9 @@ function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: Resolv
         converged = false;
       }
     } else {
+      local ??= new Int32Array(n).fill(-1);
       const part = m <= o.directMax || gamma < 1 ? componentChain(chain, r, gamma, x, members, lo, hi, local) : null;
-      if (part && m <= o.directMax && denseComponent(part, gamma, x, members, lo, dense, rhs)) {
+      if (part && m <= o.directMax && denseComponent(part, gamma, x, members, lo, (dense ??= new Float64Array(dm * dm)), (rhs ??= new Float64Array(dm)))) {
         stats.directSolves++;
         stats.backups += m;
       } else {
