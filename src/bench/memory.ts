@@ -28,6 +28,11 @@ export function heldBytes(): number {
   return m.heapUsed + m.arrayBuffers;
 }
 
+/** Resident set now, in bytes. */
+export function rssBytes(): number {
+  return process.memoryUsage().rss;
+}
+
 /** Peak resident set of this process so far, in bytes (a high-water mark: meaningful when the entry runs alone). */
 export function peakRssBytes(): number {
   return process.resourceUsage().maxRSS * 1024;

@@ -55,7 +55,15 @@ export function optimalSolution(model: FiniteModel, reward: Float64Array, opts: 
   let scale = 0;
   for (let i = 0; i < q.length; i++) if (Math.abs(q[i]) > scale && Number.isFinite(q[i])) scale = Math.abs(q[i]);
   const tieTol = 2 * Math.max(accuracy, res.errorBound) + 1e-14 * scale;
-  return { ...asEvaluation(model, res), policy: greedyActions(model, q, tieTol), q };
+  const policy = greedyActions(model, q, tieTol);
+  // q (8 B per state-action pair) is not held: recomputed from the values on first read.
+  return withLazyQ({ ...asEvaluation(model, res), policy }, () => actionValues(model, reward, res.values, gamma));
+}
+
+/** `sol` with a `q` property computed by `compute` on first read, then kept. */
+function withLazyQ(sol: Omit<Solution, "q">, compute: () => Float64Array): Solution {
+  let q: Float64Array | null = null;
+  return Object.defineProperty(sol, "q", { get: () => (q ??= compute()), enumerable: true, configurable: true }) as Solution;
 }
 
 /** v_pi of `policy` for each reward (one chain and order shared). */
