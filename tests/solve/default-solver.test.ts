@@ -10,11 +10,10 @@
  */
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
-import { ModelBuilder } from "../../src/model/builder.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { optimalSolution, policyValues } from "../../src/solve/default-solver.js";
 import { deterministicPolicy, evaluatePolicy, uniformPolicy, valueIteration } from "../../src/solve/index.js";
-import { properEpisodic, randomMdp } from "../helpers/random-mdp.js";
+import { properEpisodic, randomMdp, rebuildModel } from "../helpers/random-mdp.js";
 
 const TIGHT = 1e-13;
 const ACCEPT = 1e-8;
@@ -25,21 +24,10 @@ const maxDiff = (a: Float64Array, b: Float64Array) => a.reduce((m, x, i) => Math
 /** The same model with every action listed twice (actions nA..2nA-1 copy 0..nA-1): exact ties everywhere. */
 function doubled(model: FiniteModel, reward: Float64Array): { model: FiniteModel; reward: Float64Array } {
   const nA = model.nActions;
-  const names = [...model.actions, ...model.actions.map((a) => `${a}-copy`)];
-  const b = new ModelBuilder({ name: "doubled", nStates: model.nStates, actions: names, features: ["r"], gamma: model.gamma, horizon: 100 });
-  for (let s = 0; s < model.nStates; s++) {
-    if (model.terminal[s]) {
-      b.setTerminal(s);
-      continue;
-    }
-    for (let c = 0; c < 2; c++)
-      for (let a = 0; a < nA; a++) {
-        const k = s * nA + a;
-        for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) b.addOutcome(s, c * nA + a, model.next[o], model.prob[o], [reward[o]]);
-      }
-  }
-  for (let s = 0; s < model.nStates; s++) if (model.start[s] > 0) b.setStart(s, model.start[s]);
-  const m = b.build();
+  const actions = [...model.actions, ...model.actions.map((a) => `${a}-copy`)];
+  const m = rebuildModel(model, { name: "doubled", actions }, (b, s, a, k) => {
+    for (const copy of [a, a + nA]) for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) b.addOutcome(s, copy, model.next[o], model.prob[o], [reward[o]]);
+  });
   return { model: m, reward: Float64Array.from(m.featureValues) };
 }
 
