@@ -116,7 +116,7 @@ export function prepareAudit(model: FiniteModel, variant: RewardVariant, options
   const dPolicy = deterministicPolicy(model, solve.designerOptimal.policy);
   const iPolicy = deterministicPolicy(model, solve.intentOptimal.policy);
   const o = { gamma, tol: 1e-10 };
-  // Exact values by the engine (solve/exact.ts), two rewards per policy chain.
+  // Exact values by the engine (solve/default-solver.ts), two rewards per policy chain.
   const ones = onesPerOutcome(model);
   const [intentOfD, stepsOfD] = policyValuesMany(model, [model.intent, ones], dPolicy, o).map((e) => e.values);
   // Only the per-group regret needs per-state random values (solveVariant has the start value).
