@@ -19,7 +19,7 @@
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { solveVariant, type SolveReport } from "../solve/compare.js";
-import { evaluatePolicy } from "../solve/evaluation.js";
+import { policyValues, policyValuesMany } from "../solve/default-solver.js";
 import { deterministicPolicy, startValue, uniformPolicy } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
 
@@ -101,8 +101,11 @@ export function reachableStates(model: FiniteModel): Uint8Array {
 
 /** Expected discounted number of steps before termination, per state, under `policy`. */
 export function discountedSteps(model: FiniteModel, policy: Policy, gamma: number): Float64Array {
-  const ones = new Float64Array(model.next.length).fill(1);
-  return evaluatePolicy(model, ones, policy, { gamma, tol: 1e-10 }).values;
+  return policyValues(model, onesPerOutcome(model), policy, { gamma, tol: 1e-10 }).values;
+}
+
+function onesPerOutcome(model: FiniteModel): Float64Array {
+  return new Float64Array(model.next.length).fill(1);
 }
 
 export function prepareAudit(model: FiniteModel, variant: RewardVariant, options: AuditOptions = {}): AuditContext {
@@ -113,13 +116,13 @@ export function prepareAudit(model: FiniteModel, variant: RewardVariant, options
   const dPolicy = deterministicPolicy(model, solve.designerOptimal.policy);
   const iPolicy = deterministicPolicy(model, solve.intentOptimal.policy);
   const o = { gamma, tol: 1e-10 };
-  const intentOfD = evaluatePolicy(model, model.intent, dPolicy, o).values;
+  // Exact values by the engine (solve/default-solver.ts), two rewards per policy chain.
+  const ones = onesPerOutcome(model);
+  const [intentOfD, stepsOfD] = policyValuesMany(model, [model.intent, ones], dPolicy, o).map((e) => e.values);
   // Only the per-group regret needs per-state random values (solveVariant has the start value).
   const grouped = model.groups?.some((g, s) => g !== null && g !== undefined && model.start[s] > 0) ?? false;
-  const intentOfRandom = grouped ? evaluatePolicy(model, model.intent, uniformPolicy(model), o).values : new Float64Array(model.nStates);
-  const designerOfI = evaluatePolicy(model, rd, iPolicy, o).values;
-  const stepsOfI = discountedSteps(model, iPolicy, gamma);
-  const stepsOfD = discountedSteps(model, dPolicy, gamma);
+  const intentOfRandom = grouped ? policyValues(model, model.intent, uniformPolicy(model), o).values : new Float64Array(model.nStates);
+  const [designerOfI, stepsOfI] = policyValuesMany(model, [rd, ones], iPolicy, o).map((e) => e.values);
   const steps = startValue(model, stepsOfI);
   const task = {
     designerRate: steps > 0 ? startValue(model, designerOfI) / steps : 0,

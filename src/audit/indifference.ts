@@ -30,7 +30,7 @@
  */
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
-import { evaluatePolicy } from "../solve/evaluation.js";
+import { policyValues, policyValuesMany } from "../solve/default-solver.js";
 import { startValue } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
 
@@ -136,7 +136,7 @@ export function failureProbability(model: FiniteModel, policy: Policy, catastrop
     for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) if (flags[next[o]]) indicator[o] = 1;
   }
   const view: FiniteModel = { ...model, terminal };
-  const h = evaluatePolicy(view, indicator, policy, { gamma: 1, tol }).values;
+  const h = policyValues(view, indicator, policy, { gamma: 1, tol, accuracy: tol }).values;
   for (let s = 0; s < nS; s++) if (flags[s]) h[s] = 1;
   return h;
 }
@@ -157,12 +157,12 @@ export function riskAudit(model: FiniteModel, input: RiskAuditInput): RiskAudit 
   }
   const h = failureProbability(model, input.risky, flags, tol);
   const hSafe = failureProbability(model, input.safe, flags, tol);
-  const V = evaluatePolicy(model, reward, input.risky, { gamma, tol }).values;
-  const Vs = evaluatePolicy(model, reward, input.safe, { gamma, tol }).values;
   // u(s) = E[G 1{fail} | s]: reward r_o * h(next_o) (catastrophic states are terminal, h = 1 there).
   const rh = new Float64Array(reward.length);
   for (let o = 0; o < reward.length; o++) rh[o] = reward[o] * h[model.next[o]];
-  const u = evaluatePolicy(model, rh, input.risky, { gamma, tol }).values;
+  const evalOpts = { gamma, tol, accuracy: tol };
+  const [V, u] = policyValuesMany(model, [reward, rh], input.risky, evalOpts).map((e) => e.values);
+  const Vs = policyValues(model, reward, input.safe, evalOpts).values;
   const failProb = startValue(model, h);
   const riskyReturn = startValue(model, V);
   const uStart = startValue(model, u);

@@ -23,7 +23,6 @@ import { aggregateComparison, comparisonCsv, type ComparisonStats, type RunRecor
 import { failureOf, writeShippedRun } from "./execute.js";
 import { planSweep, sha256, type SweepSpec } from "./plan.js";
 import { defaultWorkers, PoolError, WorkerPool, type PoolRunOptions } from "./pool.js";
-import { parseQueueUrl, runOnQueue } from "./queue.js";
 import type { BatchJob, BatchProgress, RunOutcome } from "./types.js";
 import { isModuleSpec, moduleVariantNames, unknownVariant } from "../env/index.js";
 
@@ -174,7 +173,9 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
     throw new InputError("compare.runTimeout", `the run timeout must be a positive number of seconds up to about 24 days, got ${cfg.runTimeoutMs / 1000}`, "--run-timeout");
   }
   const runsDir = resolve(cfg.runsDir);
-  const target = cfg.queue ? parseQueueUrl(cfg.queue) : undefined;
+  // bullmq is loaded only for --queue.
+  const queue = cfg.queue ? await import("./queue.js") : undefined;
+  const target = queue && cfg.queue ? queue.parseQueueUrl(cfg.queue) : undefined;
   const jobs = planSweep(cfg, { ship: Boolean(target) });
   // Every variant, learner and file resolved before the first run: a misspelt name stops the sweep
   // at once instead of failing its own runs while the rest train. A simulator module is user code that
@@ -209,8 +210,8 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   };
   let outcomes: RunOutcome[];
   try {
-    outcomes = target
-      ? await runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, runTimeoutMs: cfg.runTimeoutMs, waitTimeoutMs: cfg.waitTimeoutMs, onNotice: hooks.onNotice, onOutcome, store: (job, value) => writeShippedRun(runsDir, job, value) })
+    outcomes = target && queue
+      ? await queue.runOnQueue(target, jobs, { attempts: cfg.attempts, backoffMs: cfg.backoffMs, runTimeoutMs: cfg.runTimeoutMs, waitTimeoutMs: cfg.waitTimeoutMs, onNotice: hooks.onNotice, onOutcome, store: (job, value) => writeShippedRun(runsDir, job, value) })
       : await runLocalBatch(jobs, runsDir, cfg.workers ?? defaultWorkers(), onOutcome, { timeoutMs: cfg.runTimeoutMs });
     return writeComparison(cfg, jobs, outcomes, runsDir, target ? "redis" : "local", index);
   } finally {

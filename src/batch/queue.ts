@@ -31,6 +31,7 @@
  */
 import { Job, Queue, QueueEvents, UnrecoverableError, Worker, type ConnectionOptions } from "bullmq";
 import { InputError } from "../errors.js";
+import { QUEUE_DEFAULTS } from "./queue-defaults.js";
 import type { RunResult } from "../run/schema.js";
 import { logger } from "../util/log.js";
 import { failureOf, writeShippedRun } from "./execute.js";
@@ -89,7 +90,7 @@ export interface SubmitOptions {
   store: (job: BatchJob, value: unknown) => RunResult;
 }
 
-export const QUEUE_DEFAULTS = { attempts: 3, backoffMs: 1000, lockMs: 30_000, stalledMs: 30_000, maxStalledCount: 2 } as const;
+export { QUEUE_DEFAULTS };
 
 function parseFailure(reason: string | undefined): RunFailure {
   if (reason) {

@@ -73,6 +73,19 @@ export function viCheckLine(r: ViResult): string {
   );
 }
 
+/**
+ * Agreement of a CHECK vi line whose values are not bit-identical to the reference's (the engine row):
+ * same W, H and greedy rollout, vstart within `tol` and vsum within `tol` per state. The iteration
+ * count and value bits are not compared.
+ */
+export function viCheckClose(check: string, reference: string, tol = 1e-8): boolean {
+  const field = (line: string, k: string): string | undefined => new RegExp(`(?:^| )${k}=(\\S+)`).exec(line)?.[1];
+  for (const k of ["W", "H", "greedy_len", "greedy_end"]) if (field(check, k) === undefined || field(check, k) !== field(reference, k)) return false;
+  const S = Number(field(check, "W")) * Number(field(check, "H"));
+  const d = (k: string) => Math.abs(Number(field(check, k)) - Number(field(reference, k)));
+  return d("vstart") <= tol && d("vsum") <= tol * S;
+}
+
 export interface QlResult {
   W: number;
   H: number;

@@ -14,6 +14,7 @@ import { Xorshift32 } from "../rng/rng.js";
 import { actionValues, greedyActions, type Evaluation } from "../solve/sweeps.js";
 import { sweepPlan, valueSweeps } from "../solve/value-iteration.js";
 import { prepareParallelSweeps } from "../solve/parallel.js";
+import { planValueIteration, solveValuesEngine } from "../solve/engine/index.js";
 import { argmaxRow, greedyRollout, qlCheckLine, viCheckLine } from "./check.js";
 import { KIND_GOAL, KIND_LAVA, LAVA_GAMMA, lavaModel, type LavaProblem } from "./lava.js";
 import { benchQEnv, trainBenchQ } from "./ql.js";
@@ -76,6 +77,28 @@ export async function runLavaViParallel(
   const rollout = greedyRollout(problem, (s) => policy[s]);
   const check = viCheckLine({ W, H, iters: ev.iters, values: ev.values, rollout });
   return { check, seconds, work: ev.iters, iters: ev.iters, setupSeconds: t0 - s0, threads };
+}
+
+/**
+ * The component-wise engine (src/solve/engine, the default exact solver of every command) on the same
+ * problem, asked for accuracy VI_TOL (a proven max-norm bound). Timed region: time to solution, the
+ * reward-independent plan (`planValueIteration`: graph, components, order) and the solve together;
+ * `planSeconds` is the plan's share. `iters` is its work in sweeps of the live states (backups / live
+ * states, rounded up); its CHECK line is compared to the synchronous one by `viCheckClose`.
+ */
+export function runLavaViEngine(W: number, H: number, clock: Clock = hrClock, problem: LavaProblem = lavaModel(W, H)): Measured & { iters: number; planSeconds: number; errorBound: number } {
+  const { model, reward } = problem;
+  const t0 = clock();
+  const plan = planValueIteration(model);
+  const t1 = clock();
+  const res = solveValuesEngine(model, reward, { gamma: LAVA_GAMMA, accuracy: VI_TOL }, plan);
+  const seconds = clock() - t0;
+  let live = 0;
+  for (let s = 0; s < model.nStates; s++) if (!model.terminal[s]) live++;
+  const iters = Math.ceil(res.stats.backups / Math.max(1, live));
+  const policy = greedyActions(model, actionValues(model, reward, res.values, LAVA_GAMMA));
+  const rollout = greedyRollout(problem, (s) => policy[s]);
+  return { check: viCheckLine({ W, H, iters, values: res.values, rollout }), seconds, work: iters, iters, planSeconds: t1 - t0, errorBound: res.errorBound };
 }
 
 export function runLavaQl(W: number, H: number, steps = QL_STEPS, seed = QL_SEED, clock: Clock = hrClock, problem: LavaProblem = lavaModel(W, H)): Measured {

@@ -18,21 +18,22 @@ import { cpus, loadavg } from "node:os";
 import { fileURLToPath } from "node:url";
 import { formatError, InputError } from "../errors.js";
 import { qlTimeLine, viTimeLine } from "./check.js";
-import { QL_SEED, QL_STEPS, runLavaQl, runLavaVi, runLavaViParallel } from "./lava-run.js";
+import { QL_SEED, QL_STEPS, runLavaQl, runLavaVi, runLavaViEngine, runLavaViParallel } from "./lava-run.js";
 import { compareEntry } from "./compare.js";
 import { reportEntry } from "./report.js";
 import { monitorEntry } from "./monitor.js";
-import { auditEntry } from "./audit.js";
-import { out, oursParImpl, oursWarmImpl, PAR_NAME, PAR_THREADS, WARM_NAME, WARM_STEPS, WARM_W, type BenchEntry, type BenchOptions, type Context } from "./harness.js";
+import { auditEntry, lavaAuditEntry } from "./audit.js";
+import { startupEntry } from "./startup.js";
+import { ENGINE_NAME, out, oursEngineImpl, oursParImpl, oursWarmImpl, PAR_NAME, PAR_THREADS, WARM_NAME, WARM_STEPS, WARM_W, type BenchEntry, type BenchOptions, type Context } from "./harness.js";
 import { qlEntry, viEntry } from "./lava-entries.js";
 import { defaultPeersDir, oursImpl, readExpected, setupPeers } from "./peers.js";
 
 /** The benchmark's entries, in run order. */
-export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, compareEntry];
+export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, lavaAuditEntry, compareEntry, startupEntry];
 
 const USAGE =
   "usage: main.js [--quick] [--runs N] [--warmup N] [--only NAME,...] [--slow] [--peers DIR]\n" +
-  "       main.js --child vi W H | --child vi-par W H | --child ql W H STEPS SEED | --child ql-warm W H STEPS SEED\n" +
+  "       main.js --child vi W H | --child vi-par W H | --child vi-engine W H | --child ql W H STEPS SEED | --child ql-warm W H STEPS SEED\n" +
   `entries: ${ENTRIES.map((e) => e.name).join(", ")}`;
 
 export function parseBenchArgs(argv: string[]): BenchOptions {
@@ -79,13 +80,19 @@ export function parseBenchArgs(argv: string[]): BenchOptions {
 function child(argv: string[]): void | Promise<void> {
   const [mode, ...rest] = argv;
   const nums = rest.map(Number);
-  if (!(mode === "vi" || mode === "vi-par" || mode === "ql" || mode === "ql-warm") || nums.some((x) => !Number.isInteger(x))) throw new InputError("cli.benchOption", USAGE, "--child");
+  if (!(mode === "vi" || mode === "vi-par" || mode === "vi-engine" || mode === "ql" || mode === "ql-warm") || nums.some((x) => !Number.isInteger(x))) throw new InputError("cli.benchOption", USAGE, "--child");
   const [W = 32, H = 32] = nums;
   if (mode === "vi-par") {
     return runLavaViParallel(W, H, PAR_THREADS).then((r) => {
       out(r.check);
       out(`${viTimeLine(PAR_NAME, r.iters, W * H, r.seconds)} threads=${r.threads} setup_s=${r.setupSeconds.toFixed(6)}`);
     });
+  }
+  if (mode === "vi-engine") {
+    const r = runLavaViEngine(W, H);
+    out(r.check);
+    out(`${viTimeLine(ENGINE_NAME, r.iters, W * H, r.seconds)} plan_s=${r.planSeconds.toFixed(6)} error_bound=${r.errorBound.toExponential(2)}`);
+    return;
   }
   if (mode === "vi") {
     const r = runLavaVi(W, H);
@@ -114,7 +121,7 @@ export function main(argv: string[]): number | Promise<number> {
     const opts = parseBenchArgs(argv);
     const peers = setupPeers(opts.peersDir);
     const self = fileURLToPath(import.meta.url);
-    const ctx: Context = { opts, peers, ours: oursImpl(self), oursPar: oursParImpl(self), oursWarm: oursWarmImpl(self), expected: readExpected(opts.peersDir) };
+    const ctx: Context = { opts, peers, ours: oursImpl(self), oursPar: oursParImpl(self), oursWarm: oursWarmImpl(self), oursEngine: oursEngineImpl(self), expected: readExpected(opts.peersDir) };
     out(`# gapwatch bench  ${new Date().toISOString().slice(0, 16)}Z  node ${process.version}  ${cpus().length} cores  peers ${opts.peersDir}`);
     // The machine may be shared: a load average above the core count means the figures are noisy.
     out(`# load average at start ${loadavg().map((x) => x.toFixed(2)).join(" ")}`);

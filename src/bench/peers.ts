@@ -17,6 +17,8 @@ export interface Impl {
   command(w: Workload): string[] | null;
   /** Takes over a minute at 512x512 (pure Python, naive JS, numpy gather): skipped unless --slow. */
   slowAt512: boolean;
+  /** Whether this row's CHECK line agrees with the reference; default: byte-identical. */
+  matches?: (check: string, reference: string) => boolean;
 }
 
 export interface RunOutput {

@@ -216,7 +216,7 @@ export class ModelBuilder {
       saStart,
       next,
       prob,
-      featureValues,
+      featureValues: compactExact(featureValues),
       intent,
       horizon: this.spec.horizon,
       description: this.spec.description,
@@ -256,4 +256,14 @@ export class ModelBuilder {
     const s = (k / this.nA) | 0;
     return `state ${s} (${this.label(s)}) action ${this.spec.actions[k % this.nA]}`;
   }
+}
+
+/**
+ * `values` as a Float32Array when every value is exactly a float32 (reading it back gives the same
+ * double: 0/1 indicators, small integers, dyadic fractions), else `values` itself. Halves the largest
+ * per-outcome array of a model with several indicator features (1M-state grids).
+ */
+export function compactExact(values: Float64Array): Float64Array | Float32Array {
+  for (let i = 0; i < values.length; i++) if (Math.fround(values[i]) !== values[i]) return values;
+  return Float32Array.from(values);
 }

@@ -67,7 +67,11 @@ export interface FiniteModel {
   readonly saStart: Int32Array;
   readonly next: Int32Array;
   readonly prob: Float64Array;
-  readonly featureValues: Float64Array;
+  /**
+   * Feature value per (outcome, feature), row-major. Float32 when every value is exactly a float32
+   * (the builder's choice, e.g. 0/1 indicator features): half the bytes, the same numbers when read.
+   */
+  readonly featureValues: Float64Array | Float32Array;
   /** Held-out intended-outcome increment per outcome. Never shown to a learner. */
   readonly intent: Float64Array;
   /** Episode step limit used when sampling: a truncation, not a termination. */

@@ -22,7 +22,7 @@ import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { sampleOutcome, samplingTables, sampleStart } from "../model/sampler.js";
 import type { Rng } from "../rng/rng.js";
 import { normalizeScore, solveOptima } from "../solve/compare.js";
-import { evaluatePolicy } from "../solve/evaluation.js";
+import { policyValuesMany } from "../solve/default-solver.js";
 import { startValue } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
 import { normalQuantile } from "../stats/normal.js";
@@ -223,14 +223,14 @@ export function evaluateExact(model: FiniteModel, refs: ScoreReferences, actions
 
 /**
  * Start values of a deterministic policy (`actions`) or of the uniform-random policy (`null`) for
- * each reward: `evaluatePolicy` on the policy's Markov chain over the reachable states, with
- * in-place sweeps in post-order (the same fixed point as synchronous sweeps, reached in far fewer).
+ * each reward: the default exact solver (engine, default-solver.ts) on the policy's Markov chain over
+ * the reachable states (in-place textbook sweeps in post-order where the engine proves no bound).
  */
 export function evaluateChain(model: FiniteModel, actions: Int32Array | null, rewardsIn: Float64Array[], gamma: number): number[] {
   const states = reachableStates(model, actions);
   const { chain, rewards } = restrictedChain(model, actions, states, rewardsIn);
   const ones: Policy = new Float64Array(states.length).fill(1);
-  return rewards.map((r) => startValue(chain, evaluatePolicy(chain, r, ones, { gamma, inPlace: true }).values));
+  return policyValuesMany(chain, rewards, ones, { gamma, inPlace: true }).map((e) => startValue(chain, e.values));
 }
 
 /**

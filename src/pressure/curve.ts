@@ -10,7 +10,9 @@
  * scale max_s |V*_d(s)| + max_o |r_d(o)| (at least 1e-9): at beta = 0.1 / R the policy is within a few
  * percent of the reference; at 1e4 / R an action that is worse by 1e-3 R has odds e^-10: near-greedy.
  *
- * peak: the first point of maximum intent. onset: the strength of the first point i from which intent
+ * peak: the first point of maximum intent, up to the solvers' accuracy (an intent within
+ * FIXED_POINT_ACCURACY of the maximum counts as the maximum, so a plateau of near-greedy points
+ * equal up to rounding peaks at its first point whatever the last digits say). onset: the strength of the first point i from which intent
  * falls by more than `tolerance` — some later point j has intent_j < intent_i - tolerance and a higher
  * designer return, and no point between i and j has more intent than i — or null when there is none.
  * Default tolerance: 1% of the model's intent range, 0.01 * (V_I* - V_I(uniform random)) (at least 1e-9).
@@ -19,10 +21,10 @@
  */
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { evaluatePolicy } from "../solve/evaluation.js";
+import { FIXED_POINT_ACCURACY } from "../solve/evaluation.js";
+import { optimalSolution, policyValues, policyValuesMany } from "../solve/default-solver.js";
 import { startValue, uniformPolicy } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
-import { valueIteration } from "../solve/value-iteration.js";
 import { softValueIteration } from "../solve/soft.js";
 import { InputError } from "../errors.js";
 
@@ -52,7 +54,7 @@ export interface PressureOptions {
 }
 
 export function defaultBetas(model: FiniteModel, rd: Float64Array, gamma: number, count = 24): number[] {
-  const v = valueIteration(model, rd, { gamma, tol: 1e-8 }).values;
+  const v = optimalSolution(model, rd, { gamma, tol: 1e-8 }).values;
   let R = 0;
   for (let s = 0; s < v.length; s++) R = Math.max(R, Math.abs(v[s]));
   let rm = 0;
@@ -86,18 +88,19 @@ export function pressureCurve(model: FiniteModel, variant: RewardVariant, opts: 
   const points: PressurePoint[] = [];
   for (const beta of betas) {
     const sol = softValueIteration(model, rd, { beta, reference, gamma, tol });
-    const designer = startValue(model, evaluatePolicy(model, rd, sol.policy, { gamma, tol }).values);
-    const intent = startValue(model, evaluatePolicy(model, model.intent, sol.policy, { gamma, tol }).values);
+    const [designer, intent] = policyValuesMany(model, [rd, model.intent], sol.policy, { gamma, tol }).map((e) => startValue(model, e.values));
     points.push({ strength: beta, kl: sol.kl.start, designer, intent });
   }
   let tolerance = opts.tolerance;
   if (tolerance === undefined) {
-    const best = startValue(model, valueIteration(model, model.intent, { gamma, tol }).values);
-    const rnd = startValue(model, evaluatePolicy(model, model.intent, uniformPolicy(model), { gamma, tol }).values);
+    const best = startValue(model, optimalSolution(model, model.intent, { gamma, tol }).values);
+    const rnd = startValue(model, policyValues(model, model.intent, uniformPolicy(model), { gamma, tol }).values);
     tolerance = Math.max(1e-9, 0.01 * Math.abs(best - rnd));
   }
+  let top = -Infinity;
+  for (const pt of points) if (pt.intent > top) top = pt.intent;
   let p = 0;
-  for (let i = 1; i < points.length; i++) if (points[i].intent > points[p].intent) p = i;
+  while (p < points.length - 1 && !(points[p].intent >= top - FIXED_POINT_ACCURACY)) p++;
   const on = onsetIndex(points, tolerance);
   return { points, peak: { strength: points[p]?.strength ?? 0, intent: points[p]?.intent ?? NaN }, onset: on < 0 ? null : points[on].strength };
 }

@@ -7,7 +7,7 @@ import { learnerView, viewEnv } from "../model/learner-view.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { createRng } from "../rng/rng.js";
-import { evaluatePolicy } from "../solve/evaluation.js";
+import { policyValuesMany } from "../solve/default-solver.js";
 import { deterministicPolicy, startValue } from "../solve/policy.js";
 
 export interface LearnerPoint {
@@ -25,11 +25,8 @@ export function learnerCurve(model: FiniteModel, variant: RewardVariant, opts: {
     const res = train(env, { learner: "q-learning" }, { steps, rng: createRng(opts.seed) });
     const pol = deterministicPolicy(model, res.agent.greedyPolicy(model.nStates));
     for (let s = 0; s < model.nStates; s++) if (model.terminal[s]) for (let a = 0; a < model.nActions; a++) pol[s * model.nActions + a] = 1 / model.nActions;
-    out.push({
-      steps,
-      designer: startValue(model, evaluatePolicy(model, rd, pol, { tol: 1e-9 }).values),
-      intent: startValue(model, evaluatePolicy(model, model.intent, pol, { tol: 1e-9 }).values),
-    });
+    const [designer, intent] = policyValuesMany(model, [rd, model.intent], pol).map((e) => startValue(model, e.values));
+    out.push({ steps, designer, intent });
   }
   return out;
 }

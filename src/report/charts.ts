@@ -6,8 +6,8 @@
  * Vega escapes the text it writes into the SVG (axis labels, legends, titles, aria labels), so
  * user-provided names reach the page as text, never as markup; tests/report check this too.
  */
-import * as vega from "vega";
-import { compile, type TopLevelSpec } from "vega-lite";
+// vega and vega-lite are loaded on the first render only (quick start-up of commands that write no report).
+import type { TopLevelSpec } from "vega-lite";
 import { DIVERGING, ROLE } from "./palette.js";
 import { esc, hideControls } from "./escape.js";
 
@@ -309,6 +309,7 @@ export function pressureSpec(points: PressurePoint[], marks: { label: string; st
 
 /** Compile a Vega-Lite spec and render it to an SVG string headlessly (names from users' files: control and direction characters shown as U+FFFD). */
 export async function renderSvg(spec: TopLevelSpec): Promise<string> {
+  const [vega, { compile }] = await Promise.all([import("vega"), import("vega-lite")]);
   const compiled = compile(spec).spec;
   const view = new vega.View(vega.parse(compiled), { renderer: "none" });
   try {

@@ -5,14 +5,17 @@
  * regretNorm = regret / (intent(intent-optimal) - intent(uniform random)), the share of the achievable
  *              intent range (above random behaviour) that optimizing the designer reward gives up.
  *
- * The uniform-random values come from the fixed-point evaluator (`accuracy` = FIXED_POINT_ACCURACY,
- * within 1e-9 of v_pi in every state, guaranteed for gamma < 1), not from textbook sweeps.
+ * For gamma <= EXACT_GAMMA every value comes from the component-wise engine (default-solver.ts: within
+ * FIXED_POINT_ACCURACY = 1e-9 of the fixed point in every state, proven for gamma < 1), not from
+ * textbook sweeps; one plan of the model serves the designer reward and the intent. Above EXACT_GAMMA
+ * and below 1, policy iteration over dense linear solves (exact.ts) answers instead.
  */
 import { InputError } from "../errors.js";
 import { likelyStart, tracePolicy } from "../model/likely-path.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { evaluatePolicy, evaluatePolicyMany, FIXED_POINT_ACCURACY } from "./evaluation.js";
+import { optimalSolution, planValueIteration, policyValues, policyValuesMany } from "./default-solver.js";
+import { FIXED_POINT_ACCURACY } from "./evaluation.js";
 import { EXACT_GAMMA, evaluateExact, exactPolicyIteration } from "./exact.js";
 import { deterministicPolicy, startValue, uniformPolicy } from "./policy.js";
 import type { Solution, SolveOptions } from "./sweeps.js";
@@ -56,7 +59,7 @@ export interface Optima {
 }
 
 /**
- * Value iteration for the designer reward `rd` and for the intent, and the uniform-random policy's
+ * Optimal solutions (engine, default-solver.ts; dense policy iteration near gamma = 1) for the designer reward `rd` and for the intent, and the uniform-random policy's
  * start values of both: what `solveVariant` reports and what the monitor normalizes with
  * (src/monitor/evaluate.ts `scoreReferences`).
  */
@@ -80,11 +83,10 @@ export function solveOptima(model: FiniteModel, rd: Float64Array, opts: SolveOpt
       if (!v.converged) throw unboundedError(model, v.policy, gamma, what, maxIters);
     }
   }
-  const designer = valueIteration(model, rd, o);
-  const intent = valueIteration(model, model.intent, o);
-  // The uniform-random reference only needs v_pi's fixed point: computed to within
-  // FIXED_POINT_ACCURACY (1e-9 absolute on every state's value, guaranteed; see evaluateFixedPoint).
-  const [rdRandom, riRandom] = evaluatePolicyMany(model, [rd, model.intent], uniformPolicy(model), { ...o, accuracy: FIXED_POINT_ACCURACY });
+  const plan = planValueIteration(model);
+  const designer = optimalSolution(model, rd, o, plan);
+  const intent = optimalSolution(model, model.intent, o, plan);
+  const [rdRandom, riRandom] = policyValuesMany(model, [rd, model.intent], uniformPolicy(model), { ...o, accuracy: FIXED_POINT_ACCURACY });
   return { gamma, designer, intent, random: { designer: startValue(model, rdRandom.values), intent: startValue(model, riRandom.values) } };
 }
 
@@ -97,10 +99,13 @@ export function solveVariant(model: FiniteModel, variant: RewardVariant, opts: S
   const dPol = deterministicPolicy(model, dOpt.policy);
   const iPol = deterministicPolicy(model, iOpt.policy);
   const exact = gamma > EXACT_GAMMA && gamma < 1;
-  const intentOfDesignerOpt = startValue(model, exact ? evaluateExact(model, ri, dPol, gamma) : evaluatePolicy(model, ri, dPol, o).values);
-  const designerOfIntentOpt = startValue(model, exact ? evaluateExact(model, rd, iPol, gamma) : evaluatePolicy(model, rd, iPol, o).values);
+  const intentOfDesignerOpt = startValue(model, exact ? evaluateExact(model, ri, dPol, gamma) : policyValues(model, ri, dPol, o).values);
+  const designerOfIntentOpt = startValue(model, exact ? evaluateExact(model, rd, iPol, gamma) : policyValues(model, rd, iPol, o).values);
   const intentBest = startValue(model, iOpt.values);
-  const regret = intentBest - intentOfDesignerOpt;
+  // Regret is >= 0 (the intent-optimal policy is optimal); a difference within the solvers' proven
+  // accuracy (both values within FIXED_POINT_ACCURACY of exact) is no regret, not a sign to report.
+  const rawRegret = intentBest - intentOfDesignerOpt;
+  const regret = rawRegret <= 2 * FIXED_POINT_ACCURACY ? 0 : rawRegret;
   const range = intentBest - random.intent;
   return {
     env: model.name,

@@ -5,3 +5,4 @@ export * from "./policy-iteration.js";
 export * from "./policy.js";
 export * from "./compare.js";
 export * from "./soft.js";
+export * from "./default-solver.js";

@@ -24,7 +24,7 @@
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import { expectedPerStateAction } from "../model/reward.js";
-import { evaluatePolicy } from "./evaluation.js";
+import { policyValues } from "./default-solver.js";
 import { startValue, uniformPolicy } from "./policy.js";
 import { iterateSweeps, type Policy, type SolveOptions } from "./sweeps.js";
 
@@ -210,6 +210,6 @@ export function klFromReference(model: FiniteModel, policy: Policy, ref: Policy,
     if (k === 0) continue;
     for (let o = model.saStart[s * nA]; o < model.saStart[(s + 1) * nA]; o++) cost[o] = k;
   }
-  const values = evaluatePolicy(model, cost, policy, { gamma, tol: opts.tol ?? 1e-12 }).values;
+  const values = policyValues(model, cost, policy, { gamma, tol: opts.tol ?? 1e-12, accuracy: opts.tol ?? 1e-12 }).values;
   return { perState, values, start: startValue(model, values) };
 }

@@ -69,3 +69,45 @@ export function randomMdp(opts: RandomMdpOptions): fc.Arbitrary<Mdp> {
       return { model, reward: Float64Array.from(model.featureValues), gamma };
     });
 }
+
+/**
+ * `model` rebuilt pair by pair with one reward feature "r": terminal states stay terminal, states
+ * added beyond model.nStates are terminal, the start distribution is kept, and `emit(b, s, a, k)`
+ * writes the outcomes of each live pair (s, a) of `model` (k = s * nActions + a).
+ */
+export function rebuildModel(
+  model: FiniteModel,
+  spec: { name: string; nStates?: number; actions?: readonly string[]; gamma?: number },
+  emit: (b: ModelBuilder, s: number, a: number, k: number) => void,
+): FiniteModel {
+  const nS = spec.nStates ?? model.nStates;
+  const b = new ModelBuilder({ name: spec.name, nStates: nS, actions: spec.actions ?? model.actions, features: ["r"], gamma: spec.gamma ?? model.gamma, horizon: 100 });
+  for (let s = model.nStates; s < nS; s++) b.setTerminal(s);
+  for (let s = 0; s < model.nStates; s++) {
+    if (model.start[s] > 0) b.setStart(s, model.start[s]);
+    if (model.terminal[s]) {
+      b.setTerminal(s);
+      continue;
+    }
+    for (let a = 0; a < model.nActions; a++) emit(b, s, a, s * model.nActions + a);
+  }
+  return b.build();
+}
+
+/**
+ * Episodic (gamma = 1) random MDPs where every policy is proper: each pair's outcomes (1..3, as
+ * randomMdp) share probability 1 - e with one outcome into the terminal state nS - 1, e >= 1/8.
+ */
+export function properEpisodic(states: [number, number], det: boolean): fc.Arbitrary<{ model: FiniteModel; reward: Float64Array }> {
+  return randomMdp({ states, actions: [1, 4], gamma: [1, 1], deterministic: det }).chain(({ model, reward }) =>
+    fc.array(fc.integer({ min: 1, max: 7 }), { minLength: model.nStates * model.nActions, maxLength: model.nStates * model.nActions }).map((exitWeights) => {
+      const exit = model.nStates;
+      const m = rebuildModel(model, { name: "episodic", nStates: model.nStates + 1, gamma: 1 }, (b, s, a, k) => {
+        const e = exitWeights[k] / 8;
+        for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) b.addOutcome(s, a, model.next[o], (1 - e) * model.prob[o], [reward[o]]);
+        b.addOutcome(s, a, exit, e, [-0.5]);
+      });
+      return { model: m, reward: Float64Array.from(m.featureValues) };
+    }),
+  );
+}

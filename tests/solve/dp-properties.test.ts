@@ -9,8 +9,7 @@ import { evaluatePolicy } from "../../src/solve/evaluation.js";
 import { deterministicPolicy } from "../../src/solve/policy.js";
 import { policyIteration } from "../../src/solve/policy-iteration.js";
 import { valueIteration } from "../../src/solve/value-iteration.js";
-import { ModelBuilder } from "../../src/model/builder.js";
-import { randomMdp } from "../helpers/random-mdp.js";
+import { randomMdp, rebuildModel } from "../helpers/random-mdp.js";
 
 /**
  * Random MDP: 2..6 states (state 0 never terminal), 1..4 actions, 1..3 outcomes per pair; half of
@@ -78,23 +77,12 @@ describe("exact solvers on random finite MDPs", () => {
     // (Sutton & Barto 2018, eq. 3.2: p(s', r | s, a) is all that matters).
     fc.assert(
       fc.property(mdpArb, ({ model, reward, gamma }) => {
-        const nA = model.nActions;
-        const b = new ModelBuilder({ name: "split", nStates: model.nStates, actions: model.actions, features: ["r"], gamma, horizon: 100 });
-        for (let s = 0; s < model.nStates; s++) {
-          if (model.terminal[s]) {
-            b.setTerminal(s);
-            continue;
+        const split = rebuildModel(model, { name: "split", gamma }, (b, s, a, k) => {
+          for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) {
+            b.addOutcome(s, a, model.next[o], model.prob[o] / 2, [reward[o]]);
+            b.addOutcome(s, a, model.next[o], model.prob[o] / 2, [reward[o]]);
           }
-          for (let a = 0; a < nA; a++) {
-            const k = s * nA + a;
-            for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) {
-              b.addOutcome(s, a, model.next[o], model.prob[o] / 2, [reward[o]]);
-              b.addOutcome(s, a, model.next[o], model.prob[o] / 2, [reward[o]]);
-            }
-          }
-        }
-        b.setStart(0, 1);
-        const split = b.build();
+        });
         const v1 = valueIteration(model, reward, { tol: TOL }).values;
         const v2 = valueIteration(split, Float64Array.from(split.featureValues), { tol: TOL }).values;
         expect(close(v1, v2, 1e-8)).toBe(true);

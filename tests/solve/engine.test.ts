@@ -14,7 +14,7 @@ import type { FiniteModel } from "../../src/model/types.js";
 import { deterministicPolicy, evaluatePolicy, uniformPolicy, valueIteration, type Policy } from "../../src/solve/index.js";
 import { evaluatePolicyEngine, planValueIteration, stronglyConnected, valueIterationEngine } from "../../src/solve/engine/index.js";
 import { example41 } from "../helpers/example41.js";
-import { randomMdp } from "../helpers/random-mdp.js";
+import { properEpisodic, randomMdp } from "../helpers/random-mdp.js";
 
 const TIGHT = 1e-13;
 const ACCEPT = 1e-8;
@@ -209,36 +209,6 @@ describe("the benchmark lava field (src/bench/lava.ts) at a small size", () => {
 function policyFrom(model: FiniteModel, choice: number[] | null): Policy {
   if (!choice) return uniformPolicy(model);
   return deterministicPolicy(model, Int32Array.from({ length: model.nStates }, (_, s) => (model.terminal[s] ? -1 : choice[s % choice.length] % model.nActions)));
-}
-
-/**
- * Episodic (gamma = 1) random MDPs where every policy is proper: each pair's outcomes (1..3, as
- * randomMdp) share probability 1 - e with one outcome into the terminal state nS - 1, e >= 1/8.
- */
-function properEpisodic(states: [number, number], det: boolean): fc.Arbitrary<{ model: FiniteModel; reward: Float64Array }> {
-  return randomMdp({ states, actions: [1, 4], gamma: [1, 1], deterministic: det }).chain(({ model, reward }) =>
-    fc.array(fc.integer({ min: 1, max: 7 }), { minLength: model.nStates * model.nActions, maxLength: model.nStates * model.nActions }).map((exitWeights) => {
-      const nS = model.nStates + 1;
-      const nA = model.nActions;
-      const b = new ModelBuilder({ name: "episodic", nStates: nS, actions: model.actions, features: ["r"], gamma: 1, horizon: 100 });
-      b.setTerminal(nS - 1);
-      for (let s = 0; s < model.nStates; s++) {
-        if (model.terminal[s]) {
-          b.setTerminal(s);
-          continue;
-        }
-        for (let a = 0; a < nA; a++) {
-          const k = s * nA + a;
-          const e = exitWeights[k] / 8;
-          for (let o = model.saStart[k]; o < model.saStart[k + 1]; o++) b.addOutcome(s, a, model.next[o], (1 - e) * model.prob[o], [reward[o]]);
-          b.addOutcome(s, a, nS - 1, e, [-0.5]);
-        }
-      }
-      b.setStart(0, 1);
-      const m = b.build();
-      return { model: m, reward: Float64Array.from(m.featureValues) };
-    }),
-  );
 }
 
 describe("random MDPs (fast-check): engine vs textbook", () => {

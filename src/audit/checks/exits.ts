@@ -18,7 +18,7 @@ import type { AuditContext } from "../context.js";
 import { fmt, labelsOf } from "../context.js";
 import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding } from "../findings.js";
-import { evaluatePolicy } from "../../solve/evaluation.js";
+import { policyValues } from "../../solve/default-solver.js";
 import { startValue } from "../../solve/policy.js";
 import type { Policy } from "../../solve/sweeps.js";
 import type { FiniteModel } from "../../model/types.js";
@@ -31,7 +31,7 @@ export function enterProbability(model: FiniteModel, policy: Policy, set: Uint8A
     if (terminal[s]) continue;
     for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) if (set[next[o]]) ind[o] = 1;
   }
-  return startValue(model, evaluatePolicy(model, ind, policy, { gamma: 1, tol: 1e-12 }).values);
+  return startValue(model, policyValues(model, ind, policy, { gamma: 1, tol: 1e-12, accuracy: 1e-12 }).values);
 }
 
 /** Terminal states the policy enters with positive probability from the start distribution (0/1 per state). */

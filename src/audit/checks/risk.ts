@@ -25,7 +25,7 @@ import type { Finding } from "../findings.js";
 import { failureProbability, riskAudit } from "../indifference.js";
 import type { FiniteModel } from "../../model/types.js";
 import { deterministicPolicy, startValue } from "../../solve/policy.js";
-import { valueIteration } from "../../solve/value-iteration.js";
+import { optimalSolution } from "../../solve/default-solver.js";
 
 export function catastrophicStates(model: FiniteModel): Uint8Array {
   const { nStates: nS, nActions: nA, saStart, next, prob, terminal, intent, featureValues } = model;
@@ -58,7 +58,7 @@ export function riskCheck(ctx: AuditContext): Finding[] {
   if (startValue(model, failureProbability(model, safe, flags)) > pD) {
     const ind = new Float64Array(model.next.length);
     for (let o = 0; o < ind.length; o++) ind[o] = flags[model.next[o]] ? -1 : 0;
-    const minFail = valueIteration(model, ind, { gamma: 1, tol: 1e-12 });
+    const minFail = optimalSolution(model, ind, { gamma: 1, tol: 1e-12, accuracy: 1e-12 });
     safe = deterministicPolicy(model, minFail.policy);
     safeName = "minimum-failure";
   }

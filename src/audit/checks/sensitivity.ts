@@ -1,18 +1,51 @@
 /**
  * weight-sensitivity: for each feature weight (others fixed), the interval of values over which the
  * designer-optimal policy stays intent-optimal, and how far the current weight is from its edge.
+ * Intent-optimal: sensitivity-common.ts (exact, on the states the policy reaches).
  *
- * "Intent-optimal" is decided exactly: the greedy policy of the designer reward at weight w picks, in
- * every state it reaches from the start distribution, an action whose intent action value equals the
- * optimal intent value (Q_I*(s, pi(s)) >= V_I*(s) - 1e-9 (1 + |V_I*(s)|)); for discounted models this is
- * equivalent to V_I^pi = V_I* on the start distribution. Greedy ties go to the lowest action index as in
- * src/solve/sweeps.ts (`greedyActions`), so at an exact breakpoint the answer follows that tie rule.
+ * Method: parametric analysis of the designer MDP in one weight (the parametric / sensitivity analysis
+ * of a linear program, applied to the MDP's LP through policy iteration: Puterman 1994, sections 6.9
+ * and 10.2 on the LP and on sensitive optimality; any parametric-programming text for the
+ * breakpoint walk; from memory). With w = w0 + t the designer reward is r(t) = r0 + t phi_f per
+ * outcome (shaping does not depend on w), so for a fixed policy pi
  *
- * Search: outward steps w0 +- scale * 2^(k - 3), k = 0 .. 9 (scale = |w0|, or the largest |weight| of
- * the variant when w0 = 0, or 1), then 10 bisection steps on the first step that changes the answer;
- * each probe is an exact value iteration (warm-started from the previous probe's values, tol 1e-8).
- * An edge beyond 64 * scale is reported as +-Infinity. Between probes the answer is assumed not to
- * flip twice (an interval narrower than a step could be missed; the step grid is reported).
+ *     V^pi(t) = V0 + t Vf,   Q^pi(s, a; t) = q0(s, a) + t qf(s, a),
+ *
+ * with V0, Vf two exact policy evaluations of pi (src/solve/engine, accuracy 1e-12) on r0 and phi_f.
+ * pi is optimal at t iff Q^pi(s, a; t) <= V^pi(s; t) for all (s, a) (Bellman optimality), i.e. a set of
+ * linear inequalities (q0 - v0) + t (qf - vf) <= 0; they hold on an interval of t around the current
+ * point, and its end in direction dir is the nearest root t = -(q0 - v0) / (qf - vf) over the pairs
+ * whose difference grows in that direction. At that edge the policy optimal just beyond (t_e + 0) is
+ * found by policy iteration started from pi whose improvement step compares actions
+ * lexicographically: first Q(t_e), then dir * qf (the slope), then the lower action index (a
+ * 1-sensitive comparison; it converges to the policy that is optimal on (t_e, t_e + delta) for some
+ * delta > 0). The walk goes from policy to policy until the intent answer differs from the one at w0,
+ * or the edge is beyond SEARCH_SPAN * scale (reported as +-Infinity).
+ *
+ * Cost (parametric-walk.ts): V0 and the improvement at w0 do not depend on the feature and are computed
+ * once; each feature adds one evaluation of Vf (none for a feature that is 0 on every reachable
+ * outcome: no edge, the interval is unbounded). A breakpoint changes the action of a few states; only
+ * the states that reach them under the new policy change value, so only those are re-solved (engine
+ * `evaluateOnStates`, the rest held) and only the action values leading into them recomputed. The cost
+ * is the breakpoints crossed times the size of their upstream sets, not a grid nor a full solve each.
+ *
+ * Which states: the inequalities are imposed, and policies improved, on the non-terminal states
+ * reachable from the start distribution under any actions (ctx.reachable). That set is closed under
+ * every action's outcomes, so optimality on it makes V^pi = V* on it, and the greedy choice in any
+ * state the policy visits depends only on V* there; the intent test looks only at states the policy
+ * reaches from the start, a subset. States outside the set keep the solver's actions and never matter.
+ *
+ * Tie rule (as src/solve/sweeps.ts greedyActions: the lowest action index among the maxima). Two
+ * actions tie when their values differ by at most 1e-9 (1 + |V(s)|) (slopes: 1e-9 (1 + |Vf(s)|)). At
+ * w0 the policy is the greedy one with that rule. Between breakpoints the policy is unique up to
+ * exact ties (identical lines, where the lower index wins everywhere). At a breakpoint itself the
+ * rule decides which side's policy holds; the reported edge is the breakpoint either way, and a
+ * policy optimal at a single weight only (a lower-index action that ties at exactly t_e and loses on
+ * both sides) is not reported as an interval. The bisection method decided ties at w0 by rounding of
+ * its value iteration; on exact ties (symmetric routes) the two may pick different policies.
+ *
+ * gamma = 1: policies can be improper (values without a finite fixed point), so the earlier
+ * step-and-bisect search (sensitivity-bisection.ts) is used instead.
  *
  * Severity: warning when the current weight keeps the policy intent-optimal but lies within 10% of
  * scale of an edge (a small re-weighting breaks it; our convention); info otherwise, including weights
@@ -22,150 +55,56 @@
 import type { AuditContext } from "../context.js";
 import { fmt } from "../context.js";
 import type { Finding } from "../findings.js";
-import { actionValues, expectedReward } from "../../solve/sweeps.js";
-import { ownValue } from "../../util/own.js";
+import { expectedReward } from "../../solve/sweeps.js";
+import { ParametricWalk, type WalkState } from "./parametric-walk.js";
+import { weightIntervalsBisection } from "./sensitivity-bisection.js";
+import { currentWeight, featureColumn, intentOkActions, intervalRow, reachesOnlyOk, SEARCH_SPAN, sweptFeatures, walkBuffers, type WeightInterval, weightScale } from "./sensitivity-common.js";
 
-export interface WeightInterval {
-  feature: string;
-  weight: number;
-  okAtCurrent: boolean;
-  /** When okAtCurrent: the interval [lo, hi] containing the current weight. */
-  lo: number | null;
-  hi: number | null;
-  /** When not okAtCurrent: the nearest weight at which the policy becomes intent-optimal, or null. */
-  fixAt: number | null;
-  /** Distance from the current weight to the nearest edge (ok) or to fixAt (not ok); Infinity if none. */
-  distance: number;
-  probes: number;
-}
+export type { WeightInterval } from "./sensitivity-common.js";
 
-const STEPS = 10;
-const BISECT = 10;
+/** Cap on breakpoints crossed per direction. */
+const MAX_BREAKS = 100_000;
 
 export function weightIntervals(ctx: AuditContext, features?: string[]): WeightInterval[] {
-  const { model, variant, gamma } = ctx;
-  const nF = model.features.length;
-  const nS = model.nStates;
-  const nA = model.nActions;
-  const nSA = nS * nA;
-  const { saStart, next, prob, terminal } = model;
-  const rBase = expectedReward(model, ctx.rd);
-  const qI = actionValues(model, model.intent, ctx.solve.intentOptimal.values, gamma);
-  const vI = ctx.solve.intentOptimal.values;
-  const okAction = new Uint8Array(nSA);
-  for (let s = 0; s < nS; s++) {
-    if (terminal[s]) continue;
-    const v = vI[s];
-    for (let a = 0; a < nA; a++) okAction[s * nA + a] = qI[s * nA + a] >= v - 1e-9 * (1 + Math.abs(v)) ? 1 : 0;
-  }
-  const weights = Object.values(variant.weights).map(Math.abs).filter((x) => x > 0);
-  const maxW = weights.length ? Math.max(...weights) : 1;
-  const list = features ?? model.features.filter((f) => (ownValue(variant.weights, f) ?? 0) !== 0 || ctx.solve.regretNorm >= ctx.opts.regretWarning);
-  const V = new Float64Array(nS);
-  const r = new Float64Array(nSA);
-  const fexp = new Float64Array(nSA);
-  const pi = new Int32Array(nS);
-  const seen = new Uint8Array(nS);
-  const stack = new Int32Array(nS);
-  const maxIters = gamma < 1 ? Math.max(10_000, Math.ceil(Math.log(1e-12) / Math.log(gamma)) * 4) : 100_000;
+  if (!(ctx.gamma < 1)) return weightIntervalsBisection(ctx, features);
+  const { model } = ctx;
+  const okAction = intentOkActions(ctx);
+  const { list, maxW } = sweptFeatures(ctx, features);
+  const walk = new ParametricWalk(model, ctx.reachable, expectedReward(model, ctx.rd), ctx.gamma);
+  // The policy at w0 (greedy, lowest index on ties) and its V0: the same for every feature.
+  const base = walk.start(ctx.solve.designerOptimal.policy);
+  const ok0 = reachesOnlyOk(model, base.pi, okAction, walkBuffers(model.nStates));
+  const buf = walkBuffers(model.nStates);
   const out: WeightInterval[] = [];
   for (const feature of list) {
     const f = model.features.indexOf(feature);
     if (f < 0) continue;
-    for (let k = 0; k < nSA; k++) {
-      let acc = 0;
-      for (let o = saStart[k]; o < saStart[k + 1]; o++) acc += prob[o] * model.featureValues[o * nF + f];
-      fexp[k] = acc;
+    const w0 = currentWeight(ctx, feature);
+    const fexp = expectedReward(model, featureColumn(model, f));
+    if (!walk.moves(fexp)) {
+      // Every reachable action value is flat in this weight: no breakpoint anywhere.
+      out.push(intervalRow(feature, w0, ok0, -Infinity, Infinity, 0));
+      continue;
     }
-    const w0 = ownValue(variant.weights, feature) ?? 0;
-    const scale = w0 !== 0 ? Math.abs(w0) : maxW;
-    let probes = 0;
-    V.set(ctx.solve.designerOptimal.values);
-    const okAt = (w: number): boolean => {
-      probes++;
-      const dw = w - w0;
-      for (let k = 0; k < nSA; k++) r[k] = rBase[k] + dw * fexp[k];
-      // Gauss-Seidel value iteration from the previous probe's values.
-      for (let it = 0; it < maxIters; it++) {
-        let delta = 0;
-        for (let s = 0; s < nS; s++) {
-          if (terminal[s]) continue;
-          let best = -Infinity;
-          for (let a = 0; a < nA; a++) {
-            const k = s * nA + a;
-            let ev = 0;
-            for (let o = saStart[k]; o < saStart[k + 1]; o++) ev += prob[o] * V[next[o]];
-            const q = r[k] + gamma * ev;
-            if (q > best) best = q;
-          }
-          const d = Math.abs(best - V[s]);
-          if (d > delta) delta = d;
-          V[s] = best;
-        }
-        if (delta < 1e-8) break;
-      }
-      for (let s = 0; s < nS; s++) {
-        if (terminal[s]) {
-          pi[s] = -1;
-          continue;
-        }
-        let ba = 0;
-        let bq = -Infinity;
-        for (let a = 0; a < nA; a++) {
-          const k = s * nA + a;
-          let ev = 0;
-          for (let o = saStart[k]; o < saStart[k + 1]; o++) ev += prob[o] * V[next[o]];
-          const q = r[k] + gamma * ev;
-          if (q > bq) ((bq = q), (ba = a));
-        }
-        pi[s] = ba;
-      }
-      // Intent-optimal on every state the greedy policy reaches?
-      seen.fill(0);
-      let sp = 0;
-      for (let s = 0; s < nS; s++) if (model.start[s] > 0) ((seen[s] = 1), (stack[sp++] = s));
-      while (sp > 0) {
-        const s = stack[--sp];
-        if (terminal[s]) continue;
-        const k = s * nA + pi[s];
-        if (!okAction[k]) return false;
-        for (let o = saStart[k]; o < saStart[k + 1]; o++) {
-          const t = next[o];
-          if (prob[o] > 0 && !seen[t]) ((seen[t] = 1), (stack[sp++] = t));
-        }
-      }
-      return true;
-    };
-    const ok0 = okAt(w0);
-    // Find, per direction, the first step whose answer differs from ok0, then bisect.
+    const span = SEARCH_SPAN * weightScale(w0, maxW);
+    const atW0 = walk.withFeature(base, fexp);
     const edge = (dir: number): number => {
-      let prev = 0;
-      for (let k = 0; k < STEPS; k++) {
-        const d = scale * 2 ** (k - 3);
-        if (okAt(w0 + dir * d) !== ok0) {
-          let lo = prev; // answer == ok0
-          let hi = d; // answer != ok0
-          for (let i = 0; i < BISECT; i++) {
-            const mid = (lo + hi) / 2;
-            if (okAt(w0 + dir * mid) === ok0) lo = mid;
-            else hi = mid;
-          }
-          // Edge of the ok set: last ok point when ok0, first ok point otherwise.
-          return w0 + dir * (ok0 ? lo : hi);
-        }
-        prev = d;
+      const st: WalkState = walk.copy(atW0);
+      let t = 0;
+      for (let n = 0; n < MAX_BREAKS; n++) {
+        const te = walk.nextEdge(st, t, dir);
+        if (!(Math.abs(te) <= span)) return dir * Infinity;
+        walk.solveAt(st, te, dir);
+        if (reachesOnlyOk(model, st.pi, okAction, buf) !== ok0) return w0 + te;
+        t = te;
       }
-      return dir * Infinity;
+      // Cap reached (not seen on the built-ins): conservative answers, the last breakpoint crossed as
+      // the edge of an ok interval, no fix claimed otherwise.
+      return ok0 ? w0 + t : dir * Infinity;
     };
     const down = edge(-1);
     const up = edge(1);
-    if (ok0) {
-      out.push({ feature, weight: w0, okAtCurrent: true, lo: down, hi: up, fixAt: null, distance: Math.min(w0 - down, up - w0), probes });
-    } else {
-      const cands = [down, up].filter((x) => Number.isFinite(x));
-      const fixAt = cands.length ? cands.reduce((a, b) => (Math.abs(a - w0) <= Math.abs(b - w0) ? a : b)) : null;
-      out.push({ feature, weight: w0, okAtCurrent: false, lo: null, hi: null, fixAt, distance: fixAt === null ? Infinity : Math.abs(fixAt - w0), probes });
-    }
+    out.push(intervalRow(feature, w0, ok0, down, up, walk.takeEvaluations()));
   }
   return out;
 }
@@ -192,7 +131,7 @@ export function sensitivityCheck(ctx: AuditContext): Finding[] {
         severity: "info",
         message:
           w.fixAt === null
-            ? `no value of the ${w.feature} weight alone (within ${fmt(64 * scale)} of ${w.weight}) makes the designer-optimal policy intent-optimal`
+            ? `no value of the ${w.feature} weight alone (within ${fmt(SEARCH_SPAN * scale)} of ${w.weight}) makes the designer-optimal policy intent-optimal`
             : `setting the ${w.feature} weight to ${fmt(w.fixAt)} (now ${w.weight}) would make the designer-optimal policy intent-optimal`,
         evidence: { ...w },
       });

@@ -10,7 +10,7 @@ import { availableParallelism } from "node:os";
 import { existsSync, statSync } from "node:fs";
 import { EXIT, InputError, printableLine } from "../../errors.js";
 import { parseList } from "../../batch/plan.js";
-import { parseQueueUrl, QUEUE_DEFAULTS, startQueueWorker } from "../../batch/queue.js";
+import { QUEUE_DEFAULTS } from "../../batch/queue-defaults.js";
 import { action, intOption, type CliContext } from "../context.js";
 
 export function registerWorker(program: Command, ctx: CliContext): void {
@@ -25,6 +25,8 @@ export function registerWorker(program: Command, ctx: CliContext): void {
     .option("--quiet", "no line per job on stderr")
     .action(
       action(ctx, async (opts: { queue: string; concurrency?: string; lockMs?: string; stalledMs?: string; allowModules?: string; quiet?: boolean }) => {
+        // bullmq is loaded by this command only.
+        const { parseQueueUrl, startQueueWorker } = await import("../../batch/queue.js");
         const target = parseQueueUrl(opts.queue);
         const concurrency = intOption(opts.concurrency, "--concurrency", { def: availableParallelism() });
         const log = (line: string) => {

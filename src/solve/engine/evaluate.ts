@@ -66,6 +66,88 @@ export function evaluatePolicyEngineMany(model: FiniteModel, rewards: Float64Arr
   });
 }
 
+/**
+ * Re-solving a deterministic policy's values on some live states only: `states` are re-solved with
+ * every other state's value held at its entry in `xs[j]` (state-indexed, 0 on terminal states; the
+ * re-solved entries are written in place), for each expected reward per (s, a) `rewards[j]`. When a
+ * policy changes its action in a few states, the values that change are those of the states that reach
+ * a changed state under the new policy (every other state's successors, and theirs, are unchanged), so
+ * re-solving that set with the rest held gives the new policy's values at the cost of the set, not of
+ * the model. Each call is solved to `accuracy` given the held values (components as in
+ * `evaluatePolicyEngineMany`). `scratch`: an Int32Array(model.nStates) filled with -1, restored on return.
+ */
+export function evaluateOnStates(
+  model: FiniteModel,
+  actions: Int32Array,
+  states: Int32Array,
+  rewards: Float64Array[],
+  xs: Float64Array[],
+  opts: EngineOptions,
+  scratch: Int32Array,
+): { converged: boolean; errorBound: number } {
+  const o = resolveOptions(model.gamma, opts);
+  const gamma = o.gamma;
+  const { saStart, next, prob } = model;
+  const nA = model.nActions;
+  const n = states.length;
+  const rowOf = scratch;
+  for (let i = 0; i < n; i++) rowOf[states[i]] = i;
+  let cap = 0;
+  for (let i = 0; i < n; i++) {
+    const k = states[i] * nA + actions[states[i]];
+    cap += saStart[k + 1] - saStart[k];
+  }
+  const rowStart = new Int32Array(n + 1);
+  const col = new Int32Array(cap);
+  const weight = new Float64Array(cap);
+  const self = new Float64Array(n);
+  const exits = new Uint8Array(n);
+  const slot = new Int32Array(n).fill(-1);
+  const rs = rewards.map(() => new Float64Array(n));
+  let e = 0;
+  for (let i = 0; i < n; i++) {
+    const s = states[i];
+    const k = s * nA + actions[s];
+    rowStart[i] = e;
+    for (let j = 0; j < rewards.length; j++) rs[j][i] = rewards[j][k];
+    let kept = 0;
+    for (let q = saStart[k]; q < saStart[k + 1]; q++) {
+      const p = prob[q];
+      if (p === 0) continue;
+      const t = next[q];
+      const row = rowOf[t];
+      if (row < 0) {
+        for (let j = 0; j < rewards.length; j++) rs[j][i] += gamma * p * xs[j][t];
+        continue;
+      }
+      kept += p;
+      if (row === i) self[i] += p;
+      else if (slot[row] >= 0) weight[slot[row]] += p;
+      else {
+        slot[row] = e;
+        col[e] = row;
+        weight[e++] = p;
+      }
+    }
+    if (kept < 1 - 1e-12) exits[i] = 1;
+    for (let c = rowStart[i]; c < e; c++) slot[col[c]] = -1;
+  }
+  rowStart[n] = e;
+  for (let i = 0; i < n; i++) rowOf[states[i]] = -1;
+  const chain: PolicyChain = { nStates: model.nStates, states, rowStart, col: col.subarray(0, e), weight: weight.subarray(0, e), self };
+  const order = solveOrder({ n, rowStart, col: chain.col }, exits);
+  let converged = true;
+  let errorBound = 0;
+  for (let j = 0; j < rewards.length; j++) {
+    const res = solveChain(chain, rs[j], order, o);
+    const x = xs[j];
+    for (let i = 0; i < n; i++) x[states[i]] = res.values[i];
+    if (!res.converged) converged = false;
+    errorBound = Math.max(errorBound, res.errorBound);
+  }
+  return { converged, errorBound };
+}
+
 type Order = ReturnType<typeof solveOrder>;
 
 /** The component loop in row space. */
@@ -80,9 +162,10 @@ function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: Resolv
   let iterative = 0;
   for (let c = 0; c < count; c++) if (compStart[c + 1] - compStart[c] > Math.max(1, o.directMax)) iterative++;
   const dm = Math.max(1, o.directMax);
-  const dense = new Float64Array(dm * dm);
-  const rhs = new Float64Array(dm);
-  const local = new Int32Array(n).fill(-1);
+  // Buffers of the components of more than one state, allocated on first use (all singletons is common).
+  let dense: Float64Array | null = null;
+  let rhs: Float64Array | null = null;
+  let local: Int32Array | null = null;
   const scratch: Scratch = { tau: null, ones: null };
   let converged = true;
   let bound = 0;
@@ -114,8 +197,9 @@ function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: Resolv
         converged = false;
       }
     } else {
+      local ??= new Int32Array(n).fill(-1);
       const part = m <= o.directMax || gamma < 1 ? componentChain(chain, r, gamma, x, members, lo, hi, local) : null;
-      if (part && m <= o.directMax && denseComponent(part, gamma, x, members, lo, dense, rhs)) {
+      if (part && m <= o.directMax && denseComponent(part, gamma, x, members, lo, (dense ??= new Float64Array(dm * dm)), (rhs ??= new Float64Array(dm)))) {
         stats.directSolves++;
         stats.backups += m;
       } else {
