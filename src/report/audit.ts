@@ -8,6 +8,7 @@ import type { AuditDoc } from "./data.js";
 import { esc, token } from "./escape.js";
 import { ROLE } from "./palette.js";
 import { num } from "./sections.js";
+import { worseThanRandom } from "../util/share.js";
 
 /** A path of states to draw, with what it is. */
 export interface DrawnPath {
@@ -227,7 +228,7 @@ export function renderAuditSection(audit: AuditDoc, model?: FiniteModel | null):
   const head = `<p>Static checks of <b>${esc(audit.reward ?? "the reward")}</b> on <b>${esc(audit.env ?? "the environment")}</b>, solved exactly (no training): ${
     findings.length
   } finding${findings.length === 1 ? "" : "s"} (${["critical", "warning", "info"].map((s) => `${counts[s] ?? 0} ${s}`).join(", ")}).${
-    typeof audit.regretNorm === "number" ? ` The designer-optimal policy gives up <b>${esc(num(100 * audit.regretNorm, 1))}%</b> of the achievable intent (regret ${esc(num(audit.regret, 4))}).` : ""
+    typeof audit.regretNorm === "number" ? ` The designer-optimal policy ${audit.regretNorm > 1 ? `does <b>${esc(worseThanRandom(1 - audit.regretNorm))}</b>` : `gives up <b>${esc(num(100 * audit.regretNorm, 1))}%</b> of the achievable intent`} (regret ${esc(num(audit.regret, 4))}).` : ""
   }</p>`;
   const paths = auditPaths(audit, model);
   const drawing = drawingBlock(model, paths, "audit-evidence");

@@ -13,8 +13,22 @@ export const VERDICT_TEXT: Record<string, string> = {
   inconclusive: "too little progress on the designer reward to judge it",
 };
 
+/**
+ * A normalized score (0 = uniform random, 1 = optimal) or a share: a percentage only inside 0..1.
+ * Below 0 it reads "worse than random (-0.21)", above 1 "above optimal (1.05)": the number stays on
+ * the normalized scale, never a percentage below 0 or above 100.
+ */
 export function pct(x: number | null | undefined, digits = 0): string {
-  return typeof x === "number" && Number.isFinite(x) ? `${(100 * x).toFixed(digits)}%` : "–";
+  if (typeof x !== "number" || !Number.isFinite(x)) return "–";
+  if (x < 0) return `worse than random (${x.toFixed(2)})`;
+  if (x > 1) return `above optimal (${x.toFixed(2)})`;
+  return `${(100 * x).toFixed(digits)}%`;
+}
+
+/** A normalized regret (share of the random-to-optimal intent range given up); past 1, worse than random. */
+export function regretPct(x: number | null | undefined, digits = 1): string {
+  if (typeof x === "number" && x > 1) return pct(1 - x, digits);
+  return pct(x, digits);
 }
 
 export function num(x: unknown, digits = 3): string {

@@ -11,7 +11,7 @@ import { strengthOf, type AuditDoc, type PressureDoc } from "./data.js";
 import { esc } from "./escape.js";
 import { page } from "./page.js";
 import { renderPressureSection } from "./pressure.js";
-import { caution, facts, footer, kvTable, num, pct, sectionOpen } from "./sections.js";
+import { caution, facts, footer, kvTable, num, regretPct, sectionOpen } from "./sections.js";
 
 export interface StandaloneCommon {
   /** How the document was produced (flag -> value), shown in the reproduce section. */
@@ -94,7 +94,7 @@ export async function renderAuditReport(input: AuditReportInput): Promise<string
       { value: count("critical"), label: "critical" },
       { value: count("warning"), label: "warning" },
       { value: count("info"), label: "info" },
-      { value: typeof audit.regretNorm === "number" ? pct(audit.regretNorm, 1) : "–", label: "intent given up by the designer-optimal policy" },
+      { value: typeof audit.regretNorm === "number" ? regretPct(audit.regretNorm, 1) : "–", label: "intent given up by the designer-optimal policy" },
       { value: String((audit.loops ?? []).length), label: "reward loops" },
     ]),
   );

@@ -1,5 +1,6 @@
 import type { Command } from "commander";
 import { runSolve } from "../../app/solve.js";
+import { regretText } from "../../util/share.js";
 import { drawRoute } from "../../report/terminal.js";
 import { action, numberOption, type CliContext } from "../context.js";
 import { CAUTION, emit, formatNumber, paint, table, useColor } from "../io.js";
@@ -34,9 +35,10 @@ export function registerSolve(program: Command, ctx: CliContext): void {
           );
           const bad = r.regretNorm >= 0.3;
           const verdict = bad
-            ? paint(color, "red", `optimizing this reward gives up ${pct(r.regretNorm)} of the achievable intent`)
+            ? paint(color, "red", `optimizing this reward ${regretText(r.regretNorm)}`)
             : paint(color, "green", `optimizing this reward keeps ${pct(1 - r.regretNorm)} of the achievable intent`);
-          text += `\nregret ${formatNumber(r.regret)} (${pct(r.regretNorm)} of the range above random): ${verdict}\n`;
+          const share = r.regretNorm <= 1 ? ` (${pct(r.regretNorm)} of the range above random)` : "";
+          text += `\nregret ${formatNumber(r.regret)}${share}: ${verdict}\n`;
           const dRoute = drawRoute(model, r.designerOptimal.policy);
           const iRoute = drawRoute(model, r.intentOptimal.policy);
           if (dRoute) text += `\ndesigner-optimal route:\n${dRoute}\nintent-optimal route:\n${iRoute}`;
