@@ -7,6 +7,16 @@ import { strengthOf, type PressureDoc } from "./data.js";
 import { esc } from "./escape.js";
 import { num } from "./sections.js";
 
+const isRange = (r: unknown): r is { random: number; optimum: number } =>
+  !!r && typeof r === "object" && Number.isFinite((r as { random?: unknown }).random) && Number.isFinite((r as { optimum?: unknown }).optimum);
+
+/** The pressure file's random/optimum levels of both scores, when it has them (older files do not). */
+function scaleOf(x: unknown): { designer: { random: number; optimum: number }; intent: { random: number; optimum: number } } | null {
+  if (!x || typeof x !== "object") return null;
+  const { designer, intent } = x as { designer?: unknown; intent?: unknown };
+  return isRange(designer) && isRange(intent) ? { designer, intent } : null;
+}
+
 /** The section's inner HTML (one chart, `data-chart="pressure"`), or a note when there are no points. */
 export async function renderPressureSection(pressure: PressureDoc): Promise<string> {
   const points = (pressure.points ?? []).filter((p) => p && typeof p.strength === "number");
@@ -19,7 +29,7 @@ export async function renderPressureSection(pressure: PressureDoc): Promise<stri
   ];
   const fig = await chartFigure(
     "pressure",
-    pressureSpec(points, marks),
+    pressureSpec(points, marks, scaleOf(pressure.scale)),
     `Scores of the best policy at each strength of optimization toward the designer reward. ${
       peak !== null ? `Intent peaks at strength ${esc(num(peak, 3))}` : "No intent peak was reported"
     }${onset !== null ? `; decoupling sets in at ${esc(num(onset, 3))}: past it, more optimization of the designer reward buys less of the intended outcome.` : "; no onset of decoupling was found in the range tried."}`,

@@ -31,6 +31,31 @@ export function sparklines(r: RunResult): { designer: string; intent: string } {
   return { designer: sparkline(d, [lo, hi]), intent: sparkline(i, [lo, hi]) };
 }
 
+/** A score on its normalized scale: 0 = uniform random, 1 = optimal (the raw value when the two coincide). */
+export function normalizeScore(v: number, range: { random: number; optimum: number }): number {
+  const span = range.optimum - range.random;
+  return Math.abs(span) < 1e-12 ? 0 : (v - range.random) / span;
+}
+
+export interface PressureLike {
+  points: { strength: number; kl: number; designer: number; intent: number }[];
+  scale: { designer: { random: number; optimum: number }; intent: { random: number; optimum: number } };
+}
+
+/**
+ * Sparklines of a pressure curve: designer return and intent normalized (0 = uniform random, 1 =
+ * optimal) on one shared scale that always spans 0..1, so a wobble of 0.005 stays a flat line and the
+ * two rows compare; the KL row on its own scale from 0.
+ */
+export function pressureSparklines(c: PressureLike): { designer: string; intent: string; kl: string; designerNorm: number[]; intentNorm: number[] } {
+  const d = c.points.map((p) => normalizeScore(p.designer, c.scale.designer));
+  const i = c.points.map((p) => normalizeScore(p.intent, c.scale.intent));
+  const lo = Math.min(0, ...d, ...i);
+  const hi = Math.max(1, ...d, ...i);
+  const kl = c.points.map((p) => p.kl);
+  return { designer: sparkline(d, [lo, hi]), intent: sparkline(i, [lo, hi]), kl: sparkline(kl, [0, Math.max(1e-9, ...kl)]), designerNorm: d, intentNorm: i };
+}
+
 const ARROWS: Record<string, string> = { up: "↑", right: "→", down: "↓", left: "←", wait: "•", north: "↑", east: "→", south: "↓", west: "←" };
 
 /** The grid map with the route of `policy` drawn as arrows (first action taken in each cell). */
