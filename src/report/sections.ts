@@ -121,8 +121,10 @@ export function manifestBlock(m: RunManifest | null | undefined, fallbackConfig?
 <p>Running the same config with the same gapwatch version gives the same checkpoints, alerts and verdict (every random stream is derived from the seed by name).</p>`;
 }
 
-export function caution(): string {
-  return `<aside class="caution" data-caution><b>Evidence, not certification.</b>A clean result here is evidence about this reward on these scenarios, learners and seeds, not a certificate that the reward is safe. Where the outcome matters for safety, treat this report as one input to a review and defer to the safety standards of the domain and to licensed professional practice.</aside>`;
+/** The caution aside; `static` for exact results on a model (audit, pressure), which involve no learner or seed. */
+export function caution(kind: "training" | "static" = "training"): string {
+  const about = kind === "static" ? "this reward on this model, solved exactly (the model holds only what was put in it)" : "this reward on these scenarios, learners and seeds";
+  return `<aside class="caution" data-caution><b>Evidence, not certification.</b>A clean result here is evidence about ${about}, not a certificate that the reward is safe. Where the outcome matters for safety, treat this report as one input to a review and defer to the safety standards of the domain and to licensed professional practice.</aside>`;
 }
 
 export function footer(version: string | undefined, generatedAt: string): string {

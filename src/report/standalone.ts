@@ -101,7 +101,7 @@ export async function renderAuditReport(input: AuditReportInput): Promise<string
   parts.push(`${sectionOpen(++n, "Audit findings", "audit")}${renderAuditSection(audit, input.model ?? null)}</section>`);
   if (input.pressure) parts.push(`${sectionOpen(++n, "Optimization pressure", "pressure")}${await renderPressureSection(input.pressure)}</section>`);
   parts.push(settingsSection(++n, "gapwatch audit", { env, reward, ...input.settings }, "The audit is deterministic: the same model, reward and settings give the same findings."));
-  parts.push(caution());
+  parts.push(caution("static"));
   parts.push(footer(input.version, generatedAt));
   return page({
     title: `gapwatch · audit of ${reward} on ${env} · ${worstOf(findings) ?? "no findings"}`,
@@ -176,7 +176,7 @@ export async function renderPressureReport(input: PressureReportInput): Promise<
   }
   if (input.audit) parts.push(`${sectionOpen(++n, "Audit findings", "audit")}${renderAuditSection(input.audit, input.model ?? null)}</section>`);
   parts.push(settingsSection(++n, "gapwatch pressure", { env, reward, ...input.settings }, "The curve is computed exactly from the model; only --learners involves training, seeded by --seed."));
-  parts.push(caution());
+  parts.push(caution("static"));
   parts.push(footer(input.version, generatedAt));
   return page({
     title: `gapwatch · pressure on ${reward} on ${env}`,

@@ -7,7 +7,8 @@
 
 /** "0.21 times" / "1.98 times": how far below random a normalized score lies (norm < 0). */
 export function belowRandomGaps(norm: number): string {
-  return `${Math.abs(norm).toFixed(2)} times`;
+  const x = Math.abs(norm);
+  return `${x >= 0.1 ? x.toFixed(2) : x.toPrecision(2)} times`;
 }
 
 /** "worse than random behaviour (below random by 0.21 times the gap between random and optimal behaviour)". */

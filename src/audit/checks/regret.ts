@@ -148,7 +148,8 @@ export function groupRegretCheck(ctx: AuditContext): Finding[] {
   const bestServed = groups.reduce((a, b) => (b.regretNorm < a.regretNorm ? b : a));
   const gap = worst.regretNorm - bestServed.regretNorm;
   // A normalized regret above 1 means worse than random behaviour: said so, never as a percentage above 100.
-  const pct = (x: number) => (x > 1 ? `${x.toFixed(2)} times the range (worse than random behaviour)` : `${(100 * x).toFixed(1)}%`);
+  const share = (x: number) => (x > 1 ? `${x.toFixed(2)} times the range` : `${(100 * x).toFixed(1)}%`);
+  const pct = (x: number) => (x > 1 ? `${share(x)} (worse than random behaviour)` : share(x));
   if (gap < opts.groupGap) {
     return [
       {
@@ -164,7 +165,7 @@ export function groupRegretCheck(ctx: AuditContext): Finding[] {
     {
       check: "regret-by-group",
       severity,
-      message: `the reward serves group ${worst.group} markedly worse than ${bestServed.group}: normalized regret ${pct(worst.regretNorm)} vs ${pct(bestServed.regretNorm)} (gap ${pct(gap)} >= ${pct(opts.groupGap)}); an average over all starts hides this`,
+      message: `the reward serves group ${worst.group} markedly worse than ${bestServed.group}: normalized regret ${pct(worst.regretNorm)} vs ${pct(bestServed.regretNorm)} (gap ${share(gap)} >= ${share(opts.groupGap)}); an average over all starts hides this`,
       evidence: { groups, gap, threshold: opts.groupGap, worst: worst.group },
     },
   ];

@@ -37,6 +37,8 @@ export interface WeightInterval {
   /** Distance from the current weight to the nearest edge (ok) or to fixAt (not ok); Infinity if none. */
   distance: number;
   probes: number;
+  /** The weights the search tried, lowest and highest: w0 -+ 64 * scale (see the module comment). */
+  searched: [number, number];
 }
 
 const STEPS = 10;
@@ -160,11 +162,11 @@ export function weightIntervals(ctx: AuditContext, features?: string[]): WeightI
     const down = edge(-1);
     const up = edge(1);
     if (ok0) {
-      out.push({ feature, weight: w0, okAtCurrent: true, lo: down, hi: up, fixAt: null, distance: Math.min(w0 - down, up - w0), probes });
+      out.push({ feature, weight: w0, okAtCurrent: true, lo: down, hi: up, fixAt: null, distance: Math.min(w0 - down, up - w0), probes, searched: [w0 - 64 * scale, w0 + 64 * scale] });
     } else {
       const cands = [down, up].filter((x) => Number.isFinite(x));
       const fixAt = cands.length ? cands.reduce((a, b) => (Math.abs(a - w0) <= Math.abs(b - w0) ? a : b)) : null;
-      out.push({ feature, weight: w0, okAtCurrent: false, lo: null, hi: null, fixAt, distance: fixAt === null ? Infinity : Math.abs(fixAt - w0), probes });
+      out.push({ feature, weight: w0, okAtCurrent: false, lo: null, hi: null, fixAt, distance: fixAt === null ? Infinity : Math.abs(fixAt - w0), probes, searched: [w0 - 64 * scale, w0 + 64 * scale] });
     }
   }
   return out;
@@ -192,7 +194,7 @@ export function sensitivityCheck(ctx: AuditContext): Finding[] {
         severity: "info",
         message:
           w.fixAt === null
-            ? `no value of the ${w.feature} weight alone (within ${fmt(64 * scale)} of ${w.weight}) makes the designer-optimal policy intent-optimal`
+            ? `changing the ${w.feature} weight alone (now ${w.weight}; every value from ${fmt(w.searched[0])} to ${fmt(w.searched[1])} was tried, the other weights kept as they are) never makes the designer-optimal policy intent-optimal`
             : `setting the ${w.feature} weight to ${fmt(w.fixAt)} (now ${w.weight}) would make the designer-optimal policy intent-optimal`,
         evidence: { ...w },
       });

@@ -2,8 +2,9 @@ import type { Command } from "commander";
 import { runSolve } from "../../app/solve.js";
 import { regretText } from "../../util/share.js";
 import { drawRoute } from "../../report/terminal.js";
+import { STATIC_CAUTION } from "../caution.js";
 import { action, numberOption, type CliContext } from "../context.js";
-import { CAUTION, emit, formatNumber, paint, table, useColor } from "../io.js";
+import { emit, formatNumber, paint, table, useColor } from "../io.js";
 import { envOption, jsonOption, maxItersOf, maxItersOption, maxStatesOf, maxStatesOption, rewardOption } from "../options.js";
 
 export function registerSolve(program: Command, ctx: CliContext): void {
@@ -42,7 +43,7 @@ export function registerSolve(program: Command, ctx: CliContext): void {
           const dRoute = drawRoute(model, r.designerOptimal.policy);
           const iRoute = drawRoute(model, r.intentOptimal.policy);
           if (dRoute) text += `\ndesigner-optimal route:\n${dRoute}\nintent-optimal route:\n${iRoute}`;
-          text += `\nExact values on the model. ${CAUTION}\n`;
+          text += `\nExact values on the model. ${STATIC_CAUTION}\n`;
           return text;
         });
       }),
