@@ -12,7 +12,7 @@ import { esc, token } from "./escape.js";
 import { page } from "./page.js";
 import { renderPressureSection } from "./pressure.js";
 import { numberedAlerts } from "./run-report.js";
-import { alertList, caution, footer, kvTable, num, pct, scoreKey, sectionOpen, verdictBand } from "./sections.js";
+import { alertList, caution, fixed, footer, kvTable, pct, scoreKey, sectionOpen, verdictBand } from "./sections.js";
 
 type Variant = ComparisonDoc["variants"][number];
 const VERDICTS = ["decoupled", "inconclusive", "aligned"] as const;
@@ -76,9 +76,10 @@ function runsOf(name: string, runs: RunResult[]): RunResult[] {
   return runs.filter((r) => r.config.reward === name);
 }
 
+/** A score with its interval, every number with two decimals (one format across the table). */
 function ivText(point: unknown, ci: unknown): string {
   const [lo, hi] = interval(ci);
-  return `${num(point, 2)}${Number.isFinite(lo) ? ` [${num(lo, 2)}, ${num(hi, 2)}]` : ""}`;
+  return `${fixed(point, 2)}${Number.isFinite(lo) ? ` [${fixed(lo, 2)}, ${fixed(hi, 2)}]` : ""}`;
 }
 
 export async function renderComparisonReport(data: ComparisonReportData): Promise<string> {
@@ -91,8 +92,11 @@ export async function renderComparisonReport(data: ComparisonReportData): Promis
   const maj = new Map(order.map((name) => [name, majority(counts.get(name)!)]));
   const decoupled = order.filter((n) => maj.get(n) === "decoupled");
   const aligned = order.filter((n) => maj.get(n) === "aligned");
-  const overall = decoupled.length > 0 ? "decoupled" : aligned.length === order.length && order.length > 0 ? "aligned" : "inconclusive";
   const best = order[0];
+  // The band never calls a comparison decoupled when its best variants stay aligned: "mixed" then, and
+  // the reason names the variants that decouple.
+  const overall =
+    decoupled.length > 0 ? (best !== undefined && maj.get(best) === "aligned" ? "mixed" : "decoupled") : aligned.length === order.length && order.length > 0 ? "aligned" : "inconclusive";
   const bestV = best ? byName.get(best) : undefined;
   const reason =
     `${decoupled.length} of ${order.length} variant${order.length === 1 ? "" : "s"} decouple${decoupled.length === 1 ? "s" : ""} from intent in most runs` +

@@ -5,7 +5,7 @@
 import { chartFigure, pressureSpec } from "./charts.js";
 import { strengthOf, type PressureDoc } from "./data.js";
 import { esc } from "./escape.js";
-import { num } from "./sections.js";
+import { columnFormatter, num } from "./sections.js";
 
 const isRange = (r: unknown): r is { random: number; optimum: number } =>
   !!r && typeof r === "object" && Number.isFinite((r as { random?: unknown }).random) && Number.isFinite((r as { optimum?: unknown }).optimum);
@@ -34,8 +34,11 @@ export async function renderPressureSection(pressure: PressureDoc): Promise<stri
       peak !== null ? `Intent peaks at strength ${esc(num(peak, 3))}` : "No intent peak was reported"
     }${onset !== null ? `; decoupling sets in at ${esc(num(onset, 3))}: past it, more optimization of the designer reward buys less of the intended outcome.` : "; no onset of decoupling was found in the range tried."}`,
   );
+  // One format per column (fixed decimals, or exponential for the whole column when it needs it).
+  const col = (k: "strength" | "kl" | "designer" | "intent") => columnFormatter(points.map((p) => (typeof p[k] === "number" ? (p[k] as number) : NaN)), 4);
+  const [fs, fk, fd, fi] = [col("strength"), col("kl"), col("designer"), col("intent")];
   const rows = points
-    .map((p) => `<tr><td class="num">${esc(num(p.strength, 4))}</td><td class="num">${esc(num(p.kl, 4))}</td><td class="num">${esc(num(p.designer, 4))}</td><td class="num">${esc(num(p.intent, 4))}</td></tr>`)
+    .map((p) => `<tr><td class="num">${esc(fs(p.strength))}</td><td class="num">${esc(fk(p.kl))}</td><td class="num">${esc(fd(p.designer))}</td><td class="num">${esc(fi(p.intent))}</td></tr>`)
     .join("");
   return `${fig}<details><summary>the ${points.length} points</summary><table class="data"><thead><tr><th class="num">strength</th><th class="num">KL from reference</th><th class="num">designer</th><th class="num">intent</th></tr></thead><tbody>${rows}</tbody></table></details>`;
 }

@@ -11,7 +11,22 @@ export const VERDICT_TEXT: Record<string, string> = {
   decoupled: "the designer reward was optimized without the intended outcome",
   aligned: "optimizing the designer reward also produced the intended outcome",
   inconclusive: "too little progress on the designer reward to judge it",
+  mixed: "the best variants keep the intended outcome; others decouple from it",
 };
+
+/** A number with a fixed count of decimals (for a column or a table that must read in one format). */
+export function fixed(x: unknown, digits = 2): string {
+  return typeof x === "number" && Number.isFinite(x) ? x.toFixed(digits) : "–";
+}
+
+/**
+ * One format for a whole column: fixed decimals, or, when some non-zero value is below 1e-3 or at
+ * least 1e6 in size, exponential for every value of the column.
+ */
+export function columnFormatter(values: readonly number[], digits = 4): (x: unknown) => string {
+  const expo = values.some((v) => Number.isFinite(v) && v !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e6));
+  return (x) => (typeof x !== "number" || !Number.isFinite(x) ? "–" : expo ? x.toExponential(Math.max(1, digits - 1)) : x.toFixed(digits));
+}
 
 /**
  * A normalized score (0 = uniform random, 1 = optimal) or a share: a percentage only inside 0..1.
