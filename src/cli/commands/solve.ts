@@ -40,7 +40,7 @@ export function registerSolve(program: Command, ctx: CliContext): void {
             : paint(color, "green", `optimizing this reward keeps ${pct(1 - r.regretNorm)} of the achievable intent`);
           const share = r.regretNorm <= 1 ? ` (${pct(r.regretNorm)} of the range above random)` : "";
           text += `\nregret ${formatNumber(r.regret)}${share}: ${verdict}\n`;
-          const dRoute = drawRoute(model, r.designerOptimal.policy);
+          const dRoute = drawRoute(model, r.designerOptimal.policy, { legend: false });
           const iRoute = drawRoute(model, r.intentOptimal.policy);
           if (dRoute) text += `\ndesigner-optimal route:\n${dRoute}\nintent-optimal route:\n${iRoute}`;
           text += `\nExact values on the model. ${STATIC_CAUTION}\n`;
