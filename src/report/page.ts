@@ -55,6 +55,7 @@ table.data td.num,table.data th.num{text-align:right}
 .finding{border-top:1px solid var(--rule);padding:10px 0}
 .finding:first-of-type{border-top:0}
 .finding .msg{margin:4px 0 6px}
+ul.ev{margin:4px 0 6px 18px;padding:0;font-size:12.5px;color:var(--muted)}ul.ev li{margin:1px 0}
 dl.ev{display:grid;grid-template-columns:max-content 1fr;gap:2px 12px;margin:4px 0;font-size:12.5px}
 dl.ev dt{color:var(--muted)}dl.ev dd{margin:0;word-break:break-word}
 .drawing{display:flex;gap:18px;flex-wrap:wrap;align-items:flex-start;margin:8px 0}
