@@ -35,7 +35,7 @@ export function columnFormatter(values: readonly number[], digits = 4): (x: unkn
  */
 export function pct(x: number | null | undefined, digits = 0): string {
   if (typeof x !== "number" || !Number.isFinite(x)) return "–";
-  if (x < 0) return `worse than random (${x.toFixed(2)})`;
+  if (x < 0) return `worse than random (${x <= -0.1 ? x.toFixed(2) : x.toPrecision(2)})`;
   if (x > 1) return `above optimal (${x.toFixed(2)})`;
   return `${(100 * x).toFixed(digits)}%`;
 }
