@@ -12,6 +12,7 @@ import { esc, token } from "./escape.js";
 import { page } from "./page.js";
 import { renderPressureSection } from "./pressure.js";
 import { numberedAlerts } from "./run-report.js";
+import { wordsTable } from "./evidence.js";
 import { alertList, caution, fixed, footer, kvTable, pct, scoreKey, sectionOpen, verdictBand } from "./sections.js";
 
 type Variant = ComparisonDoc["variants"][number];
@@ -215,7 +216,7 @@ export async function renderComparisonReport(data: ComparisonReportData): Promis
   };
   const extra = Object.fromEntries(Object.entries(doc).filter(([k, v]) => !["variants", "pairs", "ranking", "env"].includes(k) && (typeof v !== "object" || v === null || JSON.stringify(v).length < 400)));
   parts.push(
-    `${sectionOpen(++n, "Reproduce this comparison", "manifest")}${kvTable(repro)}${Object.keys(extra).length ? `<h3>Other settings in comparison.json</h3>${kvTable(extra)}` : ""}${
+    `${sectionOpen(++n, "Reproduce this comparison", "manifest")}${kvTable(repro)}${Object.keys(extra).length ? `<h3>Other settings in comparison.json</h3>${wordsTable(extra)}` : ""}${
       m ? `<h3>Resolved config of the first run</h3><pre>${esc(JSON.stringify(m.config, null, 2))}</pre>` : ""
     }<p>Each run directory holds its own manifest.json with its resolved config and seeds.</p></section>`,
   );

@@ -144,3 +144,9 @@ export function evidenceList(evidence: unknown): string {
     });
   return items.length ? `<ul class="ev">${items.join("")}</ul>` : "";
 }
+
+/** A two-column table of settings in words (keys phrased as above, values without JSON), safe HTML. */
+export function wordsTable(obj: Record<string, unknown>): string {
+  const rows = Object.entries(obj).filter(([, v]) => v !== undefined);
+  return `<table class="data"><tbody>${rows.map(([k, v]) => `<tr><th>${esc(keyWords(k))}</th><td class="mono">${esc(valueWords(k, v))}</td></tr>`).join("")}</tbody></table>`;
+}
