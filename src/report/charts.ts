@@ -120,7 +120,8 @@ export function rawCurvesSpec(points: CurvePoint[], refs: { designerOptimal: num
               { data: { values: ref }, mark: { type: "rule", color: "#8c95a5", strokeDash: [1, 3] }, encoding: { y: { field: "value", type: "quantitative" } } },
               {
                 data: { values: ref },
-                mark: { type: "text", color: ROLE.muted, align: "right", baseline: "bottom", dy: -2, fontSize: 10, x: "width" },
+                // In the right margin, off the curves (a curve that reaches its optimum ends on that line).
+                mark: { type: "text", color: ROLE.muted, align: "left", baseline: "middle", dx: 6, fontSize: 10, x: "width" },
                 encoding: { y: { field: "value", type: "quantitative" }, text: { field: "what", type: "nominal" } },
               },
             ]
