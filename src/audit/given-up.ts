@@ -1,8 +1,8 @@
 /**
- * What the designer-optimal route gives up, for the regret picture: the states on its most likely
- * path (from every start state) where the designer's action has a lower expected intent than every
- * step of the intent-optimal route from the same start — the cells it tramples, or the risks it runs,
- * that the intended behaviour avoids. Pure.
+ * What the designer-optimal route gives up, for the regret picture: the states its most likely path
+ * (from every start state) enters by a step whose expected intent is lower than that of every step of
+ * the intent-optimal route from the same start — the cells it tramples, or the risks it runs, that the
+ * intended behaviour avoids. Pure.
  */
 import { tracePolicy } from "../model/likely-path.js";
 import type { FiniteModel } from "../model/types.js";
@@ -26,7 +26,8 @@ export function givenUpStates(model: FiniteModel, designerPolicy: Int32Array, in
     if (!Number.isFinite(floor)) floor = 0;
     const bad = tracePolicy(model, designerPolicy, s0);
     const tol = 1e-9 * (1 + Math.abs(floor));
-    for (let t = 0; t < bad.actions.length; t++) if (q[bad.states[t] * nA + bad.actions[t]] < floor - tol) out.add(bad.states[t]);
+    // Mark the cell the step enters (its most likely outcome): the trampled cell, or the risky plate.
+    for (let t = 0; t < bad.actions.length; t++) if (q[bad.states[t] * nA + bad.actions[t]] < floor - tol) out.add(bad.states[t + 1] ?? bad.states[t]);
   }
   return [...out];
 }

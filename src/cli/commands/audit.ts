@@ -91,7 +91,8 @@ function overlay(model: Parameters<typeof drawStates>[0], layers: [readonly numb
   const out = [...base];
   for (const [states, mark] of layers) {
     const pic = drawStates(model, states, mark);
-    if (pic) [...pic].forEach((ch, i) => ch !== base[i] && i < out.length && (out[i] = ch));
+    // Start, goal, item and tag glyphs stay visible under the marks.
+    if (pic) [...pic].forEach((ch, i) => ch !== base[i] && i < out.length && !/[@1-9*+?]/.test(base[i]) && (out[i] = ch));
   }
   return out.join("");
 }
