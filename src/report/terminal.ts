@@ -2,6 +2,7 @@
  * Pictures for the terminal: a policy's route drawn on a grid map, a track strip, and sparklines of a
  * run's score series. Pure functions; no I/O.
  */
+import { startStates } from "../audit/given-up.js";
 import { GRID_LEGEND } from "../model/grid-map.js";
 import { likelyPath, tracePolicy } from "../model/likely-path.js";
 import type { FiniteModel } from "../model/types.js";
@@ -62,13 +63,6 @@ const ARROWS: Record<string, string> = { up: "↑", right: "→", down: "↓", l
 /** Map characters a route arrow may cover (floor and terrain); starts, goals, items, tags and hazards stay visible. */
 const COVERABLE = new Set([".", "%", "=", "^", ">", "v", "<", " "]);
 
-/** Start states of a model (positive start probability), in state order. */
-function starts(model: FiniteModel): number[] {
-  const out: number[] = [];
-  for (let s = 0; s < model.nStates; s++) if (model.start[s] > 0) out.push(s);
-  return out;
-}
-
 /**
  * The grid map with the route of `policy` from every start state drawn as arrows (first action taken
  * in each cell, most likely outcome of each move), and a legend line under it naming the map
@@ -79,7 +73,7 @@ export function drawGridRoute(model: FiniteModel, policy: Int32Array, opts: { le
   if (!lay || lay.kind !== "grid") return null;
   const rows = lay.map.map((line) => [...line.padEnd(lay.cols, " ")]);
   const marked = new Set<number>();
-  for (const s0 of starts(model)) {
+  for (const s0 of startStates(model)) {
     const { states, actions } = tracePolicy(model, policy, s0);
     for (let i = 0; i < actions.length; i++) {
       const cell = lay.cellOf[states[i]];
