@@ -147,7 +147,11 @@ describe.skipIf(!HAVE_CHROMIUM)("reports a reader understands (headless Chromium
     const p = await cli(["pressure", "--env", "quench-hall-run", "--reward", "light-loss", "--runs-dir", "pr", "--report", "--json"]);
     const doc = JSON.parse(p.stdout);
     expect(doc.onset).toBeGreaterThanOrEqual(doc.peak.strength);
-    const { page } = await openAndCheck(doc.report, "readable-pressure.png", null);
+    const { page, text } = await openAndCheck(doc.report, "readable-pressure.png", null);
+    // The caption places the curve on the intent scale, from the document's own numbers.
+    const n = (v: number) => (v - doc.scale.intent.random) / (doc.scale.intent.optimum - doc.scale.intent.random);
+    const ints = doc.points.map((q: { intent: number }) => n(q.intent));
+    expect(text).toContain(`reaches ${Math.max(...ints).toFixed(2)} at its peak and ends at ${ints[ints.length - 1].toFixed(2)}`);
     // Axis labels Chromium lays out on the chart: more than the two ends, and the peak among them.
     const labels = await page.locator('[data-chart="pressure"] svg .role-axis-label text').allTextContents();
     expect(labels.length).toBeGreaterThan(3);
