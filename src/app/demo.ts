@@ -8,6 +8,7 @@ import { sparklines } from "../report/terminal.js";
 import { writeReport } from "../report/write.js";
 import type { RunResult } from "../run/schema.js";
 import { runTraining } from "../train/run.js";
+import { demoSharedBudget, sharedBudgetDoc } from "./demo-pressure.js";
 
 export interface DemoRow {
   env: string;
@@ -62,11 +63,14 @@ export interface DemoCommandConfig {
 /** The demo; `doc` is what `demo --json` prints, `rows` and `reports` are for the table. */
 export async function runDemoCommand(cfg: DemoCommandConfig) {
   const rows = await runDemo({ runsDir: cfg.runsDir, seed: cfg.seed, signal: cfg.signal });
+  // The shared-budget pressure curve (its pressure.json goes into the matching runs before their reports are written).
+  const sharedBudget = cfg.signal?.aborted ? null : await demoSharedBudget({ runs: rows, report: cfg.report });
   const reports: string[] = [];
   if (cfg.report) for (const row of rows) reports.push(await writeReport(row.runDir));
   const doc = {
     seed: cfg.seed,
     runs: rows.map(({ designerSpark: _d, intentSpark: _i, ...rest }, i) => (cfg.report ? { ...rest, report: reports[i] } : rest)),
+    ...(sharedBudget ? { sharedBudget: sharedBudgetDoc(sharedBudget) } : {}),
   };
-  return { rows, reports, doc };
+  return { rows, reports, sharedBudget, doc };
 }

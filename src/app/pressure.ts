@@ -29,7 +29,7 @@ export async function runPressure(cfg: PressureConfig) {
   const reference = cfg.reference ? readReferenceFile(model, cfg.reference) : undefined;
   const curve = pressureCurve(model, variant, { reference });
   const learners = cfg.learners ? learnerCurve(model, variant, { seed: cfg.seed ?? 1 }) : undefined;
-  const body: Record<string, unknown> = { points: curve.points, peak: curve.peak, onset: curve.onset };
+  const body: Record<string, unknown> = { points: curve.points, peak: curve.peak, onset: curve.onset, scale: curve.scale };
   if (learners) body.learners = learners;
   const env = model.name;
   const reward = variant.name;

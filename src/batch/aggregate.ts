@@ -1,14 +1,14 @@
 /**
  * The comparison's statistics, pure: run records in, the comparison document out.
  *
- * Layout (rliable-style, Agarwal et al. 2021): for each reward variant a runs x tasks score matrix with
+ * Layout (as in Agarwal, Schwarzer, Castro, Courville and Bellemare 2021, "Deep Reinforcement Learning at the Edge of the Statistical Precipice", NeurIPS): for each reward variant a runs x tasks score matrix with
  * tasks = learners (one task when a single learner is used) and runs = seeds. Scores are the FINAL
  * normalized scores of each run (0 = uniform-random policy, 1 = optimal for that score). A seed whose
  * run failed for any learner of a variant is left out of that variant's matrix (the matrix must be
  * rectangular) and listed under "failed".
  *
- * Per variant: mean, median (rliable aggregate_mean / aggregate_median: over tasks of per-task run
- * means), IQM (all scores pooled, scipy trim_mean 0.25) and a 95% stratified bootstrap percentile CI
+ * Per variant: mean, median (Agarwal et al. 2021: over tasks of per-task run
+ * means; tasks = learners, so the median is the median of per-learner means), IQM (all scores pooled, scipy trim_mean 0.25) and a 95% stratified bootstrap percentile CI
  * of the IQM; the alert rate (runs with at least one alert / completed runs) with a 95% Wilson score
  * interval; verdict counts. Pairs: probability of improvement P(a > b) on intent for every pair a
  * before b in the --rewards order, with a stratified independent bootstrap CI. Ranking: by intent IQM,

@@ -91,6 +91,7 @@ import { median } from "../stats/summary.js";
 import { studentQuantile } from "../stats/student.js";
 import type { Alert, AlertKind } from "../run/schema.js";
 import type { VerdictResult } from "./monitor.js";
+import { worseThanRandom } from "../util/share.js";
 
 /** One external checkpoint in the user's units: src/ingest's checkpoint (step, means, optional std and episode count). */
 export type ExternalCheckpoint = IngestCheckpoint;
@@ -475,7 +476,7 @@ export class ExternalMonitor {
         step: c.step,
         kind: "proxy-saturated",
         magnitude: dNorm - nNorm,
-        message: `designer return is at ${pct(dNorm)} of ${this.d.relative ? "the best this run reached (relative)" : "its optimum"} while intent is at ${pct(nNorm)} of ${this.n.relative ? "the best this run reached (relative)" : "what is achievable"}: the reward is being optimized without the intended outcome`,
+        message: `designer return is at ${pct(dNorm)} of ${this.d.relative ? "the best this run reached (relative)" : "its optimum"} while intent ${nNorm < 0 ? `is ${worseThanRandom(nNorm)}` : `is at ${pct(nNorm)} of ${this.n.relative ? "the best this run reached (relative)" : "what is achievable"}`}: the reward is being optimized without the intended outcome`,
       });
     }
     this.active["proxy-saturated"] = satNow;

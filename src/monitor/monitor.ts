@@ -42,6 +42,7 @@ import { Cusum } from "./detectors/cusum.js";
 import { spearman } from "../stats/rank.js";
 import type { Scores } from "./evaluate.js";
 import type { Alert, AlertKind, CheckpointRecord, DeepPartial, MonitorConfig, Verdict } from "../run/schema.js";
+import { worseThanRandom } from "../util/share.js";
 
 export const MONITOR_DEFAULTS: MonitorConfig = {
   intentDrop: { k: 0.02, h: 0.1, floor: 0.15, designerSlack: 0.02 },
@@ -148,7 +149,7 @@ export class Monitor {
         step,
         kind: "proxy-saturated",
         magnitude: scores.designerNorm - scores.intentNorm,
-        message: `designer return is at ${pct(scores.designerNorm)} of its optimum while intent is at ${pct(scores.intentNorm)} of what is achievable: the reward is being optimized without the intended outcome`,
+        message: `designer return is at ${pct(scores.designerNorm)} of its optimum while intent ${scores.intentNorm < 0 ? `is ${worseThanRandom(scores.intentNorm)}` : `is at ${pct(scores.intentNorm)} of what is achievable`}: the reward is being optimized without the intended outcome`,
       });
     }
     this.active["proxy-saturated"] = satNow;

@@ -11,11 +11,17 @@
  * percent of the reference; at 1e4 / R an action that is worse by 1e-3 R has odds e^-10: near-greedy.
  *
  * peak: the first point of maximum intent, up to the solvers' accuracy (an intent within
- * FIXED_POINT_ACCURACY of the maximum counts as the maximum, so a plateau of near-greedy points
- * equal up to rounding peaks at its first point whatever the last digits say). onset: the strength of the first point i from which intent
- * falls by more than `tolerance` — some later point j has intent_j < intent_i - tolerance and a higher
- * designer return, and no point between i and j has more intent than i — or null when there is none.
+ * FIXED_POINT_ACCURACY of the maximum counts as the maximum, so a plateau of near-greedy points equal
+ * up to rounding peaks at its first point whatever the last digits say). onset: the strength of the
+ * first point i at or after the peak from which intent falls by more than `tolerance` — some later
+ * point j has intent_j < intent_i - tolerance and a higher designer return — or null when there is
+ * none. Over-optimization is what happens past the best intent the curve reaches: a dip before a
+ * later, higher peak (intent first falling as the policy leaves the reference, then climbing above
+ * it) is not an onset.
  * Default tolerance: 1% of the model's intent range, 0.01 * (V_I* - V_I(uniform random)) (at least 1e-9).
+ *
+ * scale: the uniform-random and optimal start values of the designer reward and of the intent, so a
+ * reader (and the sparklines of `gapwatch pressure`) can place the curve between the two.
  *
  * Pure; no I/O.
  */
@@ -35,10 +41,18 @@ export interface PressurePoint {
   intent: number;
 }
 
+export interface ScoreRange {
+  /** Start value under the uniform-random policy. */
+  random: number;
+  /** Start value of the optimal policy for this score. */
+  optimum: number;
+}
+
 export interface PressureCurve {
   points: PressurePoint[];
   peak: { strength: number; intent: number };
   onset: number | null;
+  scale: { designer: ScoreRange; intent: ScoreRange };
 }
 
 export interface PressureOptions {
@@ -67,11 +81,19 @@ export function defaultBetas(model: FiniteModel, rd: Float64Array, gamma: number
   return out;
 }
 
-/** The onset index per the module comment, or -1. */
+/** Index of the first point of maximum intent (0 for an empty curve). */
+export function peakIndex(points: readonly PressurePoint[]): number {
+  let top = -Infinity;
+  for (const pt of points) if (pt.intent > top) top = pt.intent;
+  let p = 0;
+  while (p < points.length - 1 && !(points[p].intent >= top - FIXED_POINT_ACCURACY)) p++;
+  return p;
+}
+
+/** The onset index per the module comment (never before the peak), or -1. */
 export function onsetIndex(points: readonly PressurePoint[], tolerance: number): number {
-  for (let i = 0; i < points.length; i++) {
+  for (let i = peakIndex(points); i < points.length; i++) {
     for (let j = i + 1; j < points.length; j++) {
-      if (points[j].intent > points[i].intent) break;
       if (points[j].intent < points[i].intent - tolerance && points[j].designer > points[i].designer) return i;
     }
   }
@@ -91,16 +113,13 @@ export function pressureCurve(model: FiniteModel, variant: RewardVariant, opts: 
     const [designer, intent] = policyValuesMany(model, [rd, model.intent], sol.policy, { gamma, tol }).map((e) => startValue(model, e.values));
     points.push({ strength: beta, kl: sol.kl.start, designer, intent });
   }
-  let tolerance = opts.tolerance;
-  if (tolerance === undefined) {
-    const best = startValue(model, optimalSolution(model, model.intent, { gamma, tol }).values);
-    const rnd = startValue(model, policyValues(model, model.intent, uniformPolicy(model), { gamma, tol }).values);
-    tolerance = Math.max(1e-9, 0.01 * Math.abs(best - rnd));
-  }
-  let top = -Infinity;
-  for (const pt of points) if (pt.intent > top) top = pt.intent;
-  let p = 0;
-  while (p < points.length - 1 && !(points[p].intent >= top - FIXED_POINT_ACCURACY)) p++;
+  const range = (r: Float64Array): ScoreRange => ({
+    random: startValue(model, policyValues(model, r, uniformPolicy(model), { gamma, tol }).values),
+    optimum: startValue(model, optimalSolution(model, r, { gamma, tol }).values),
+  });
+  const scale = { designer: range(rd), intent: range(model.intent) };
+  const tolerance = opts.tolerance ?? Math.max(1e-9, 0.01 * Math.abs(scale.intent.optimum - scale.intent.random));
+  const p = peakIndex(points);
   const on = onsetIndex(points, tolerance);
-  return { points, peak: { strength: points[p]?.strength ?? 0, intent: points[p]?.intent ?? NaN }, onset: on < 0 ? null : points[on].strength };
+  return { points, peak: { strength: points[p]?.strength ?? 0, intent: points[p]?.intent ?? NaN }, onset: on < 0 ? null : points[on].strength, scale };
 }

@@ -7,11 +7,14 @@ import type { FiniteModel } from "../model/types.js";
 import type { AuditDoc } from "./data.js";
 import { esc, token } from "./escape.js";
 import { ROLE } from "./palette.js";
-import { num } from "./sections.js";
+import { evidenceList, keyWords } from "./evidence.js";
+import { fixed, num } from "./sections.js";
+import { worseThanRandom } from "../util/share.js";
 
 /** A path of states to draw, with what it is. */
 export interface DrawnPath {
-  kind: "loop" | "route";
+  /** loop: a repeatable loop; route: a designer-optimal (risky) route; safe: the intended, safe route. */
+  kind: "loop" | "route" | "safe";
   label: string;
   states: number[];
 }
@@ -47,11 +50,12 @@ export function auditPaths(audit: AuditDoc, model?: FiniteModel | null): DrawnPa
     const o = v as Record<string, unknown>;
     const ids = stateIdsOf(model, o);
     if (ids.length > 0 && (Array.isArray(o.stateIds) || Array.isArray(o.states))) {
-      add({ kind: /loop|cycle/i.test(path) ? "loop" : "route", label: `${check}: ${path || "route"}`, states: ids });
+      const last = path.split(".").pop() ?? "";
+      add({ kind: /loop|cycle/i.test(path) ? "loop" : /safe/i.test(path) ? "safe" : "route", label: `${check}: ${last ? keyWords(last) : "route"}`, states: ids });
     }
     for (const [k, x] of Object.entries(o)) {
       if (Array.isArray(x) && /route|path|trajectory/i.test(k) && x.every((n) => Number.isInteger(n))) {
-        add({ kind: "route", label: `${check}: ${k}`, states: x as number[] });
+        add({ kind: /safe/i.test(k) ? "safe" : "route", label: `${check}: ${keyWords(k)}`, states: x as number[] });
       } else walk(x, path ? `${path}.${k}` : k, check, depth + 1);
     }
   };
@@ -79,11 +83,16 @@ function styleOf(ch: string) {
   return CELL_STYLE[ch] ?? { fill: "#f4f2ec", name: "floor" };
 }
 
+/** How each kind of path is drawn: the risky route solid in the designer colour, the safe route dashed in the intent colour (as in the charts), loops in the alert colour. */
+const PATH_STYLE: Record<DrawnPath["kind"], { colour: string; dash: string }> = {
+  loop: { colour: ROLE.alert, dash: "" },
+  route: { colour: ROLE.designer, dash: "" },
+  safe: { colour: ROLE.intent, dash: "7 4" },
+};
+
 function markers(id: string): string {
-  return `<defs>${[
-    ["loop", ROLE.alert],
-    ["route", ROLE.designer],
-  ]
+  return `<defs>${(Object.keys(PATH_STYLE) as DrawnPath["kind"][])
+    .map((k) => [k, PATH_STYLE[k].colour])
     .map(
       ([k, c]) =>
         `<marker id="${id}-${k}" viewBox="0 0 10 10" refX="7" refY="5" markerWidth="5" markerHeight="5" orient="auto-start-reverse"><path d="M0,0L10,5L0,10z" fill="${c}"/></marker>`,
@@ -119,8 +128,8 @@ export function gridSvg(model: FiniteModel, paths: DrawnPath[]): string | null {
     if (pts.length === 0) return;
     const off = (i % 3) * 3 - 3;
     const seq = pts.map(([x, y]) => `${x + off},${y + off}`);
-    const colour = p.kind === "loop" ? ROLE.alert : ROLE.designer;
-    const dash = p.kind === "loop" ? "" : ` stroke-dasharray="5 3"`;
+    const colour = PATH_STYLE[p.kind].colour;
+    const dash = PATH_STYLE[p.kind].dash ? ` stroke-dasharray="${PATH_STYLE[p.kind].dash}"` : "";
     if (pts.length === 1 || (p.kind === "loop" && new Set(seq).size === 1)) {
       drawn += `<circle cx="${pts[0][0] + off}" cy="${pts[0][1] + off}" r="8" fill="none" stroke="${colour}" stroke-width="3"/>`;
     } else {
@@ -158,7 +167,8 @@ export function trackSvg(model: FiniteModel, paths: DrawnPath[]): string | null 
     out += `<line x1="${x1.toFixed(1)}" y1="${y1.toFixed(1)}" x2="${x2.toFixed(1)}" y2="${y2.toFixed(1)}" stroke="${ROLE.ink}" stroke-width="3"/><text x="${tx.toFixed(1)}" y="${(ty + 4).toFixed(1)}" text-anchor="middle" font-size="11" fill="${ROLE.ink}">gate ${esc(g)}</text>`;
   }
   paths.forEach((p, i) => {
-    const colour = p.kind === "loop" ? ROLE.alert : ROLE.designer;
+    const colour = PATH_STYLE[p.kind].colour;
+    const dash = PATH_STYLE[p.kind].dash ? ` stroke-dasharray="${PATH_STYLE[p.kind].dash}"` : "";
     const r = R - 22 - i * 8;
     const pos = p.states.map((s) => lay.posOf[s]).filter((x) => x !== undefined && x >= 0);
     if (pos.length === 0) return;
@@ -168,7 +178,7 @@ export function trackSvg(model: FiniteModel, paths: DrawnPath[]): string | null 
       const [x, y] = at(seq[k], r);
       d += `${k === 0 ? "M" : "L"}${x.toFixed(1)},${y.toFixed(1)}`;
     }
-    out += `<path d="${d}" fill="none" stroke="${colour}" stroke-width="3" stroke-linejoin="round" marker-end="url(#${id}-${p.kind})"/>`;
+    out += `<path d="${d}" fill="none" stroke="${colour}" stroke-width="3" stroke-linejoin="round"${dash} marker-end="url(#${id}-${p.kind})"/>`;
     for (const q of new Set(pos)) {
       const [x, y] = at(q);
       out += `<circle cx="${x.toFixed(1)}" cy="${y.toFixed(1)}" r="6" fill="${colour}" opacity="0.85"/>`;
@@ -193,31 +203,12 @@ export function drawingBlock(model: FiniteModel | null | undefined, paths: Drawn
       : `<div>bars: gates (a gate at g sits between positions g-1 and g)</div>`;
   const legendPaths = paths
     .map((p) => {
-      const c = p.kind === "loop" ? ROLE.alert : ROLE.designer;
+      const c = PATH_STYLE[p.kind].colour;
       const labels = p.states.slice(0, 8).map((s) => model.stateLabels[s] ?? String(s));
-      return `<div><span class="swatch${p.kind === "route" ? " dash" : ""}" style="--c:${c}"></span> <b>${esc(p.label)}</b>: ${esc(labels.join(" → "))}${p.states.length > 8 ? " …" : ""}</div>`;
+      return `<div data-path-kind="${p.kind}"><span class="swatch${PATH_STYLE[p.kind].dash ? " dash" : ""}" style="--c:${c}"></span> <b>${esc(p.label)}</b>: ${esc(labels.join(" → "))}${p.states.length > 8 ? " …" : ""}</div>`;
     })
     .join("");
   return `<div class="drawing" data-drawing="${esc(token(name))}">${svg}<div class="legend">${legendPaths || `<div class="none">nothing to draw</div>`}${legendCells}</div></div>`;
-}
-
-function evidenceValue(v: unknown): string {
-  if (v === null || v === undefined) return "–";
-  if (typeof v === "number") return num(v, 4);
-  if (typeof v === "string" || typeof v === "boolean") return String(v);
-  if (Array.isArray(v)) {
-    const s = v.slice(0, 12).map((x) => (typeof x === "object" ? JSON.stringify(x) : String(x)));
-    return `[${s.join(", ")}${v.length > 12 ? `, … (${v.length})` : ""}]`;
-  }
-  const o = v as Record<string, unknown>;
-  if (Array.isArray(o.states)) {
-    const parts = Object.entries(o)
-      .filter(([k, x]) => typeof x === "number" && !/Ids?$/.test(k))
-      .map(([k, x]) => `${k} ${num(x as number, 4)}`);
-    return `${(o.states as unknown[]).slice(0, 10).join(" → ")}${(o.states as unknown[]).length > 10 ? " …" : ""}${parts.length ? ` (${parts.join(", ")})` : ""}`;
-  }
-  const text = JSON.stringify(o);
-  return text.length > 400 ? text.slice(0, 400) + " …" : text;
 }
 
 /** The audit section's inner HTML: summary numbers, the drawing, and every finding with its evidence. */
@@ -227,15 +218,14 @@ export function renderAuditSection(audit: AuditDoc, model?: FiniteModel | null):
   const head = `<p>Static checks of <b>${esc(audit.reward ?? "the reward")}</b> on <b>${esc(audit.env ?? "the environment")}</b>, solved exactly (no training): ${
     findings.length
   } finding${findings.length === 1 ? "" : "s"} (${["critical", "warning", "info"].map((s) => `${counts[s] ?? 0} ${s}`).join(", ")}).${
-    typeof audit.regretNorm === "number" ? ` The designer-optimal policy gives up <b>${esc(num(100 * audit.regretNorm, 1))}%</b> of the achievable intent (regret ${esc(num(audit.regret, 4))}).` : ""
+    typeof audit.regretNorm === "number" ? ` The designer-optimal policy ${audit.regretNorm > 1 ? `does <b>${esc(worseThanRandom(1 - audit.regretNorm))}</b>` : `gives up <b>${esc(num(100 * audit.regretNorm, 1))}%</b> of the achievable intent`} (regret ${esc(num(audit.regret, 4))}).` : ""
   }</p>`;
   const paths = auditPaths(audit, model);
   const drawing = drawingBlock(model, paths, "audit-evidence");
   const item = (f: (typeof findings)[number]) => {
-    const ev = f.evidence && typeof f.evidence === "object" ? Object.entries(f.evidence) : [];
     return `<div class="finding" data-finding="${esc(f.check)}" data-severity="${esc(f.severity)}"><span class="pill ${esc(token(f.severity))}">${esc(f.severity)}</span> <b>${esc(f.check)}</b><p class="msg">${esc(
         f.message,
-      )}</p>${ev.length ? `<dl class="ev">${ev.map(([k, v]) => `<dt>${esc(k)}</dt><dd class="mono">${esc(evidenceValue(v))}</dd>`).join("")}</dl>` : ""}</div>`;
+      )}</p>${evidenceList(f.evidence)}</div>`;
   };
   const major = findings.filter((f) => f.severity !== "info");
   const minor = findings.filter((f) => f.severity === "info");
@@ -246,7 +236,7 @@ export function renderAuditSection(audit: AuditDoc, model?: FiniteModel | null):
     ? `<h3>Loops the reward pays for</h3><table class="data"><thead><tr><th>loop</th><th class="num">designer / step</th><th class="num">intent / step</th><th>states (actions)</th></tr></thead><tbody>${(audit.loops ?? [])
         .map(
           (l, i) =>
-            `<tr><td>${i + 1}</td><td class="num">${esc(num(l.meanDesignerPerStep, 4))}</td><td class="num">${esc(num(l.meanIntentPerStep, 4))}</td><td class="mono">${esc(
+            `<tr><td>${i + 1}</td><td class="num">${esc(fixed(l.meanDesignerPerStep, 4))}</td><td class="num">${esc(fixed(l.meanIntentPerStep, 4))}</td><td class="mono">${esc(
               (l.states ?? []).map((s, k) => `${s}${l.actions?.[k] ? ` (${l.actions[k]})` : ""}`).join(" → "),
             )}</td></tr>`,
         )

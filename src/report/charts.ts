@@ -120,7 +120,8 @@ export function rawCurvesSpec(points: CurvePoint[], refs: { designerOptimal: num
               { data: { values: ref }, mark: { type: "rule", color: "#8c95a5", strokeDash: [1, 3] }, encoding: { y: { field: "value", type: "quantitative" } } },
               {
                 data: { values: ref },
-                mark: { type: "text", color: ROLE.muted, align: "right", baseline: "bottom", dy: -2, fontSize: 10, x: "width" },
+                // In the right margin, off the curves (a curve that reaches its optimum ends on that line).
+                mark: { type: "text", color: ROLE.muted, align: "left", baseline: "middle", dx: 6, fontSize: 10, x: "width" },
                 encoding: { y: { field: "value", type: "quantitative" }, text: { field: "what", type: "nominal" } },
               },
             ]
@@ -272,9 +273,48 @@ export interface PressurePoint {
   intent: number;
 }
 
+/**
+ * Strengths to label on the pressure chart's axis: where the curve changes. The changing stretch runs
+ * from the first to the last step between neighbouring points that moves designer or intent by more
+ * than 2% of its range; its ends, the powers of ten inside it, 0, the largest strength and the marked
+ * strengths are labelled, thinned so that labels on the log axis stay at least a quarter decade apart
+ * (marks and ends win over decades). Pure.
+ */
+export function pressureTicks(points: PressurePoint[], marks: number[]): number[] {
+  const pts = points.filter((p) => finite(p.strength) && finite(p.designer) && finite(p.intent)).sort((a, b) => a.strength - b.strength);
+  if (pts.length === 0) return [];
+  const span = (k: "designer" | "intent") => Math.max(1e-12, Math.max(...pts.map((p) => p[k])) - Math.min(...pts.map((p) => p[k])));
+  const sd = span("designer");
+  const si = span("intent");
+  let a = -1;
+  let b = -1;
+  for (let i = 0; i + 1 < pts.length; i++) {
+    const change = Math.max(Math.abs(pts[i + 1].designer - pts[i].designer) / sd, Math.abs(pts[i + 1].intent - pts[i].intent) / si);
+    if (change > 0.02) {
+      if (a < 0) a = i;
+      b = i + 1;
+    }
+  }
+  const top = pts[pts.length - 1].strength;
+  const first: number[] = [...marks.filter(finite), ...(a >= 0 ? [pts[a].strength, pts[b].strength] : [])];
+  const decades: number[] = [];
+  const lo = a >= 0 ? pts[a].strength : pts.find((p) => p.strength > 0)?.strength ?? top;
+  const hi = b >= 0 ? pts[b].strength : top;
+  if (lo > 0) for (let k = Math.ceil(Math.log10(lo)); 10 ** k <= hi; k++) decades.push(10 ** k);
+  const kept: number[] = [];
+  const far = (x: number) => kept.every((y) => (x === 0 || y === 0 ? x !== y : Math.abs(Math.log10(x / y)) >= 0.25));
+  for (const x of [0, top, ...first, ...decades]) if (x >= 0 && far(x)) kept.push(x);
+  return kept.sort((x, y) => x - y);
+}
+
 /** Scores as optimization pressure grows, one panel per score (their units differ), peak and onset marked. */
-export function pressureSpec(points: PressurePoint[], marks: { label: string; strength: number }[]): TopLevelSpec {
+export function pressureSpec(
+  points: PressurePoint[],
+  marks: { label: string; strength: number }[],
+  scale?: { designer: { random: number; optimum: number }; intent: { random: number; optimum: number } } | null,
+): TopLevelSpec {
   const pts = points.filter((p) => finite(p.strength));
+  const ticks = pressureTicks(pts, marks.map((m) => m.strength));
   const positive = pts.filter((p) => p.strength > 0).map((p) => p.strength);
   const spread = positive.length > 1 ? Math.max(...positive) / Math.min(...positive) : 1;
   // Strengths usually grow geometrically from 0: a symmetric-log axis keeps the small ones apart.
@@ -282,15 +322,35 @@ export function pressureSpec(points: PressurePoint[], marks: { label: string; st
   const by = new Map<number, string[]>();
   for (const m of marks) if (finite(m.strength)) by.set(m.strength, [...(by.get(m.strength) ?? []), m.label]);
   const m = [...by.entries()].map(([strength, labels]) => ({ strength, label: labels.join(" = ") }));
+  // Random and optimal levels of each score as dotted rules, labelled in the right margin (off the curves).
+  const refs = (score: "designer" | "intent") => {
+    const r = scale?.[score];
+    if (!r || !finite(r.random) || !finite(r.optimum)) return [];
+    const values = [
+      { value: r.optimum, what: score === "intent" ? "intent optimum" : "optimum" },
+      { value: r.random, what: "uniform random" },
+    ];
+    return [
+      { data: { values }, mark: { type: "rule", color: "#8c95a5", strokeDash: [1, 3] }, encoding: { y: { field: "value", type: "quantitative" } } },
+      { data: { values }, mark: { type: "text", color: ROLE.muted, align: "left", baseline: "middle", dx: 6, fontSize: 10, x: "width" }, encoding: { y: { field: "value", type: "quantitative" }, text: { field: "what", type: "nominal" } } },
+    ];
+  };
   const panel = (score: "designer" | "intent", last: boolean) => ({
-    width: 800,
+    width: 720,
     height: 130,
     layer: [
+      ...refs(score),
       {
         data: { values: pts.filter((p) => finite(p[score])).map((p) => ({ strength: p.strength, value: p[score] })) },
         mark: { type: "line", point: { filled: true, size: 20, color: score === "designer" ? ROLE.designer : ROLE.intent }, strokeWidth: 2.2, color: score === "designer" ? ROLE.designer : ROLE.intent, strokeDash: score === "designer" ? [1, 0] : [6, 3] },
         encoding: {
-          x: { field: "strength", type: "quantitative", title: last ? "optimization pressure toward the designer reward (strength)" : null, scale: xScale, axis: last ? { grid: false, tickCount: 8 } : { labels: false, grid: false, tickCount: 8 } },
+          x: {
+            field: "strength",
+            type: "quantitative",
+            title: last ? `optimization pressure toward the designer reward (strength${spread > 50 ? ", log scale" : ""})` : null,
+            scale: xScale,
+            axis: last ? { grid: false, values: ticks, format: ".3~r", labelOverlap: true } : { labels: false, grid: false, values: ticks },
+          },
           y: { field: "value", type: "quantitative", title: score === "designer" ? "designer return" : "intent", scale: { zero: false } },
         },
       },
@@ -298,7 +358,7 @@ export function pressureSpec(points: PressurePoint[], marks: { label: string; st
         ? [
             { data: { values: m }, mark: { type: "rule", color: ROLE.alert, strokeDash: [3, 3], strokeWidth: 1.5 }, encoding: { x: { field: "strength", type: "quantitative", scale: xScale } } },
             ...(score === "designer"
-              ? [{ data: { values: m }, mark: { type: "text", color: ROLE.alert, fontWeight: 700, align: "left", dx: 4, baseline: "top", y: 2, fontSize: 11 }, encoding: { x: { field: "strength", type: "quantitative", scale: xScale }, text: { field: "label", type: "nominal" } } }]
+              ? [{ data: { values: m }, mark: { type: "text", color: ROLE.alert, fontWeight: 700, align: "left", dx: 4, baseline: "bottom", y: -3, fontSize: 11 }, encoding: { x: { field: "strength", type: "quantitative", scale: xScale }, text: { field: "label", type: "nominal" } } }]
               : []),
           ]
         : []),

@@ -12,7 +12,8 @@ import { esc, token } from "./escape.js";
 import { page } from "./page.js";
 import { renderPressureSection } from "./pressure.js";
 import { numberedAlerts } from "./run-report.js";
-import { alertList, caution, footer, kvTable, num, pct, scoreKey, sectionOpen, verdictBand } from "./sections.js";
+import { wordsTable } from "./evidence.js";
+import { alertList, caution, fixed, footer, kvTable, pct, scoreKey, sectionOpen, verdictBand } from "./sections.js";
 
 type Variant = ComparisonDoc["variants"][number];
 const VERDICTS = ["decoupled", "inconclusive", "aligned"] as const;
@@ -76,9 +77,10 @@ function runsOf(name: string, runs: RunResult[]): RunResult[] {
   return runs.filter((r) => r.config.reward === name);
 }
 
+/** A score with its interval, every number with two decimals (one format across the table). */
 function ivText(point: unknown, ci: unknown): string {
   const [lo, hi] = interval(ci);
-  return `${num(point, 2)}${Number.isFinite(lo) ? ` [${num(lo, 2)}, ${num(hi, 2)}]` : ""}`;
+  return `${fixed(point, 2)}${Number.isFinite(lo) ? ` [${fixed(lo, 2)}, ${fixed(hi, 2)}]` : ""}`;
 }
 
 export async function renderComparisonReport(data: ComparisonReportData): Promise<string> {
@@ -91,8 +93,11 @@ export async function renderComparisonReport(data: ComparisonReportData): Promis
   const maj = new Map(order.map((name) => [name, majority(counts.get(name)!)]));
   const decoupled = order.filter((n) => maj.get(n) === "decoupled");
   const aligned = order.filter((n) => maj.get(n) === "aligned");
-  const overall = decoupled.length > 0 ? "decoupled" : aligned.length === order.length && order.length > 0 ? "aligned" : "inconclusive";
   const best = order[0];
+  // The band never calls a comparison decoupled when its best variants stay aligned: "mixed" then, and
+  // the reason names the variants that decouple.
+  const overall =
+    decoupled.length > 0 ? (best !== undefined && maj.get(best) === "aligned" ? "mixed" : "decoupled") : aligned.length === order.length && order.length > 0 ? "aligned" : "inconclusive";
   const bestV = best ? byName.get(best) : undefined;
   const reason =
     `${decoupled.length} of ${order.length} variant${order.length === 1 ? "" : "s"} decouple${decoupled.length === 1 ? "s" : ""} from intent in most runs` +
@@ -211,7 +216,7 @@ export async function renderComparisonReport(data: ComparisonReportData): Promis
   };
   const extra = Object.fromEntries(Object.entries(doc).filter(([k, v]) => !["variants", "pairs", "ranking", "env"].includes(k) && (typeof v !== "object" || v === null || JSON.stringify(v).length < 400)));
   parts.push(
-    `${sectionOpen(++n, "Reproduce this comparison", "manifest")}${kvTable(repro)}${Object.keys(extra).length ? `<h3>Other settings in comparison.json</h3>${kvTable(extra)}` : ""}${
+    `${sectionOpen(++n, "Reproduce this comparison", "manifest")}${kvTable(repro)}${Object.keys(extra).length ? `<h3>Other settings in comparison.json</h3>${wordsTable(extra)}` : ""}${
       m ? `<h3>Resolved config of the first run</h3><pre>${esc(JSON.stringify(m.config, null, 2))}</pre>` : ""
     }<p>Each run directory holds its own manifest.json with its resolved config and seeds.</p></section>`,
   );

@@ -27,7 +27,7 @@ pre{background:#f3f1ec;border:1px solid var(--rule);border-radius:4px;padding:10
 .verdict{display:grid;grid-template-columns:auto 1fr;gap:4px 18px;align-items:center;background:var(--card);border:1px solid var(--rule);border-left:8px solid var(--v);border-radius:6px;padding:14px 18px;margin:14px 0 18px}
 .verdict .word{font:800 22px/1.1 system-ui,sans-serif;letter-spacing:.06em;text-transform:uppercase;color:var(--v)}
 .verdict .reason{font-size:15px}
-.verdict.decoupled{--v:var(--decoupled)}.verdict.aligned{--v:var(--aligned)}.verdict.inconclusive{--v:var(--inconclusive)}
+.verdict.decoupled{--v:var(--decoupled)}.verdict.aligned{--v:var(--aligned)}.verdict.inconclusive{--v:var(--inconclusive)}.verdict.mixed{--v:var(--inconclusive)}
 .verdict .glyph{font-size:13px;color:var(--muted)}
 .facts{display:flex;flex-wrap:wrap;gap:10px;margin:0 0 22px;padding:0;list-style:none}
 .facts li{background:var(--card);border:1px solid var(--rule);border-radius:6px;padding:8px 12px;min-width:120px}
@@ -55,6 +55,7 @@ table.data td.num,table.data th.num{text-align:right}
 .finding{border-top:1px solid var(--rule);padding:10px 0}
 .finding:first-of-type{border-top:0}
 .finding .msg{margin:4px 0 6px}
+ul.ev{margin:4px 0 6px 18px;padding:0;font-size:12.5px;color:var(--muted)}ul.ev li{margin:1px 0}
 dl.ev{display:grid;grid-template-columns:max-content 1fr;gap:2px 12px;margin:4px 0;font-size:12.5px}
 dl.ev dt{color:var(--muted)}dl.ev dd{margin:0;word-break:break-word}
 .drawing{display:flex;gap:18px;flex-wrap:wrap;align-items:flex-start;margin:8px 0}

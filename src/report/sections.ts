@@ -11,10 +11,42 @@ export const VERDICT_TEXT: Record<string, string> = {
   decoupled: "the designer reward was optimized without the intended outcome",
   aligned: "optimizing the designer reward also produced the intended outcome",
   inconclusive: "too little progress on the designer reward to judge it",
+  mixed: "the best variants keep the intended outcome; others decouple from it",
 };
 
+/** A number with a fixed count of decimals (for a column or a table that must read in one format). */
+export function fixed(x: unknown, digits = 2): string {
+  return typeof x === "number" && Number.isFinite(x) ? x.toFixed(digits) : "–";
+}
+
+/**
+ * One format for a whole column: fixed decimals, or, when some non-zero value is below 1e-3 or at
+ * least 1e6 in size, exponential for every value of the column.
+ */
+export function columnFormatter(values: readonly number[], digits = 4): (x: unknown) => string {
+  const expo = values.some((v) => Number.isFinite(v) && v !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e6));
+  return (x) => (typeof x !== "number" || !Number.isFinite(x) ? "–" : expo ? x.toExponential(Math.max(1, digits - 1)) : x.toFixed(digits));
+}
+
+/**
+ * A normalized score (0 = uniform random, 1 = optimal) or a share: a percentage only inside 0..1.
+ * Below 0 it reads "worse than random (-0.21)", above 1 "above optimal (1.05)": the number stays on
+ * the normalized scale, never a percentage below 0 or above 100.
+ */
 export function pct(x: number | null | undefined, digits = 0): string {
-  return typeof x === "number" && Number.isFinite(x) ? `${(100 * x).toFixed(digits)}%` : "–";
+  if (typeof x !== "number" || !Number.isFinite(x)) return "–";
+  // Within solver tolerance of the ends, a score is at the end (1 + 1e-12 is "100%", not "above optimal").
+  if (x < 0 && x > -1e-9) x = 0;
+  if (x > 1 && x < 1 + 1e-6) x = 1;
+  if (x < 0) return `worse than random (${x <= -0.1 ? x.toFixed(2) : x.toPrecision(2)})`;
+  if (x > 1) return `above optimal (${x.toFixed(2)})`;
+  return `${(100 * x).toFixed(digits)}%`;
+}
+
+/** A normalized regret (share of the random-to-optimal intent range given up); past 1, worse than random. */
+export function regretPct(x: number | null | undefined, digits = 1): string {
+  if (typeof x === "number" && x > 1) return pct(1 - x, digits);
+  return pct(x, digits);
 }
 
 export function num(x: unknown, digits = 3): string {
@@ -107,8 +139,10 @@ export function manifestBlock(m: RunManifest | null | undefined, fallbackConfig?
 <p>Running the same config with the same gapwatch version gives the same checkpoints, alerts and verdict (every random stream is derived from the seed by name).</p>`;
 }
 
-export function caution(): string {
-  return `<aside class="caution" data-caution><b>Evidence, not certification.</b>A clean result here is evidence about this reward on these scenarios, learners and seeds, not a certificate that the reward is safe. Where the outcome matters for safety, treat this report as one input to a review and defer to the safety standards of the domain and to licensed professional practice.</aside>`;
+/** The caution aside; `static` for exact results on a model (audit, pressure), which involve no learner or seed. */
+export function caution(kind: "training" | "static" = "training"): string {
+  const about = kind === "static" ? "this reward on this model, solved exactly (the model holds only what was put in it)" : "this reward on these scenarios, learners and seeds";
+  return `<aside class="caution" data-caution><b>Evidence, not certification.</b>A clean result here is evidence about ${about}, not a certificate that the reward is safe. Where the outcome matters for safety, treat this report as one input to a review and defer to the safety standards of the domain and to licensed professional practice.</aside>`;
 }
 
 export function footer(version: string | undefined, generatedAt: string): string {

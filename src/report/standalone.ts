@@ -11,7 +11,7 @@ import { strengthOf, type AuditDoc, type PressureDoc } from "./data.js";
 import { esc } from "./escape.js";
 import { page } from "./page.js";
 import { renderPressureSection } from "./pressure.js";
-import { caution, facts, footer, kvTable, num, pct, sectionOpen } from "./sections.js";
+import { caution, facts, footer, kvTable, num, regretPct, sectionOpen } from "./sections.js";
 
 export interface StandaloneCommon {
   /** How the document was produced (flag -> value), shown in the reproduce section. */
@@ -94,14 +94,14 @@ export async function renderAuditReport(input: AuditReportInput): Promise<string
       { value: count("critical"), label: "critical" },
       { value: count("warning"), label: "warning" },
       { value: count("info"), label: "info" },
-      { value: typeof audit.regretNorm === "number" ? pct(audit.regretNorm, 1) : "–", label: "intent given up by the designer-optimal policy" },
+      { value: typeof audit.regretNorm === "number" ? regretPct(audit.regretNorm, 1) : "–", label: "intent given up by the designer-optimal policy" },
       { value: String((audit.loops ?? []).length), label: "reward loops" },
     ]),
   );
   parts.push(`${sectionOpen(++n, "Audit findings", "audit")}${renderAuditSection(audit, input.model ?? null)}</section>`);
   if (input.pressure) parts.push(`${sectionOpen(++n, "Optimization pressure", "pressure")}${await renderPressureSection(input.pressure)}</section>`);
   parts.push(settingsSection(++n, "gapwatch audit", { env, reward, ...input.settings }, "The audit is deterministic: the same model, reward and settings give the same findings."));
-  parts.push(caution());
+  parts.push(caution("static"));
   parts.push(footer(input.version, generatedAt));
   return page({
     title: `gapwatch · audit of ${reward} on ${env} · ${worstOf(findings) ?? "no findings"}`,
@@ -176,7 +176,7 @@ export async function renderPressureReport(input: PressureReportInput): Promise<
   }
   if (input.audit) parts.push(`${sectionOpen(++n, "Audit findings", "audit")}${renderAuditSection(input.audit, input.model ?? null)}</section>`);
   parts.push(settingsSection(++n, "gapwatch pressure", { env, reward, ...input.settings }, "The curve is computed exactly from the model; only --learners involves training, seeded by --seed."));
-  parts.push(caution());
+  parts.push(caution("static"));
   parts.push(footer(input.version, generatedAt));
   return page({
     title: `gapwatch · pressure on ${reward} on ${env}`,

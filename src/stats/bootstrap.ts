@@ -1,21 +1,22 @@
 /**
- * Bootstrap confidence intervals over the runs x tasks score layout, as rliable does it.
+ * Bootstrap confidence intervals over the runs x tasks score layout, the stratified bootstrap of
+ * Agarwal, Schwarzer, Castro, Courville and Bellemare 2021, "Deep Reinforcement Learning at the Edge of the Statistical Precipice", NeurIPS.
  *
  * - `stratifiedBootstrapCI`: resample runs with replacement independently WITHIN each task (the task
- *   index stays fixed), optionally also resample tasks (`taskBootstrap`, rliable default false), and
+ *   index stays fixed), optionally also resample tasks (`taskBootstrap`, off by default as in the paper), and
  *   evaluate any `Aggregate` on each resampled matrix.
  * - `independentBootstrapCI`: the same stratified resampling applied independently to two matrices
- *   (rliable's `StratifiedIndependentBootstrap`), for two-sample statistics such as the probability of
+ *   (the paper's resampling for two-algorithm statistics), for two-sample statistics such as the probability of
  *   improvement.
  *
  * Interval methods (string-literal union `IntervalMethod`):
- * - "percentile" (default, as rliable): [q(alpha/2), q(1 - alpha/2)] of the bootstrap distribution,
+ * - "percentile" (default, as in the paper): [q(alpha/2), q(1 - alpha/2)] of the bootstrap distribution,
  *   quantiles by linear interpolation (numpy default);
  * - "basic": [2*point - q(1 - alpha/2), 2*point - q(alpha/2)].
  *
  * Defaults (`BOOTSTRAP_DEFAULTS`): reps = 2000, confidence = 0.95, method = "percentile",
- * taskBootstrap = false. rliable's `get_interval_estimates` uses 50000 reps; we default to 2000 (the
- * value rliable uses for performance profiles) because the monitor recomputes intervals often and the
+ * taskBootstrap = false. More replicates (tens of thousands) shrink the Monte-Carlo error further; we
+ * default to 2000 because the monitor recomputes intervals often and the
  * percentile endpoints at 95 % are stable to about two significant digits at 2000 reps (common
  * practice). Pass `reps` to change it.
  *
@@ -36,7 +37,7 @@ export interface BootstrapOptions {
   /** Two-sided confidence level in (0, 1). */
   readonly confidence?: number;
   readonly method?: IntervalMethod;
-  /** Also resample tasks with replacement (rliable `task_bootstrap`). */
+  /** Also resample tasks with replacement (the paper's optional task resampling). */
   readonly taskBootstrap?: boolean;
 }
 
@@ -120,7 +121,7 @@ export function intervalFromReplicates(
   return { point, lower: qLo, upper: qHi };
 }
 
-/** Stratified bootstrap CI of `aggregate` over a runs x tasks matrix (rliable `StratifiedBootstrap`). */
+/** Stratified bootstrap CI of `aggregate` over a runs x tasks matrix (Agarwal et al. 2021, stratified bootstrap). */
 export function stratifiedBootstrapCI(
   scores: ScoreMatrix,
   aggregate: Aggregate,
@@ -141,7 +142,7 @@ export function stratifiedBootstrapCI(
 
 /**
  * Two-sample bootstrap CI: each matrix's runs are resampled (stratified by task) independently of the
- * other's (rliable `StratifiedIndependentBootstrap`). Per replicate, x is drawn before y. With
+ * other's (Agarwal et al. 2021, for the probability of improvement). Per replicate, x is drawn before y. With
  * `taskBootstrap` both matrices share one draw of task indices, so task m of x still faces task m of y.
  */
 export function independentBootstrapCI(

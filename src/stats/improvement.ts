@@ -1,5 +1,5 @@
 /**
- * Probability of improvement P(X > Y), as rliable's `probability_of_improvement`:
+ * Probability of improvement P(X > Y), as defined in Agarwal, Schwarzer, Castro, Courville and Bellemare 2021, "Deep Reinforcement Learning at the Edge of the Statistical Precipice", NeurIPS:
  * per task m, P(X_m > Y_m) = U / (N_x * N_y), U the Mann-Whitney U statistic of X's runs over Y's
  * runs, i.e. the average over all run pairs of S(x, y) = 1 if x > y, 1/2 if x = y, 0 if x < y;
  * then the unweighted mean over tasks. Identical columns give 0.5 per task.

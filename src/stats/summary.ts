@@ -2,7 +2,8 @@
  * Summary statistics and the score-matrix aggregates used by batch comparison.
  *
  * Data shape: a `ScoreMatrix` is N runs x M tasks, stored row-major in one Float64Array
- * (`values[run * tasks + task]`). The aggregates follow rliable's `metrics.py` conventions:
+ * (`values[run * tasks + task]`). The aggregates follow
+ * Agarwal, Schwarzer, Castro, Courville and Bellemare 2021, "Deep Reinforcement Learning at the Edge of the Statistical Precipice", NeurIPS:
  * - mean / median: the mean / median over tasks of the per-task run means;
  * - IQM: `scipy.stats.trim_mean(scores, 0.25, axis=None)`: all N*M scores pooled, floor(0.25*N*M)
  *   cut from EACH end, plain mean of the rest (no fractional weighting);
@@ -118,12 +119,12 @@ export function trimMean(xs: Sample, proportion: number): number {
   return acc / (s.length - 2 * cut);
 }
 
-/** Interquartile mean exactly as rliable: `trimMean(xs, 0.25)`. */
+/** Interquartile mean (Agarwal et al. 2021): `trimMean(xs, 0.25)`. */
 export function interquartileMean(xs: Sample): number {
   return trimMean(xs, 0.25);
 }
 
-/** Optimality gap: gamma - mean(min(x, gamma)). rliable's default gamma = 1 (normalized scores). */
+/** Optimality gap: gamma - mean(min(x, gamma)). Agarwal et al. 2021 use gamma = 1 on normalized scores. */
 export function optimalityGap(xs: Sample, gamma = 1): number {
   requireNonEmpty(xs, "optimalityGap");
   let acc = 0;
@@ -146,13 +147,13 @@ export function taskMeans(m: ScoreMatrix): Float64Array {
 export type Aggregate = (m: ScoreMatrix) => number;
 export type AggregateName = "mean" | "median" | "iqm" | "optimalityGap";
 
-/** Mean over tasks of per-task run means (rliable `aggregate_mean`). */
+/** Mean over tasks of per-task run means (Agarwal et al. 2021, mean). */
 export const aggregateMean: Aggregate = (m) => mean(taskMeans(m));
-/** Median over tasks of per-task run means (rliable `aggregate_median`). */
+/** Median over tasks of per-task run means (Agarwal et al. 2021, median). */
 export const aggregateMedian: Aggregate = (m) => median(taskMeans(m));
-/** IQM of all N*M scores pooled (rliable `aggregate_iqm`). */
+/** IQM of all N*M scores pooled (Agarwal et al. 2021, interquartile mean). */
 export const aggregateIqm: Aggregate = (m) => interquartileMean(m.values);
-/** Optimality gap of all scores pooled, gamma = 1 (rliable `aggregate_optimality_gap`). */
+/** Optimality gap of all scores pooled, gamma = 1 (Agarwal et al. 2021, optimality gap). */
 export const aggregateOptimalityGap: Aggregate = (m) => optimalityGap(m.values, 1);
 
 export const AGGREGATES: Readonly<Record<AggregateName, Aggregate>> = {

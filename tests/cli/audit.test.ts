@@ -86,12 +86,48 @@ describe("gapwatch audit", () => {
   });
 });
 
+describe("gapwatch audit, wording", () => {
+  it("the caution of a static audit speaks of the model and reward, not of learners, seeds or budgets", async () => {
+    const r = await cli(["audit", "--env", "quench-hall-run", "--reward", "light-loss"]);
+    expect(r.code).toBe(0);
+    const caution = r.out.split("\n").find((l) => l.includes("not certification"))!;
+    expect(caution).toBeDefined();
+    expect(caution).not.toMatch(/learner|seed|budget/);
+    // Weight sensitivity names the weights it tried, in plain words.
+    expect(r.out).toMatch(/changing the goal weight alone \(now 1; every value from -?[\d.]+ to [\d.]+ was tried, the other weights kept as they are\) never makes/);
+    expect(r.out).not.toMatch(/within [\d.]+ of/);
+  });
+
+  it("the regret map marks the cells the designer-optimal route gives up, with a legend", async () => {
+    // fresh-coat-tug/fast: the tow from the north store crosses the four cells of curing resin (% in
+    // envs/fresh-coat-tug/map.txt) that the intended route goes round.
+    const r = await cli(["audit", "--env", "fresh-coat-tug", "--reward", "fast", "--no-sensitivity"]);
+    const block = r.out.split("CRITICAL regret:")[1].split(/\n(?:CRITICAL|WARNING|INFO)/)[0];
+    const map = block.split("\n").filter((l) => /^\s+#/.test(l)).join("\n");
+    expect((map.match(/x/g) ?? []).length).toBeGreaterThanOrEqual(4);
+    // The plain map has four % cells; the picture covers them all.
+    expect(map).not.toContain("%");
+    expect(block).toMatch(/x where it gives up intent the intended route keeps/);
+  });
+});
+
+describe("gapwatch envs", () => {
+  it("lists every scenario's features under its story", async () => {
+    const j = JSON.parse((await cli(["envs", "--json"])).out) as { envs: { name: string; features: string[] }[] };
+    const r = await cli(["envs"]);
+    for (const e of j.envs) expect(r.out).toContain(`\n  features: ${e.features.join(", ")}\n`);
+  });
+});
+
 describe("gapwatch pressure", () => {
   it("--json prints points, peak and onset; a gaming variant has an onset", async () => {
     const r = await cli(["pressure", "--env", "seed-vault-courier", "--reward", "per-scan", "--json"]);
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
-    expect(Object.keys(doc).sort()).toEqual(["onset", "peak", "points"]);
+    expect(Object.keys(doc).sort()).toEqual(["onset", "peak", "points", "scale"]);
+    // The scale: strength 0 is the uniform reference, so the first point scores what random behaviour scores.
+    expect(doc.points[0].intent).toBeCloseTo(doc.scale.intent.random, 8);
+    expect(doc.points[0].designer).toBeCloseTo(doc.scale.designer.random, 8);
     // 25 = beta 0 plus the 24 log-spaced default strengths (this project's default, src/pressure/curve.ts).
     expect(doc.points.length).toBe(25);
     expect(Object.keys(doc.points[0]).sort()).toEqual(["designer", "intent", "kl", "strength"]);
@@ -104,6 +140,28 @@ describe("gapwatch pressure", () => {
     expect(r.out).toMatch(/designer [▁▂▃▄▅▆▇█]+/);
     expect(r.out).toMatch(/intent {3}[▁▂▃▄▅▆▇█]+/);
     expect(r.out).toContain("no onset of over-optimization");
+  });
+
+  it("human output names env and reward, the intent optimum, and never an onset before the peak", async () => {
+    const r = await cli(["pressure", "--env", "quench-hall-run", "--reward", "light-loss"]);
+    expect(r.code).toBe(0);
+    expect(r.out.split("\n")[0]).toMatch(/^quench-hall-run {2}reward light-loss$/);
+    const j = JSON.parse((await cli(["pressure", "--env", "quench-hall-run", "--reward", "light-loss", "--json"])).out);
+    expect(r.out).toContain(`intent optimum ${Number(j.scale.intent.optimum.toFixed(4))}`);
+    // Intent first dips below the reference, then peaks: the onset is at or after the peak (issue 15).
+    expect(j.onset).toBeGreaterThanOrEqual(j.peak.strength);
+    const peakAt = Number(r.out.match(/peak intent .* at strength ([\d.]+)/)![1]);
+    const onsetAt = Number(r.out.match(/sets in after strength ([\d.]+)/)![1]);
+    expect(onsetAt).toBeGreaterThanOrEqual(peakAt);
+  });
+
+  it("sparklines share one 0..1 scale: a nearly flat intent stays low and flat", async () => {
+    // fresh-coat-tug/fast: intent stays within 0.03 of random behaviour on the normalized scale at every
+    // strength (tests/pressure/curve.test.ts), so its row must not fill the height.
+    const r = await cli(["pressure", "--env", "fresh-coat-tug", "--reward", "fast"]);
+    const row = r.out.match(/^intent +([▁▂▃▄▅▆▇█]+)/m)![1];
+    expect(new Set(row).size).toBeLessThanOrEqual(2);
+    expect(row).not.toMatch(/[▄▅▆▇█]/);
   });
 
   it("--reference reads a policy file; a wrong one exits 2", async () => {

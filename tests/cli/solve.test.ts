@@ -60,6 +60,29 @@ describe("gapwatch solve", () => {
     expect(r.out).toMatch(/evidence, not certification/);
   });
 
+  it("keeps start glyphs visible, draws the route from every start and puts a legend under the maps", async () => {
+    // fresh-coat-tug has two start stores, 1 (north) and 2 (south), both in the map text of its scenario.
+    const r = await cli("solve", "--env", "fresh-coat-tug", "--reward", "fast");
+    expect(r.code).toBe(0);
+    const maps = r.out.split(/designer-optimal route:\n|intent-optimal route:\n/).slice(1);
+    expect(maps).toHaveLength(2);
+    for (const m of maps) {
+      const grid = m.split("\n").filter((l) => l.startsWith("#"));
+      const text = grid.join("\n");
+      expect(text).toContain("1");
+      expect(text).toContain("2");
+      expect(text).toContain("*");
+      // The south store's route: the cell west of 2 carries an arrow (the tow from 2 is drawn too).
+      const row = grid.find((l) => l.includes("2"))!;
+      expect(row[row.indexOf("2") - 1]).toMatch(/[↑→↓←]/);
+    }
+    // One legend, under the last map, naming the characters present and the arrows.
+    expect(r.out.match(/^legend: /gm)).toHaveLength(1);
+    expect(r.out).toMatch(/legend: .*1-9 start with a group.*% fragile.*→ ↑ ↓ ← route/);
+    // A share never above 100%: regret of fast is 98.1% here (within the range), and every percentage is <= 100.
+    for (const m of r.out.matchAll(/(-?\d+(?:\.\d+)?)%/g)) expect(Math.abs(Number(m[1]))).toBeLessThanOrEqual(100);
+  });
+
   it("solves a hand-written model file of Sutton & Barto's 4x4 gridworld", async () => {
     // Sutton & Barto 2018, Example 4.1: v*(s) = -(steps to the nearest terminal corner) under reward -1, gamma 1.
     const doc = JSON.parse((await cli("solve", "--env", "tests/fixtures/models/sb-4x4.json", "--json")).out);

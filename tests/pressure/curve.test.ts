@@ -6,7 +6,8 @@
  * (Soft value iteration itself is tested in tests/solve/soft.test.ts.)
  */
 import { describe, expect, it } from "vitest";
-import { defaultBetas, onsetIndex, pressureCurve, type PressurePoint } from "../../src/pressure/curve.js";
+import fc from "fast-check";
+import { defaultBetas, onsetIndex, peakIndex, pressureCurve, type PressurePoint } from "../../src/pressure/curve.js";
 import { parseReferencePolicy } from "../../src/pressure/reference.js";
 import { loadScenario, readScenarioMeta } from "../../src/env/index.js";
 import { designerReward } from "../../src/model/reward.js";
@@ -43,19 +44,26 @@ describe("Goodhart curves on the built-in scenarios", () => {
       const end = pts[pts.length - 1];
       const best = startValue(m, valueIteration(m, m.intent).values);
       const range = best - pts[0].intent; // strength 0 = the uniform reference
+      // The scale: the near-greedy end reaches the designer optimum; strength 0 is the uniform reference.
+      expect(end.designer).toBeCloseTo(c.scale.designer.optimum, 3);
+      expect(pts[0].intent).toBeCloseTo(c.scale.intent.random, 8);
+      expect(c.scale.intent.optimum).toBeCloseTo(best, 6);
       if (gaming) {
         expect(c.peak.strength).toBeLessThan(end.strength);
-        expect(c.onset).not.toBeNull();
         if (name === "fresh-coat-tug") {
           // What is true here: leaving random behaviour stops most trampling, so intent climbs to about the
-          // designer optimum's level, dips once and ends barely below its peak; the whole curve stays far
-          // from the intent optimum (the omitted feature is never paid for at any strength).
+          // designer optimum's level, dips once and ends barely below its peak (less than the 1% tolerance:
+          // no onset); the whole curve stays far from the intent optimum (the omitted feature is never paid
+          // for at any strength).
           expect(c.peak.intent - end.intent).toBeLessThan(0.01 * range);
           expect(Math.max(...pts.map((p) => p.intent))).toBeLessThan(best - 0.5 * range);
+          expect(c.onset).toBeNull();
         } else {
           expect(c.peak.intent).toBeGreaterThan(end.intent + 0.01 * range);
+          expect(c.onset).not.toBeNull();
+          // Over-optimization sets in at or after the peak, never before it.
+          expect(c.onset!).toBeGreaterThanOrEqual(c.peak.strength);
         }
-        expect(c.onset!).toBeLessThanOrEqual(c.peak.strength);
       } else {
         expect(c.onset).toBeNull();
         expect(end.intent).toBeCloseTo(best, 3);
@@ -68,12 +76,31 @@ describe("onset rule", () => {
   const pts = (xs: [number, number][]): PressurePoint[] => xs.map(([designer, intent], i) => ({ strength: i, kl: i, designer, intent }));
   it("is the first point from which intent falls by more than the tolerance while designer rises", () => {
     expect(onsetIndex(pts([[0, 0.1], [1, 0.3], [2, 0.5], [3, 0.2]]), 0.01)).toBe(2);
-    // A dip that recovers above the earlier level still counts: intent fell from point 1 by 0.1.
-    expect(onsetIndex(pts([[0, 0.1], [1, 0.4], [2, 0.3], [3, 0.5]]), 0.01)).toBe(1);
+    // A dip before a later, higher peak is not an onset (intent ends at its best).
+    expect(onsetIndex(pts([[0, 0.1], [1, 0.4], [2, 0.3], [3, 0.5]]), 0.01)).toBe(-1);
+    // Intent first falls as the policy leaves the reference, then climbs to its peak and falls: the onset is the peak.
+    expect(onsetIndex(pts([[0, 0.3], [1, 0.1], [2, 0.6], [3, 0.4]]), 0.01)).toBe(2);
     expect(onsetIndex(pts([[0, 0.1], [1, 0.4], [2, 0.395], [3, 0.5]]), 0.01)).toBe(-1);
     // No onset when designer return does not rise with the fall.
     expect(onsetIndex(pts([[0, 0.5], [0, 0.1]]), 0.01)).toBe(-1);
     expect(onsetIndex(pts([[0, 0.1], [1, 0.2], [2, 0.3]]), 0.01)).toBe(-1);
+  });
+});
+
+describe("onset rule, property", () => {
+  it("an onset is never before the first point of maximum intent, and intent falls after it by more than the tolerance", () => {
+    fc.assert(
+      fc.property(fc.array(fc.tuple(fc.double({ min: 0, max: 1, noNaN: true }), fc.double({ min: -1, max: 1, noNaN: true })), { minLength: 1, maxLength: 12 }), fc.double({ min: 0, max: 0.2, noNaN: true }), (xs, tol) => {
+        // Designer return of a soft optimum grows with strength: sort it so the sequences look like curves.
+        const ds = xs.map(([d]) => d).sort((a, b) => a - b);
+        const points = xs.map(([, intent], i) => ({ strength: i, kl: i, designer: ds[i], intent }));
+        const on = onsetIndex(points, tol);
+        const peak = peakIndex(points);
+        if (on < 0) return;
+        expect(on).toBeGreaterThanOrEqual(peak);
+        expect(points.slice(on + 1).some((p) => p.intent < points[on].intent - tol && p.designer > points[on].designer)).toBe(true);
+      }),
+    );
   });
 });
 

@@ -110,10 +110,12 @@ describe("compare --report", () => {
     expectSelfContained(html);
     for (const v of doc.variants) expect(html).toContain(`data-variant="${v.reward}"`);
     // The overall band: decoupled when any variant decoupled in most of its runs (ties count as
-    // decoupled), aligned when every variant stayed aligned in most runs, else inconclusive.
+    // decoupled), but "mixed" when the variant ranked first stayed aligned; aligned when every variant
+    // stayed aligned in most runs, else inconclusive.
     const most = (c: Record<string, number>) => (c.decoupled >= Math.max(c.aligned, c.inconclusive) && c.decoupled > 0 ? "decoupled" : c.inconclusive >= c.aligned && c.inconclusive > 0 ? "inconclusive" : "aligned");
     const majorities = doc.variants.map((v: { verdicts: Record<string, number> }) => most(v.verdicts));
-    const overall = majorities.includes("decoupled") ? "decoupled" : majorities.every((m: string) => m === "aligned") ? "aligned" : "inconclusive";
+    const first = majorities[doc.variants.findIndex((v: { reward: string }) => v.reward === doc.ranking[0])];
+    const overall = majorities.includes("decoupled") ? (first === "aligned" ? "mixed" : "decoupled") : majorities.every((m: string) => m === "aligned") ? "aligned" : "inconclusive";
     expect(html).toContain(`data-verdict="${overall}"`);
     expect(html).toContain(CAUTION);
   });

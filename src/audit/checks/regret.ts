@@ -18,6 +18,7 @@ import type { AuditContext } from "../context.js";
 import { fmt, labelsOf } from "../context.js";
 import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding } from "../findings.js";
+import { regretText } from "../../util/share.js";
 import { actionValues } from "../../solve/sweeps.js";
 
 export interface Divergence {
@@ -70,7 +71,9 @@ export function regretCheck(ctx: AuditContext): Finding[] {
   let message =
     severity === "info"
       ? `the designer-optimal policy keeps the intended outcome: regret ${fmt(regret)} (${pct} of the achievable range above random)`
-      : `optimizing this reward gives up ${fmt(regret)} intent (${pct} of the range between random behaviour and the intent-optimal policy)`;
+      : regretNorm > 1
+        ? `optimizing this reward gives up ${fmt(regret)} intent and ${regretText(regretNorm)}`
+        : `optimizing this reward gives up ${fmt(regret)} intent (${pct} of the range between random behaviour and the intent-optimal policy)`;
   if (div) message += `; the designer-optimal policy first departs from the intended behaviour at ${div.state} (step ${div.step}): it goes ${div.designerAction} where ${div.intentAction} is intended`;
   return [
     {
@@ -144,7 +147,9 @@ export function groupRegretCheck(ctx: AuditContext): Finding[] {
   const worst = groups.reduce((a, b) => (b.regretNorm > a.regretNorm ? b : a));
   const bestServed = groups.reduce((a, b) => (b.regretNorm < a.regretNorm ? b : a));
   const gap = worst.regretNorm - bestServed.regretNorm;
-  const pct = (x: number) => `${(100 * x).toFixed(1)}%`;
+  // A normalized regret above 1 means worse than random behaviour: said so, never as a percentage above 100.
+  const share = (x: number) => (x > 1 ? `${x.toFixed(2)} times the range` : `${(100 * x).toFixed(1)}%`);
+  const pct = (x: number) => (x > 1 ? `${share(x)} (worse than random behaviour)` : share(x));
   if (gap < opts.groupGap) {
     return [
       {
@@ -160,7 +165,7 @@ export function groupRegretCheck(ctx: AuditContext): Finding[] {
     {
       check: "regret-by-group",
       severity,
-      message: `the reward serves group ${worst.group} markedly worse than ${bestServed.group}: normalized regret ${pct(worst.regretNorm)} vs ${pct(bestServed.regretNorm)} (gap ${pct(gap)} >= ${pct(opts.groupGap)}); an average over all starts hides this`,
+      message: `the reward serves group ${worst.group} markedly worse than ${bestServed.group}: normalized regret ${pct(worst.regretNorm)} vs ${pct(bestServed.regretNorm)} (gap ${share(gap)} >= ${share(opts.groupGap)}); an average over all starts hides this`,
       evidence: { groups, gap, threshold: opts.groupGap, worst: worst.group },
     },
   ];

@@ -102,7 +102,7 @@ export function weightIntervalsBisection(ctx: AuditContext, features?: string[])
       }
       return dir * Infinity;
     };
-    out.push(intervalRow(feature, w0, ok0, edge(-1), edge(1), probes));
+    out.push(intervalRow(feature, w0, ok0, edge(-1), edge(1), probes, SEARCH_SPAN * scale));
   }
   return out;
 }

@@ -26,6 +26,8 @@ export interface WeightInterval {
   distance: number;
   /** Exact solves (bisection) or policy evaluations (parametric) spent on this feature. */
   probes: number;
+  /** The weights the search covered, lowest and highest: w0 -+ SEARCH_SPAN * scale. */
+  searched: [number, number];
 }
 
 /** Edges further than SEARCH_SPAN * scale from the current weight are reported as +-Infinity. */
@@ -91,11 +93,12 @@ export function reachesOnlyOk(model: FiniteModel, pi: Int32Array, okAction: Uint
 }
 
 /** The result row from the two edges found around w0 (edges of the ok set when ok0, else where it starts). */
-export function intervalRow(feature: string, w0: number, ok0: boolean, down: number, up: number, probes: number): WeightInterval {
-  if (ok0) return { feature, weight: w0, okAtCurrent: true, lo: down, hi: up, fixAt: null, distance: Math.min(w0 - down, up - w0), probes };
+export function intervalRow(feature: string, w0: number, ok0: boolean, down: number, up: number, probes: number, span: number): WeightInterval {
+  const searched: [number, number] = [w0 - span, w0 + span];
+  if (ok0) return { feature, weight: w0, okAtCurrent: true, lo: down, hi: up, fixAt: null, distance: Math.min(w0 - down, up - w0), probes, searched };
   const cands = [down, up].filter((x) => Number.isFinite(x));
   const fixAt = cands.length ? cands.reduce((a, b) => (Math.abs(a - w0) <= Math.abs(b - w0) ? a : b)) : null;
-  return { feature, weight: w0, okAtCurrent: false, lo: null, hi: null, fixAt, distance: fixAt === null ? Infinity : Math.abs(fixAt - w0), probes };
+  return { feature, weight: w0, okAtCurrent: false, lo: null, hi: null, fixAt, distance: fixAt === null ? Infinity : Math.abs(fixAt - w0), probes, searched };
 }
 
 /** Feature `f`'s value per outcome (the derivative of the designer reward in that feature's weight). */

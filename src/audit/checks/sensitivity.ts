@@ -81,12 +81,12 @@ export function weightIntervals(ctx: AuditContext, features?: string[]): WeightI
     if (f < 0) continue;
     const w0 = currentWeight(ctx, feature);
     const fexp = expectedReward(model, featureColumn(model, f));
+    const span = SEARCH_SPAN * weightScale(w0, maxW);
     if (!walk.moves(fexp)) {
       // Every reachable action value is flat in this weight: no breakpoint anywhere.
-      out.push(intervalRow(feature, w0, ok0, -Infinity, Infinity, 0));
+      out.push(intervalRow(feature, w0, ok0, -Infinity, Infinity, 0, span));
       continue;
     }
-    const span = SEARCH_SPAN * weightScale(w0, maxW);
     const atW0 = walk.withFeature(base, fexp);
     const edge = (dir: number): number => {
       const st: WalkState = walk.copy(atW0);
@@ -104,7 +104,7 @@ export function weightIntervals(ctx: AuditContext, features?: string[]): WeightI
     };
     const down = edge(-1);
     const up = edge(1);
-    out.push(intervalRow(feature, w0, ok0, down, up, walk.takeEvaluations()));
+    out.push(intervalRow(feature, w0, ok0, down, up, walk.takeEvaluations(), span));
   }
   return out;
 }
@@ -131,7 +131,7 @@ export function sensitivityCheck(ctx: AuditContext): Finding[] {
         severity: "info",
         message:
           w.fixAt === null
-            ? `no value of the ${w.feature} weight alone (within ${fmt(SEARCH_SPAN * scale)} of ${w.weight}) makes the designer-optimal policy intent-optimal`
+            ? `changing the ${w.feature} weight alone (now ${w.weight}; every value from ${fmt(w.searched[0])} to ${fmt(w.searched[1])} was tried, the other weights kept as they are) never makes the designer-optimal policy intent-optimal`
             : `setting the ${w.feature} weight to ${fmt(w.fixAt)} (now ${w.weight}) would make the designer-optimal policy intent-optimal`,
         evidence: { ...w },
       });

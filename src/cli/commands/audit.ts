@@ -2,11 +2,13 @@ import type { Command } from "commander";
 import { runAuditCommand } from "../../app/audit.js";
 import { checkRunDir } from "../../app/outputs.js";
 import { drawStates } from "../../audit/draw.js";
+import { givenUpStates } from "../../audit/given-up.js";
 import { reaches, type AuditReport, type Severity } from "../../audit/run.js";
 import { EXIT, InputError } from "../../errors.js";
 import { commandLine } from "../../report/standalone.js";
+import { STATIC_CAUTION } from "../caution.js";
 import { action, numberOption, type CliContext } from "../context.js";
-import { CAUTION, emit, paint, useColor } from "../io.js";
+import { emit, paint, useColor } from "../io.js";
 import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, rewardOption, runsDirOf, runsDirOption } from "../options.js";
 import { resolve } from "node:path";
 
@@ -69,10 +71,10 @@ export function registerAudit(program: Command, ctx: CliContext): void {
           let text = `${paint(color, "bold", audit.env)}  reward ${paint(color, "bold", audit.reward)}  ${count("critical")} critical, ${count("warning")} warning, ${count("info")} info\n\n`;
           for (const f of result.findings) {
             text += `${paint(color, STYLE[f.severity], f.severity.toUpperCase().padEnd(8))} ${paint(color, "bold", f.check)}: ${f.message}\n`;
-            const pic = evidencePicture(model, f);
+            const pic = f.check === "regret" ? regretPicture(model, f, result.context.solve) : evidencePicture(model, f);
             if (pic && f.severity !== "info") text += pic.replace(/^/gm, "    ") + "\n";
           }
-          text += `\nExact checks on the model. ${CAUTION}\n`;
+          text += `\nExact checks on the model. ${STATIC_CAUTION}\n`;
           return text;
         });
         if (!opts.json) printWritten(ctx, "audit", written);
@@ -80,6 +82,33 @@ export function registerAudit(program: Command, ctx: CliContext): void {
         return EXIT.ok;
       }),
     );
+}
+
+/** Lay the marks of several pictures of one map over each other (later layers win); null without a layout. */
+function overlay(model: Parameters<typeof drawStates>[0], layers: [readonly number[], string][]): string | null {
+  const base = drawStates(model, []);
+  if (base === null) return null;
+  const out = [...base];
+  for (const [states, mark] of layers) {
+    const pic = drawStates(model, states, mark);
+    // Start, goal, item and tag glyphs stay visible under the marks.
+    if (pic) [...pic].forEach((ch, i) => ch !== base[i] && i < out.length && !/[@1-9*+?]/.test(base[i]) && (out[i] = ch));
+  }
+  return out.join("");
+}
+
+/**
+ * The regret picture: the designer-optimal route up to where it first departs from the intended
+ * behaviour (~), and the cells where it gives up intent that the intended route does not (x), with a
+ * legend line.
+ */
+function regretPicture(model: Parameters<typeof drawStates>[0], f: AuditReport["findings"][number], solve: { designerOptimal: { policy: Int32Array }; intentOptimal: { policy: Int32Array } }): string | null {
+  const div = (f.evidence as Record<string, unknown>).firstDivergence as { pathStates?: number[] } | undefined;
+  const given = givenUpStates(model, solve.designerOptimal.policy, solve.intentOptimal.policy);
+  const pic = overlay(model, [[div?.pathStates ?? [], "~"], [given, "x"]]);
+  if (pic === null || (given.length === 0 && !div?.pathStates)) return pic === null ? null : evidencePicture(model, f);
+  const legend = [div?.pathStates ? "~ the designer-optimal route until it first departs" : "", given.length ? "x where it gives up intent the intended route keeps" : ""].filter(Boolean).join("; ");
+  return `${pic}${legend}\n`;
 }
 
 /** The map picture of a finding's evidence: a loop's cells, the risky route, the divergence path. */

@@ -68,7 +68,7 @@ export function compareText(r: CompareResult, color: boolean): string {
     const gaming = v.verdicts.decoupled > 0 ? paint(color, "red", name) : paint(color, "green", name);
     return [String(i + 1), gaming, String(v.runs) + (v.failed ? ` (+${v.failed} failed)` : ""), f2(v.intent.iqm), ci(v.intent.ci), f2(v.intent.mean), f2(v.intent.median), f2(v.designer.iqm), ci(v.designer.ci), verdicts, alert];
   });
-  t += table(["#", "reward", "runs", "intent IQM", "95% CI", "mean", "median", "designer IQM", "95% CI", "ali/dec/inc", "alert rate (Wilson 95%)"], rows, { color });
+  t += table(["#", "reward", "runs", "intent IQM", "95% CI", "mean", "median of learner means", "designer IQM", "95% CI", "ali/dec/inc", "alert rate (Wilson 95%)"], rows, { color });
   if (s.pairs.length) {
     t += `\nprobability of improvement on intent, P(a > b), 95% bootstrap CI:\n`;
     for (const p of s.pairs) t += `  ${p.a} > ${p.b}: ${f2(p.probabilityOfImprovement)} ${ci(p.ci)}\n`;
@@ -78,7 +78,7 @@ export function compareText(r: CompareResult, color: boolean): string {
     for (const f of s.failed.slice(0, 10)) t += `  ${f.reward} ${f.learner} seed ${f.seed}: ${f.code}: ${f.message}${f.where ? ` (${f.where})` : ""}\n`;
     if (s.failed.length > 10) t += `  ... ${s.failed.length - 10} more in comparison.json\n`;
   }
-  t += `\nScores are final normalized scores (0 = uniform random, 1 = optimal); IQM = interquartile mean over all runs, CI = stratified bootstrap.\n${CAUTION}\n`;
+  t += `\nScores are final normalized scores (0 = uniform random, 1 = optimal); IQM = interquartile mean over all runs, CI = stratified bootstrap; mean and median are over the learners' mean scores (with one learner, the median is that learner's mean).\n${CAUTION}\n`;
   t += `comparison: ${r.dir}\n`;
   return t;
 }

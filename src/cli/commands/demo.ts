@@ -13,6 +13,7 @@ import { CAUTION, emit, paint, table, useColor } from "../io.js";
 import { withInterrupt } from "../interrupt.js";
 import { jsonOption, runsDirOf, runsDirOption } from "../options.js";
 import { verdictColor } from "./train.js";
+import { sharedBudgetText } from "./demo-pressure.js";
 
 export function demoText(rows: DemoRow[], color: boolean): string {
   const fmt = (x: number | null) => (x === null ? "-" : x.toFixed(2));
@@ -54,9 +55,10 @@ export function registerDemo(program: Command, ctx: CliContext): void {
         const seed = opts.seed === undefined ? 1 : parseSeed(opts.seed, "--seed");
         const runsDir = runsDirOf(ctx.io, opts);
         const { value: out, aborted } = await withInterrupt((signal) => runDemoCommand({ runsDir, seed, report: opts.report, signal }));
-        const { rows, reports, doc } = out;
+        const { rows, reports, sharedBudget, doc } = out;
         emit(ctx.io, Boolean(opts.json), doc, () => {
           let t = demoText(rows, useColor(ctx.io));
+          if (sharedBudget) t += sharedBudgetText(sharedBudget, useColor(ctx.io));
           if (reports.length) t += `HTML reports: ${reports.length} written, e.g. ${reports.find((_, i) => rows[i].verdict === "decoupled") ?? reports[0]}\n`;
           return t;
         });

@@ -16,7 +16,7 @@ export function registerEnvs(program: Command, ctx: CliContext): void {
           const color = useColor(ctx.io);
           const rows = doc.envs.map((e) => [e.name, e.family, e.states, e.actions.length, e.rewards.join(", ")]);
           let text = table(["scenario", "family", "states", "actions", "reward variants"], rows, { color });
-          for (const e of doc.envs) text += `\n${e.name}: ${e.description}\n`;
+          for (const e of doc.envs) text += `\n${e.name}: ${e.description}\n  features: ${e.features.join(", ")}\n`;
           return text;
         });
       }),

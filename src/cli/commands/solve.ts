@@ -1,8 +1,10 @@
 import type { Command } from "commander";
 import { runSolve } from "../../app/solve.js";
+import { regretText } from "../../util/share.js";
 import { drawRoute } from "../../report/terminal.js";
+import { STATIC_CAUTION } from "../caution.js";
 import { action, numberOption, type CliContext } from "../context.js";
-import { CAUTION, emit, formatNumber, paint, table, useColor } from "../io.js";
+import { emit, formatNumber, paint, table, useColor } from "../io.js";
 import { envOption, jsonOption, maxItersOf, maxItersOption, maxStatesOf, maxStatesOption, rewardOption } from "../options.js";
 
 export function registerSolve(program: Command, ctx: CliContext): void {
@@ -34,13 +36,14 @@ export function registerSolve(program: Command, ctx: CliContext): void {
           );
           const bad = r.regretNorm >= 0.3;
           const verdict = bad
-            ? paint(color, "red", `optimizing this reward gives up ${pct(r.regretNorm)} of the achievable intent`)
+            ? paint(color, "red", `optimizing this reward ${regretText(r.regretNorm)}`)
             : paint(color, "green", `optimizing this reward keeps ${pct(1 - r.regretNorm)} of the achievable intent`);
-          text += `\nregret ${formatNumber(r.regret)} (${pct(r.regretNorm)} of the range above random): ${verdict}\n`;
-          const dRoute = drawRoute(model, r.designerOptimal.policy);
+          const share = r.regretNorm <= 1 ? ` (${pct(r.regretNorm)} of the range above random)` : "";
+          text += `\nregret ${formatNumber(r.regret)}${share}: ${verdict}\n`;
+          const dRoute = drawRoute(model, r.designerOptimal.policy, { legend: false });
           const iRoute = drawRoute(model, r.intentOptimal.policy);
           if (dRoute) text += `\ndesigner-optimal route:\n${dRoute}\nintent-optimal route:\n${iRoute}`;
-          text += `\nExact values on the model. ${CAUTION}\n`;
+          text += `\nExact values on the model. ${STATIC_CAUTION}\n`;
           return text;
         });
       }),
