@@ -10,6 +10,8 @@ import { InputError } from "../errors.js";
 import { canonicalJson } from "../util/canonical-json.js";
 import type { TrainConfigInput } from "../run/schema.js";
 import { inputsOf } from "../env/inputs.js";
+import { fileFamily } from "../env/resolve.js";
+import { splitLayout } from "../env/layout-spec.js";
 import type { BatchJob } from "./types.js";
 
 export interface SweepSpec {
@@ -84,7 +86,8 @@ export function jobIdOf(input: TrainConfigInput, files: Record<string, string> =
 
 /** The input digest of a job's config, without loading the model (a `.json`/module `--env` is a file; a `--reward` ending in .json that exists is a file). */
 export function jobInputsHash(input: TrainConfigInput): string {
-  const envIsFile = /\.json$/i.test(input.env) || /\.(m|c)?[jt]sx?$/i.test(input.env);
+  const base = splitLayout(input.env).base;
+  const envIsFile = /\.json$/i.test(base) || /\.(m|c)?[jt]sx?$/i.test(base) || fileFamily(base) !== null;
   return inputsOf(input.env, envIsFile, input.reward, false).hash;
 }
 

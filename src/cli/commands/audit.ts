@@ -7,7 +7,7 @@ import { EXIT, InputError } from "../../errors.js";
 import { commandLine } from "../../report/standalone.js";
 import { action, numberOption, type CliContext } from "../context.js";
 import { CAUTION, emit, paint, useColor } from "../io.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, rewardOption, runsDirOf, runsDirOption } from "../options.js";
+import { envOf, envOption, layoutOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, rewardOption, runsDirOf, runsDirOption } from "../options.js";
 import { resolve } from "node:path";
 
 /** The file options `audit` and `pressure` share, as given on the command line. */
@@ -37,6 +37,7 @@ export function registerAudit(program: Command, ctx: CliContext): void {
     .command("audit")
     .description("static checks of a reward on the finite model: reward loops, shaping, regret, early exit, risk, weight sensitivity")
     .addOption(envOption())
+    .addOption(layoutOption())
     .addOption(rewardOption())
     .option("--max-risk <p>", "largest tolerated failure probability of the designer-optimal route (default 0.01)")
     .option("--fail-on <severity>", "exit 3 when a finding of this severity or worse exists: critical or warning")
@@ -53,9 +54,9 @@ export function registerAudit(program: Command, ctx: CliContext): void {
           throw new InputError("cli.failOn", `--fail-on expects critical or warning, got "${opts.failOn}"`, "--fail-on");
         }
         const outputs = documentOutputs(ctx, opts);
-        const args = ["gapwatch", "audit", "--env", opts.env, ...(opts.reward !== undefined ? ["--reward", opts.reward] : []), ...(opts.maxRisk !== undefined ? ["--max-risk", opts.maxRisk] : []), ...(opts.sensitivity === false ? ["--no-sensitivity"] : [])];
+        const args = ["gapwatch", "audit", "--env", envOf(opts), ...(opts.reward !== undefined ? ["--reward", opts.reward] : []), ...(opts.maxRisk !== undefined ? ["--max-risk", opts.maxRisk] : []), ...(opts.sensitivity === false ? ["--no-sensitivity"] : [])];
         const { model, result, audit, written, doc } = await runAuditCommand({
-          env: opts.env,
+          env: envOf(opts),
           reward: opts.reward,
           maxRisk,
           sensitivity: opts.sensitivity,

@@ -15,7 +15,7 @@ import { InputError, EXIT } from "../../errors.js";
 import { BOOTSTRAP_DEFAULTS } from "../../stats/bootstrap.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { CAUTION, emit, paint, table, useColor } from "../io.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, runsDirOf, runsDirOption } from "../options.js";
+import { envOf, envOption, layoutOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, runsDirOf, runsDirOption } from "../options.js";
 import { progressLine } from "../progress.js";
 
 interface CompareCliOptions {
@@ -97,6 +97,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .command("compare")
     .description("train every reward variant on the same seeds, locally or on many machines; rank by intent with bootstrap intervals")
     .addOption(envOption().makeOptionMandatory(false))
+    .addOption(layoutOption())
     .option("--rewards <list>", "comma-separated reward variant names or reward files (required unless --collect)")
     .option("--learners <list>", `comma-separated learners (default ${defaultLearner})`)
     .option("--seeds <n>", "seeds 1..n (default 10)")
@@ -134,7 +135,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
           return out.gate ? EXIT.gate : EXIT.ok;
         }
         if (opts.failOn !== undefined) throw new InputError("cli.conflict", "--fail-on goes with --collect", "--fail-on");
-        if (!opts.env) throw new InputError("cli.missing", "compare needs --env (or --collect DIR)", "--env");
+        if (!envOf(opts)) throw new InputError("cli.missing", "compare needs --env (or --collect DIR)", "--env");
         if (!opts.rewards) throw new InputError("cli.missing", "compare needs --rewards (or --collect DIR)", "--rewards");
         if (opts.seeds !== undefined && opts.seedList !== undefined) throw new InputError("cli.conflict", "give --seeds or --seed-list, not both", "--seed-list");
         const seeds = opts.seedList !== undefined ? parseSeedList(opts.seedList) : Array.from({ length: intOption(opts.seeds, "--seeds", { def: 10, max: MAX_SWEEP_RUNS }) }, (_, i) => i + 1);
@@ -143,7 +144,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
           const file = resolve(ctx.io.cwd, opts.plan);
           const { plan, doc } = await writePlanCommand(
             {
-              env: opts.env,
+              env: envOf(opts),
               rewards: parseList(opts.rewards, "--rewards"),
               learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
               seeds,
@@ -161,7 +162,7 @@ export function registerCompare(program: Command, ctx: CliContext): void {
         const t0 = Date.now();
         const { result, report, doc } = await runCompareCommand(
           {
-            env: opts.env,
+            env: envOf(opts),
             rewards: parseList(opts.rewards, "--rewards"),
             learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
             seeds,

@@ -3,7 +3,7 @@ import { runPressure } from "../../app/pressure.js";
 import { commandLine } from "../../report/standalone.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { emit, formatNumber, paint, sparkline, useColor } from "../io.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOption, rewardOption, runsDirOption } from "../options.js";
+import { envOf, envOption, layoutOption, jsonOption, maxStatesOf, maxStatesOption, reportOption, rewardOption, runsDirOption } from "../options.js";
 import { documentOutputs, printWritten, type DocumentOutputFlags } from "./audit.js";
 
 export function registerPressure(program: Command, ctx: CliContext): void {
@@ -11,6 +11,7 @@ export function registerPressure(program: Command, ctx: CliContext): void {
     .command("pressure")
     .description("designer return and intent of soft-optimal policies of increasing optimization strength (the Goodhart curve)")
     .addOption(envOption())
+    .addOption(layoutOption())
     .addOption(rewardOption())
     .option("--reference <file>", "reference policy (JSON with a \"policy\" array, e.g. a train run's policy.json); default uniform random")
     .option("--learners", "also train tabular Q-learning at increasing step budgets and evaluate each greedy policy exactly")
@@ -24,9 +25,9 @@ export function registerPressure(program: Command, ctx: CliContext): void {
       action(ctx, async (opts: { env: string; reward?: string; reference?: string; learners?: boolean; seed?: string; maxStates?: string; json?: boolean } & DocumentOutputFlags) => {
         const seed = opts.seed === undefined ? undefined : intOption(opts.seed, "--seed", { min: 0 });
         const outputs = documentOutputs(ctx, opts);
-        const args = ["gapwatch", "pressure", "--env", opts.env, ...(opts.reward !== undefined ? ["--reward", opts.reward] : []), ...(opts.reference !== undefined ? ["--reference", opts.reference] : []), ...(opts.learners ? ["--learners"] : []), ...(opts.seed !== undefined ? ["--seed", opts.seed] : [])];
+        const args = ["gapwatch", "pressure", "--env", envOf(opts), ...(opts.reward !== undefined ? ["--reward", opts.reward] : []), ...(opts.reference !== undefined ? ["--reference", opts.reference] : []), ...(opts.learners ? ["--learners"] : []), ...(opts.seed !== undefined ? ["--seed", opts.seed] : [])];
         const { curve, learners, written, doc } = await runPressure({
-          env: opts.env,
+          env: envOf(opts),
           reward: opts.reward,
           reference: opts.reference,
           learners: opts.learners,
