@@ -11,7 +11,7 @@ import { drawingBlock } from "./audit.js";
 import { chartFigure } from "./charts.js";
 import { esc } from "./escape.js";
 import { page } from "./page.js";
-import { ROLE } from "./palette.js";
+import { OKABE_ITO, ROLE } from "./palette.js";
 import { caution, facts, footer, kvTable, num, pct, sectionOpen } from "./sections.js";
 
 export interface RetuneReportInput {
@@ -34,7 +34,7 @@ function holdoutSpec(doc: RetuneDoc): TopLevelSpec {
         encoding: {
           x: { field: "layout", type: "ordinal", sort: null, title: "held-out layout", axis: values.length > 40 ? { labels: false, ticks: false } : {} },
           y: { field: "regretNorm", type: "quantitative", title: "regretNorm" },
-          color: { field: "gaming", type: "nominal", scale: { domain: ["games", "keeps intent"], range: [ROLE.alert, ROLE.intent] }, title: null },
+          color: { field: "gaming", type: "nominal", scale: { domain: ["games", "keeps intent"], range: [ROLE.alert, OKABE_ITO.bluishGreen] }, title: null },
         },
       },
       { data: { values: [{ y: doc.holdout.gamingAt }] }, mark: { type: "rule", strokeDash: [4, 3], color: "#555" }, encoding: { y: { field: "y", type: "quantitative" } } },

@@ -123,5 +123,6 @@ export async function loadSimulator(file: string, opts: SimulatorLoadOptions = {
   const compiled = compileModuleStates(def, { maxStates: opts.maxStates ?? DEFAULT_MAX_STATES, source: file });
   const model = compiled?.model;
   const simulator: SimulatorHandle = { def, source: file, states: compiled?.states };
-  return { simulator, model: model ? { ...model, source: file } : undefined };
+  // A layout's model is named <name>#<layout>, like the layouts of built-in scenarios.
+  return { simulator, model: model ? { ...model, ...(layout > 0 ? { name: `${model.name}#${layout}` } : {}), source: file } : undefined };
 }
