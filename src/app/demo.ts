@@ -8,6 +8,7 @@ import { sparklines } from "../report/terminal.js";
 import { writeReport } from "../report/write.js";
 import type { RunResult } from "../run/schema.js";
 import { runTraining } from "../train/run.js";
+import { layoutStory } from "./demo-layouts.js";
 
 export interface DemoRow {
   env: string;
@@ -64,9 +65,11 @@ export async function runDemoCommand(cfg: DemoCommandConfig) {
   const rows = await runDemo({ runsDir: cfg.runsDir, seed: cfg.seed, signal: cfg.signal });
   const reports: string[] = [];
   if (cfg.report) for (const row of rows) reports.push(await writeReport(row.runDir));
+  const layouts = layoutStory();
   const doc = {
     seed: cfg.seed,
     runs: rows.map(({ designerSpark: _d, intentSpark: _i, ...rest }, i) => (cfg.report ? { ...rest, report: reports[i] } : rest)),
+    layouts: layouts.doc,
   };
-  return { rows, reports, doc };
+  return { rows, reports, doc, layoutLines: layouts.lines };
 }

@@ -56,7 +56,7 @@ export function registerDemo(program: Command, ctx: CliContext): void {
         const { value: out, aborted } = await withInterrupt((signal) => runDemoCommand({ runsDir, seed, report: opts.report, signal }));
         const { rows, reports, doc } = out;
         emit(ctx.io, Boolean(opts.json), doc, () => {
-          let t = demoText(rows, useColor(ctx.io));
+          let t = demoText(rows, useColor(ctx.io)) + "\n" + out.layoutLines.join("\n") + "\n";
           if (reports.length) t += `HTML reports: ${reports.length} written, e.g. ${reports.find((_, i) => rows[i].verdict === "decoupled") ?? reports[0]}\n`;
           return t;
         });
