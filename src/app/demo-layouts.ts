@@ -20,7 +20,7 @@ export interface LayoutStoryDoc {
   named: { reward: string; gaming: number; gamingRate: number };
 }
 
-export function layoutStory(): { doc: LayoutStoryDoc; lines: string[] } {
+export async function layoutStory(): Promise<{ doc: LayoutStoryDoc; lines: string[] }> {
   const meta = readScenarioMeta(ENV);
   const gen = readAisleRoomOptions(meta.layouts as Record<string, unknown>, ENV);
   const tuning: number[] = [];
@@ -32,7 +32,7 @@ export function layoutStory(): { doc: LayoutStoryDoc; lines: string[] } {
     { feature: "step", lo: -0.1, hi: 0 },
     { feature: "fragile", lo: -2, hi: 2 },
   ];
-  const { doc } = runRetune({ env: ENV, reward: "aisle-tuned", start: weightsOf("aisle-tuned"), bounds, tuning: tuning.map((n) => ({ layout: n, model: load(n) })), holdout: HOLDOUT, loadLayout: load, budget: 10, seed: 1 });
+  const { doc } = await runRetune({ env: ENV, reward: "aisle-tuned", start: weightsOf("aisle-tuned"), bounds, tuning: tuning.map((n) => ({ layout: n, model: load(n) })), holdout: HOLDOUT, loadLayout: load, budget: 10, seed: 1 });
   const named = evaluateHoldout(HOLDOUT, load, weightsOf("default"));
   const causes = doc.features.filter((f) => f.likelyCause).map((f) => f.name);
   const pct = (x: number) => `${Math.round(100 * x)}%`;

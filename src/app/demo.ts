@@ -65,7 +65,7 @@ export async function runDemoCommand(cfg: DemoCommandConfig) {
   const rows = await runDemo({ runsDir: cfg.runsDir, seed: cfg.seed, signal: cfg.signal });
   const reports: string[] = [];
   if (cfg.report) for (const row of rows) reports.push(await writeReport(row.runDir));
-  const layouts = layoutStory();
+  const layouts = await layoutStory();
   const doc = {
     seed: cfg.seed,
     runs: rows.map(({ designerSpark: _d, intentSpark: _i, ...rest }, i) => (cfg.report ? { ...rest, report: reports[i] } : rest)),

@@ -3,6 +3,7 @@
  * then evaluate them on disjoint held-out layouts (method in src/tune/search.ts, document in
  * src/tune/run.ts). Loads the layouts, checks the inputs, writes the HTML report when asked.
  */
+import { availableParallelism } from "node:os";
 import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { loadEnvSync, loadFinite, resolveReward, splitLayout, withLayout } from "../env/index.js";
@@ -13,6 +14,7 @@ import { writeReportFile } from "../report/write.js";
 import { writeJsonAtomic } from "../store/atomic.js";
 import { runRetune, type RetuneDoc } from "../tune/run.js";
 import type { FeatureBounds } from "../tune/search.js";
+import { holdoutRegretsParallel, PARALLEL_FROM } from "../tune/parallel.js";
 import { ownValue } from "../util/own.js";
 import { packageVersion } from "../util/paths.js";
 
@@ -29,6 +31,8 @@ export interface RetuneConfig {
   budget: number;
   seed: number;
   maxStates?: number;
+  /** Worker threads for the held-out evaluation when there are more than PARALLEL_FROM layouts (default: the machine's cores; 1 = this thread). */
+  threads?: number;
   /** Write the HTML report: true for `<runsDir>/retune-<env>.html`, or a file. */
   report?: boolean | string;
   runsDir?: string;
@@ -75,7 +79,20 @@ export async function runRetuneCommand(cfg: RetuneConfig): Promise<{ doc: Retune
   const start: Record<string, number> = Object.create(null) as Record<string, number>;
   for (const f of first.features) start[f] = ownValue(variant.weights, f) ?? 0;
   const tuning = cfg.tuning.map((n) => ({ layout: n, model: load(n) }));
-  const { doc, worstModel, worstRoute } = runRetune({ env: base, reward: variant.name, start, bounds: cfg.move, tuning, holdout: cfg.holdout, loadLayout: load, budget: cfg.budget, seed: cfg.seed });
+  const threads = cfg.threads ?? availableParallelism();
+  const pooled = cfg.holdout.length > PARALLEL_FROM && threads > 1;
+  const { doc, worstModel, worstRoute } = await runRetune({
+    env: base,
+    reward: variant.name,
+    start,
+    bounds: cfg.move,
+    tuning,
+    holdout: cfg.holdout,
+    loadLayout: load,
+    budget: cfg.budget,
+    seed: cfg.seed,
+    ...(pooled ? { holdoutRegrets: (w: Record<string, number>) => holdoutRegretsParallel(base, cfg.holdout, w, { threads, maxStates: cfg.maxStates }) } : {}),
+  });
   let report: string | null = null;
   if (cfg.report) {
     const slug = base.replace(/[^A-Za-z0-9._-]+/g, "_").slice(-60);

@@ -29,6 +29,8 @@ export interface RetuneInput {
   loadLayout: (layout: number) => FiniteModel;
   budget: number;
   seed: number;
+  /** Held-out regretNorms of given weights, in `holdout` order (e.g. on worker threads); default: solved here, one by one. */
+  holdoutRegrets?: (weights: Record<string, number>) => Promise<number[]>;
 }
 
 export interface WorstLayout {
@@ -82,9 +84,11 @@ export function worstEvidence(model: FiniteModel, layout: number, weights: Recor
 const end = (x: number): number | null => (Number.isFinite(x) ? x : null);
 const SUGGEST = 5;
 
-export function runRetune(input: RetuneInput): { doc: RetuneDoc; worstModel: FiniteModel | null; worstRoute: number[] } {
+export async function runRetune(input: RetuneInput): Promise<{ doc: RetuneDoc; worstModel: FiniteModel | null; worstRoute: number[] }> {
   const found = searchWeights(input.tuning, input.start, input.bounds, { budget: input.budget, seed: input.seed });
-  const held = evaluateHoldout(input.holdout, input.loadLayout, found.weights);
+  const held = input.holdoutRegrets
+    ? summarizeHoldout(holdoutRows(input.holdout, await input.holdoutRegrets(found.weights)))
+    : evaluateHoldout(input.holdout, input.loadLayout, found.weights);
   const gamingLayouts = held.rows.filter((r) => r.gaming).map((r) => r.layout);
   const diag = diagnose(input.tuning, found.weights, input.bounds, gamingLayouts.slice(0, 50).map((n) => ({ layout: n, model: input.loadLayout(n) })));
   let worst: WorstLayout | null = null;

@@ -10,6 +10,9 @@ import { aisleRoom, layoutRng, readAisleRoomOptions } from "../../src/model/layo
 import { wilsonInterval } from "../../src/stats/wilson.js";
 import { runRetune } from "../../src/tune/run.js";
 import { layoutRegret, moveInto } from "../../src/tune/search.js";
+import { holdoutRegretsParallel } from "../../src/tune/parallel.js";
+
+const range = (a: number, b: number) => Array.from({ length: b - a + 1 }, (_, i) => a + i);
 
 const ENV = "glasshouse-trolley";
 const opts = readAisleRoomOptions(readScenarioMeta(ENV).layouts as Record<string, unknown>, ENV);
@@ -29,12 +32,12 @@ const bounds = [
   { feature: "fragile", lo: -2, hi: 2 },
 ];
 const start = { goal: 1, step: -0.02, fragile: 0 };
-const retune = (tuning: number[]) =>
-  runRetune({ env: ENV, reward: "aisle-tuned", start, bounds, tuning: tuning.map((n) => ({ layout: n, model: load(n) })), holdout: HOLDOUT, loadLayout: load, budget: 10, seed: 1 }).doc;
+const retune = async (tuning: number[]) =>
+  (await runRetune({ env: ENV, reward: "aisle-tuned", start, bounds, tuning: tuning.map((n) => ({ layout: n, model: load(n) })), holdout: HOLDOUT, loadLayout: load, budget: 10, seed: 1 })).doc;
 
 describe("retune on glasshouse-trolley", () => {
-  it("tuned only on clear-aisle layouts: the tray weight stays 0, unconstrained, and a clear share of held-out layouts game", () => {
-    const doc = retune(clear.slice(0, 5));
+  it("tuned only on clear-aisle layouts: the tray weight stays 0, unconstrained, and a clear share of held-out layouts game", async () => {
+    const doc = await retune(clear.slice(0, 5));
     expect(doc.search.accepted).toBe(true);
     expect(doc.tuning.maxRegretNorm).toBeLessThanOrEqual(1e-6);
     expect(doc.tuned.weights.fragile).toBe(0);
@@ -58,8 +61,8 @@ describe("retune on glasshouse-trolley", () => {
     expect(doc.features.find((f) => f.name === "step")!.likelyCause).toBe(false);
   });
 
-  it("one tuning layout with a tray in the aisle: the tray weight is constrained (negative) and no held-out layout games", () => {
-    const doc = retune([...clear.slice(0, 4), nearDock[0]]);
+  it("one tuning layout with a tray in the aisle: the tray weight is constrained (negative) and no held-out layout games", async () => {
+    const doc = await retune([...clear.slice(0, 4), nearDock[0]]);
     expect(doc.search.accepted).toBe(true);
     const fragile = doc.features.find((f) => f.name === "fragile")!;
     expect(fragile.constrained).toBe(true);
@@ -70,8 +73,8 @@ describe("retune on glasshouse-trolley", () => {
     expect(doc.diagnosis).toEqual([]);
   });
 
-  it("the search is reproducible: the same inputs and seed give the same document", () => {
-    expect(JSON.stringify(retune(clear.slice(0, 3)))).toBe(JSON.stringify(retune(clear.slice(0, 3))));
+  it("the search is reproducible: the same inputs and seed give the same document", async () => {
+    expect(JSON.stringify(await retune(clear.slice(0, 3)))).toBe(JSON.stringify(await retune(clear.slice(0, 3))));
   });
 });
 
@@ -82,4 +85,17 @@ describe("moveInto", () => {
     expect(moveInto(-1, [0.2, Infinity])).toBeCloseTo(0.8, 12);
     expect(moveInto(-1, [0.2, 0.4])).toBeCloseTo(0.3, 12);
   });
+});
+
+describe("held-out evaluation on worker threads", () => {
+  it("gives the same regretNorms, in layout order, as solving the layouts one by one here", async () => {
+    const layouts = range(700, 712);
+    const weights = { goal: 1, step: -0.02, fragile: 0 };
+    const here = layouts.map((n) => layoutRegret(load(n), weights));
+    expect(await holdoutRegretsParallel(ENV, layouts, weights, { threads: 3 })).toEqual(here);
+    expect(here.some((x) => x >= 0.3)).toBe(true);
+  }, 60_000);
+  it("an unknown layout family member fails with its input error", async () => {
+    await expect(holdoutRegretsParallel("tests/fixtures/models/sb-4x4.json", [1, 2], {}, { threads: 2 })).rejects.toThrow(/one model, not a family/);
+  }, 60_000);
 });

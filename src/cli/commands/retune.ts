@@ -16,6 +16,7 @@ interface RetuneFlags {
   budget?: string;
   seed?: string;
   failOnHoldout?: string;
+  threads?: string;
   maxStates?: string;
   json?: boolean;
   report?: boolean | string;
@@ -33,6 +34,7 @@ export function registerRetune(program: Command, ctx: CliContext): void {
     .requiredOption("--hold-out <range>", "held-out layouts, disjoint from the tuning ones, e.g. 100-199")
     .option("--budget <n>", "most coordinate rounds of the search, across restarts (default 20)")
     .option("--seed <n>", "seed of the random restarts (default 0)")
+    .option("--threads <n>", "worker threads for the held-out evaluation when there are more than 50 held-out layouts (default: the machine's cores; 1 = no threads)")
     .option("--fail-on-holdout <rate>", "exit 3 when the share of held-out layouts that game is above this rate")
     .addOption(reportOption("an HTML page: regretNorm per held-out layout and the worst layout's map", "<runs-dir>/retune-<env>.html"))
     .addOption(runsDirOption("where --report goes by default"))
@@ -50,6 +52,7 @@ export function registerRetune(program: Command, ctx: CliContext): void {
           budget: intOption(opts.budget, "--budget", { min: 1, max: 10_000, def: 20 }),
           seed: intOption(opts.seed, "--seed", { min: 0, def: 0 }),
           maxStates: maxStatesOf(opts),
+          threads: opts.threads === undefined ? undefined : intOption(opts.threads, "--threads", { min: 1, max: 256 }),
           report: reportOf(ctx.io, opts.report),
           runsDir: runsDirOf(ctx.io, opts),
         });
