@@ -11,6 +11,7 @@ import { wilsonInterval } from "../../src/stats/wilson.js";
 import { runRetune } from "../../src/tune/run.js";
 import { layoutRegret, moveInto } from "../../src/tune/search.js";
 import { holdoutRegretsParallel } from "../../src/tune/parallel.js";
+import { parseMoves } from "../../src/app/retune.js";
 
 const range = (a: number, b: number) => Array.from({ length: b - a + 1 }, (_, i) => a + i);
 
@@ -98,4 +99,14 @@ describe("held-out evaluation on worker threads", () => {
   it("an unknown layout family member fails with its input error", async () => {
     await expect(holdoutRegretsParallel("tests/fixtures/models/sb-4x4.json", [1, 2], {}, { threads: 2 })).rejects.toThrow(/one model, not a family/);
   }, 60_000);
+});
+
+describe("--move", () => {
+  it("parses name=lo:hi lists and refuses bad bounds, repeats and __proto__ with retune.move", () => {
+    expect(parseMoves("step=-0.1:0, fragile=-2:2e0")).toEqual([
+      { feature: "step", lo: -0.1, hi: 0 },
+      { feature: "fragile", lo: -2, hi: 2 },
+    ]);
+    for (const bad of ["step", "step=1:0", "step=a:b", "step=0:1,step=0:2", "__proto__=0:1"]) expect(() => parseMoves(bad), bad).toThrow(expect.objectContaining({ code: "retune.move" }));
+  });
 });
