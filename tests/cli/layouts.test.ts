@@ -58,10 +58,26 @@ describe("--layout", () => {
   });
 });
 
+describe("retune on a built-in family", () => {
+  it("human table names the likely cause; the report draws the worst layout's map with the route", async () => {
+    const runsDir = tempDir("retune-builtin");
+    const r = await cli("retune", "--env", "glasshouse-trolley", "--reward", "aisle-tuned", "--move", "step=-0.1:0,fragile=-2:2", "--tune-on", "3,6,7", "--hold-out", "30-45", "--report", "--runs-dir", runsDir);
+    expect(r.code).toBe(0);
+    expect(r.out).toMatch(/fragile .* no +yes/);
+    expect(r.out).toMatch(/held-out layouts gamed \(regretNorm >= 0\.3\): \d+ of 16/);
+    const file = r.err.match(/report: (.*)/)![1].trim();
+    expect(file).toBe(join(runsDir, "retune-glasshouse-trolley.html"));
+    const html = readFileSync(file, "utf8");
+    expect(html).toContain("data-drawing");
+    expect(html).toContain('data-feature="fragile"');
+    expect(JSON.parse(readFileSync(file.replace(/\.html$/, ".json"), "utf8")).holdout.layouts).toHaveLength(16);
+  });
+});
+
 describe("a user-module family through retune, audit --layouts, compare --layouts", () => {
   const clear = range(0, 12).filter((n) => !spillOnRoute(n)).slice(0, 3);
   const onRoute = range(1, 12).filter((n) => spillOnRoute(n));
-  it("retune on layouts whose spill is off the route: spill unconstrained, held-out layouts with the spill on the route game; exit 3 past --fail-on-holdout; the report escapes names", async () => {
+  it("retune on layouts whose spill is off the route: spill unconstrained, held-out layouts with the spill on the route game; exit 3 past --fail-on-holdout; the report has the chart and the worst layout", async () => {
     const runsDir = tempDir("retune");
     const args = ["retune", "--env", FAM, "--reward", "fast", "--move", "spill=-2:2,step=-0.1:0", "--tune-on", clear.join(","), "--hold-out", "20-59"];
     const r = await cli(...args, "--json", "--report", join(runsDir, "r.html"));
@@ -89,6 +105,13 @@ describe("a user-module family through retune, audit --layouts, compare --layout
     const overlap = await cli("retune", "--env", FAM, "--move", "spill=-2:2", "--tune-on", "1-5", "--hold-out", "5-9");
     expect(overlap.code).toBe(2);
     expect(overlap.err).toMatch(/disjoint/);
+  });
+
+  it("every layout of the module family passes gapwatch check", async () => {
+    for (const n of [0, 2, 3, 7]) {
+      const r = await cli("check", "--env", FAM, "--layout", String(n), "--runs", "10", "--json");
+      expect(r.code, `layout ${n}: ${r.err}`).toBe(0);
+    }
   });
 
   it("audit --layouts counts the layouts with a critical finding: those with the spill on the route", async () => {
