@@ -57,7 +57,7 @@ function layoutLoader(base: string, maxStates: number | undefined): (n: number) 
   return (n: number) => loadEnvSync(withLayout(base, n), { maxStates }).model;
 }
 
-export async function runRetuneCommand(cfg: RetuneConfig): Promise<{ doc: RetuneDoc & { report?: string }; report: string | null }> {
+export async function runRetuneCommand(cfg: RetuneConfig): Promise<{ doc: RetuneDoc & { report?: string }; report: string | null; worstModel: FiniteModel | null; worstRoute: number[] }> {
   const base = splitLayout(cfg.env).base;
   if (cfg.tuning.length === 0) throw new InputError("retune.layouts", "give at least one tuning layout", "--tune-on");
   if (cfg.holdout.length === 0) throw new InputError("retune.layouts", "give at least one held-out layout", "--hold-out");
@@ -100,5 +100,5 @@ export async function runRetuneCommand(cfg: RetuneConfig): Promise<{ doc: Retune
     report = writeReportFile(out, await renderRetuneReport({ doc, worstModel, worstRoute, version: packageVersion() }));
     writeJsonAtomic(report.replace(/\.html?$/i, "") + ".json", doc);
   }
-  return { doc: report ? { ...doc, report } : doc, report };
+  return { doc: report ? { ...doc, report } : doc, report, worstModel, worstRoute };
 }

@@ -1,6 +1,7 @@
 import type { Command } from "commander";
 import { parseMoves, runRetuneCommand } from "../../app/retune.js";
 import { parseLayoutRange } from "../../env/layout-spec.js";
+import { drawStates } from "../../audit/draw.js";
 import { EXIT } from "../../errors.js";
 import { fmtInterval } from "../../tune/run.js";
 import { action, intOption, numberOption, type CliContext } from "../context.js";
@@ -43,7 +44,7 @@ export function registerRetune(program: Command, ctx: CliContext): void {
     .action(
       action(ctx, async (opts: RetuneFlags) => {
         const failAt = opts.failOnHoldout === undefined ? undefined : numberOption(opts.failOnHoldout, "--fail-on-holdout", { min: 0, max: 1 });
-        const { doc } = await runRetuneCommand({
+        const { doc, worstModel, worstRoute } = await runRetuneCommand({
           env: opts.env,
           reward: opts.reward,
           move: parseMoves(opts.move),
@@ -72,6 +73,15 @@ export function registerRetune(program: Command, ctx: CliContext): void {
             text += `worst: layout ${h.worst.layout}, regretNorm ${h.worst.regretNorm.toFixed(3)}`;
             if (h.worst.divergence) text += `; leaves the intended route at ${h.worst.divergence.state}: ${h.worst.divergence.designerAction} where ${h.worst.divergence.intentAction} is intended`;
             text += "\n";
+            const pic = worstModel ? drawStates(worstModel, worstRoute, "x") : null;
+            if (pic) {
+              // The layout beside the route (x), so what the route runs over stays visible.
+              const lay = worstModel?.layout;
+              const left = lay?.kind === "grid" ? lay.map : [];
+              const right = pic.replace(/\n$/, "").split("\n");
+              const width = Math.max(0, ...left.map((l) => l.length));
+              for (let i = 0; i < Math.max(left.length, right.length); i++) text += `    ${(left[i] ?? "").padEnd(width)}${left.length ? "   " : ""}${right[i] ?? ""}\n`;
+            }
           }
           for (const d of doc.diagnosis) text += `- ${d}\n`;
           text += `\nExact solves on every layout. ${CAUTION}\n`;
