@@ -4,6 +4,10 @@
  * (`<env>#<N>`, `--layouts A-B`) parse as documented.
  */
 import fc from "fast-check";
+import { copyFileSync, mkdtempSync, rmSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
+import { exportModel, formatModelDocument } from "../../src/model/format/export.js";
 import { describe, expect, it } from "vitest";
 import { runCheck } from "../../src/check/run.js";
 import { builtinScenarioNames, loadEnvSync, loadScenario, parseLayoutRange, splitLayout, withLayout } from "../../src/env/index.js";
@@ -62,5 +66,16 @@ describe("layout specs", () => {
     const list = "tests/fixtures/models/sb-4x4.json,tests/fixtures/models/sb-4x4.json";
     expect(loadEnvSync(`${list}#1`).model.nStates).toBe(loadEnvSync("tests/fixtures/models/sb-4x4.json").model.nStates);
     expect(() => loadEnvSync(`${list}#2`)).toThrow(/layouts 0\.\.1/);
+    // A folder: its model files sorted by name.
+    const dir = mkdtempSync(join(tmpdir(), "gw-family-"));
+    try {
+      copyFileSync("tests/fixtures/models/sb-4x4.json", join(dir, "b.json"));
+      writeFileSync(join(dir, "a.json"), formatModelDocument(exportModel(loadEnvSync("fresh-coat-tug").model)));
+      expect(loadEnvSync(dir).model.nStates).toBe(loadEnvSync("fresh-coat-tug").model.nStates);
+      expect(loadEnvSync(`${dir}#1`).model.nStates).toBe(loadEnvSync("tests/fixtures/models/sb-4x4.json").model.nStates);
+      expect(loadEnvSync(`${dir}#1`).spec).toBe(`${dir}#1`);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   });
 });
