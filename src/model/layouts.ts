@@ -9,9 +9,11 @@
  * generator that cannot find one in MAX_ATTEMPTS draws says so (`env.layout`).
  *
  * Generators, per family:
- *  - grid, "shuffle" (default): the walls, slick and one-way cells stay; the special cells (starts with
- *    their group digits, goals, hazards, items, tags, fragile cells) are placed at random on the
- *    non-wall cells, keeping how many of each there are.
+ *  - grid, "shuffle" (default): the map is first stretched by 0-2 extra rows and 0-2 extra columns
+ *    (each a copy of a random interior row or column, its special cells turned to floor), so sizes vary
+ *    within the written size + 2; walls, slick and one-way cells keep their shape; then the special
+ *    cells (starts with their group digits, goals, hazards, items, tags, fragile cells) are placed at
+ *    random on the non-wall plain cells, keeping how many of each there are.
  *  - grid, "aisle-room" (scenario.json `layouts.generator`): a walled room of `rows` x `cols` interior
  *    cells (each drawn within its [min, max] range; rows odd) with the start at the west end of the
  *    middle row (the aisle) and the goal at its east end; `trays` fragile cells (a count drawn in its
@@ -59,8 +61,25 @@ export function gridSolvable(lines: readonly string[]): boolean {
 
 const SPECIAL = /^[@1-9*!+?%]$/;
 
-/** "shuffle": the special cells of `base` placed at random on its non-wall plain cells. */
-export function shuffleGrid(base: readonly string[], rng: Rng, where = "map"): string[] {
+/** Insert `extraRows` copies of random interior rows and `extraCols` of columns (special cells as floor). */
+export function stretchGrid(base: readonly string[], rng: Rng, extraRows: number, extraCols: number): string[] {
+  const plain = (text: string) => text.replace(/[@1-9*!+?%]/g, ".");
+  const grid = base.slice();
+  for (let k = 0; k < extraRows && grid.length > 2; k++) {
+    const r = 1 + rng.int(grid.length - 2);
+    grid.splice(r + 1, 0, plain(grid[r]));
+  }
+  let out = grid;
+  for (let k = 0; k < extraCols && out[0].length > 2; k++) {
+    const c = 1 + rng.int(out[0].length - 2);
+    out = out.map((l) => l.slice(0, c + 1) + plain(l[c]) + l.slice(c + 1));
+  }
+  return out;
+}
+
+/** "shuffle": `base` stretched, then its special cells placed at random on its non-wall plain cells. */
+export function shuffleGrid(original: readonly string[], rng: Rng, where = "map"): string[] {
+  const base = stretchGrid(original, rng, rng.int(3), rng.int(3));
   const cells: { r: number; c: number }[] = [];
   const specials: string[] = [];
   base.forEach((line, r) => {
