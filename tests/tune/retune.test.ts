@@ -32,7 +32,7 @@ const bounds = [
   { feature: "step", lo: -0.1, hi: 0 },
   { feature: "fragile", lo: -2, hi: 2 },
 ];
-const start = { goal: 1, step: -0.02, fragile: 0 };
+const start = { goal: 1, step: -0.05, fragile: 0 };
 const retune = async (tuning: number[]) =>
   (await runRetune({ env: ENV, reward: "aisle-tuned", start, bounds, tuning: tuning.map((n) => ({ layout: n, model: load(n) })), holdout: HOLDOUT, loadLayout: load, budget: 10, seed: 1 })).doc;
 
@@ -91,7 +91,7 @@ describe("moveInto", () => {
 describe("held-out evaluation on worker threads", () => {
   it("gives the same regretNorms, in layout order, as solving the layouts one by one here", async () => {
     const layouts = range(700, 712);
-    const weights = { goal: 1, step: -0.02, fragile: 0 };
+    const weights = { goal: 1, step: -0.05, fragile: 0 };
     const here = layouts.map((n) => layoutRegret(load(n), weights));
     expect(await holdoutRegretsParallel(ENV, layouts, weights, { threads: 3 })).toEqual(here);
     expect(here.some((x) => x >= 0.3)).toBe(true);
