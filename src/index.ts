@@ -36,3 +36,6 @@ export { learners, train, defaultLearner } from "../policies/index.js";
 export * as stats from "./stats/index.js";
 export * as detectors from "./monitor/detectors/index.js";
 
+export { splitLayout, withLayout, parseLayoutRange, fileFamily } from "./env/index.js";
+export { searchWeights, layoutRegret, okInterval, diagnose, summarizeHoldout, GAMING_AT, type FeatureBounds, type LayoutModel } from "./tune/search.js";
+export { runRetune, evaluateHoldout, type RetuneDoc, type RetuneInput } from "./tune/run.js";

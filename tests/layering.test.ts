@@ -19,7 +19,7 @@ export const LAYERS: readonly (readonly string[])[] = [
   ["sim", "ingest"],
   ["env", "solve", "policies", "store"],
   ["audit", "pressure", "monitor", "check"],
-  ["train"],
+  ["train", "tune"],
   ["batch", "report"],
   ["app", "bench"],
   ["cli"],

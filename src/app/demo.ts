@@ -9,6 +9,7 @@ import { writeReport } from "../report/write.js";
 import type { RunResult } from "../run/schema.js";
 import { runTraining } from "../train/run.js";
 import { demoSharedBudget, sharedBudgetDoc } from "./demo-pressure.js";
+import { layoutStory } from "./demo-layouts.js";
 
 export interface DemoRow {
   env: string;
@@ -67,10 +68,12 @@ export async function runDemoCommand(cfg: DemoCommandConfig) {
   const sharedBudget = cfg.signal?.aborted ? null : await demoSharedBudget({ runs: rows, report: cfg.report });
   const reports: string[] = [];
   if (cfg.report) for (const row of rows) reports.push(await writeReport(row.runDir));
+  const layouts = await layoutStory();
   const doc = {
     seed: cfg.seed,
     runs: rows.map(({ designerSpark: _d, intentSpark: _i, ...rest }, i) => (cfg.report ? { ...rest, report: reports[i] } : rest)),
     ...(sharedBudget ? { sharedBudget: sharedBudgetDoc(sharedBudget) } : {}),
+    layouts: layouts.doc,
   };
-  return { rows, reports, sharedBudget, doc };
+  return { rows, reports, sharedBudget, doc, layoutLines: layouts.lines };
 }

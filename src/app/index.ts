@@ -15,3 +15,5 @@ export { runReportCommand, findOpener, type ReportCommandConfig } from "./report
 export { listRuns, type RunsConfig } from "./runs.js";
 export { checkRunDir, type DocumentOutputOptions } from "./outputs.js";
 export { ingestDocument, runIngest, systemClock, type IngestClock, type IngestConfig, type IngestFollowOptions } from "./ingest.js";
+export { runRetuneCommand, parseMoves, type RetuneConfig } from "./retune.js";
+export { runAuditLayouts, type AuditLayoutsConfig, type AuditLayoutsDoc } from "./audit-layouts.js";

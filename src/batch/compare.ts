@@ -65,6 +65,8 @@ export interface ComparisonDocument extends ComparisonStats {
     bootstrapSeed: number;
     bootstrapReps: number;
     backend: "local" | "redis" | "plan";
+    /** Present for `compare --layouts`: `seeds` are layout numbers, every run trained with this seed. */
+    layoutSeed?: number;
   };
   runDirs: { reward: string; learner: string; seed: number; runId: string; runDir: string }[];
   createdAt: string;
@@ -125,7 +127,7 @@ export async function runLocalBatch(jobs: BatchJob[], runsDir: string, workers: 
  * sweep lands in the same folder whichever way its runs were made (pool, queue, plan tasks).
  */
 export function writeComparison(
-  cfg: Pick<CompareConfig, "env" | "rewards" | "learners" | "seeds" | "steps" | "bootstrapSeed" | "reps">,
+  cfg: Pick<CompareConfig, "env" | "rewards" | "learners" | "seeds" | "steps" | "bootstrapSeed" | "reps" | "layoutSeed">,
   jobs: BatchJob[],
   outcomes: RunOutcome[],
   runsDir: string,
@@ -150,6 +152,7 @@ export function writeComparison(
     bootstrapSeed: cfg.bootstrapSeed,
     bootstrapReps: cfg.reps ?? BOOTSTRAP_DEFAULTS.reps,
     backend,
+    ...(cfg.layoutSeed !== undefined ? { layoutSeed: cfg.layoutSeed } : {}),
   };
   const { backend: _b, ...hashed } = config;
   const id = "compare-" + sha256(canonicalJson({ ...hashed, jobs: jobs.map((j) => j.jobId) })).slice(0, 12);

@@ -10,6 +10,8 @@ import { InputError } from "../errors.js";
 import { canonicalJson } from "../util/canonical-json.js";
 import type { TrainConfigInput } from "../run/schema.js";
 import { inputsOf } from "../env/inputs.js";
+import { fileFamily } from "../env/resolve.js";
+import { splitLayout, withLayout } from "../env/layout-spec.js";
 import type { BatchJob } from "./types.js";
 
 export interface SweepSpec {
@@ -22,6 +24,11 @@ export interface SweepSpec {
   base?: Omit<TrainConfigInput, "env" | "reward" | "learner" | "seed" | "steps">;
   /** State bound when `env` is a simulator module (`--max-states`); a load option, not part of a run's config or job id. */
   maxStates?: number;
+  /**
+   * Layouts as the paired rows (`compare --layouts`): `seeds` then lists layout numbers, each row runs
+   * on layout `<env>#<row>` and every run trains with this seed.
+   */
+  layoutSeed?: number;
 }
 
 /** Most runs one sweep may plan: beyond it a typo (--seeds 1000000000) would exhaust memory before any work. */
@@ -84,7 +91,8 @@ export function jobIdOf(input: TrainConfigInput, files: Record<string, string> =
 
 /** The input digest of a job's config, without loading the model (a `.json`/module `--env` is a file; a `--reward` ending in .json that exists is a file). */
 export function jobInputsHash(input: TrainConfigInput): string {
-  const envIsFile = /\.json$/i.test(input.env) || /\.(m|c)?[jt]sx?$/i.test(input.env);
+  const base = splitLayout(input.env).base;
+  const envIsFile = /\.json$/i.test(base) || /\.(m|c)?[jt]sx?$/i.test(base) || fileFamily(base) !== null;
   return inputsOf(input.env, envIsFile, input.reward, false).hash;
 }
 
@@ -97,8 +105,9 @@ export function planSweep(spec: SweepSpec, opts: { ship?: boolean } = {}): Batch
   for (const reward of spec.rewards) {
     for (const learner of spec.learners) {
       for (const seed of spec.seeds) {
-        const input: TrainConfigInput = { ...(spec.base ?? {}), env: spec.env, reward, learner, seed, ...(spec.steps !== undefined ? { steps: spec.steps } : {}) };
-        const key = `${reward}`;
+        const env = spec.layoutSeed === undefined ? spec.env : withLayout(splitLayout(spec.env).base, seed);
+        const input: TrainConfigInput = { ...(spec.base ?? {}), env, reward, learner, seed: spec.layoutSeed ?? seed, ...(spec.steps !== undefined ? { steps: spec.steps } : {}) };
+        const key = spec.layoutSeed === undefined ? `${reward}` : `${reward}\u0000${seed}`;
         let hit = cache.get(key);
         if (!hit) cache.set(key, (hit = { files: shipFiles(input), inputs: jobInputsHash(input) }));
         const files = hit.files;

@@ -23,13 +23,14 @@ import { compareEntry } from "./compare.js";
 import { reportEntry } from "./report.js";
 import { monitorEntry } from "./monitor.js";
 import { auditEntry, lavaAuditEntry } from "./audit.js";
+import { layoutsEntry } from "./layouts.js";
 import { startupEntry } from "./startup.js";
 import { ENGINE_NAME, out, oursEngineImpl, oursParImpl, oursWarmImpl, PAR_NAME, PAR_THREADS, WARM_NAME, WARM_STEPS, WARM_W, type BenchEntry, type BenchOptions, type Context } from "./harness.js";
 import { qlEntry, viEntry } from "./lava-entries.js";
 import { defaultPeersDir, oursImpl, readExpected, setupPeers } from "./peers.js";
 
 /** The benchmark's entries, in run order. */
-export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, lavaAuditEntry, compareEntry, startupEntry];
+export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, lavaAuditEntry, compareEntry, startupEntry, layoutsEntry];
 
 const USAGE =
   "usage: main.js [--quick] [--runs N] [--warmup N] [--only NAME,...] [--slow] [--peers DIR]\n" +

@@ -5,6 +5,7 @@
 import { Option } from "commander";
 import { resolve } from "node:path";
 import { DEFAULT_MAX_STATES } from "../sim/define.js";
+import { parseLayout, splitLayout, withLayout } from "../env/layout-spec.js";
 import { intOption } from "./context.js";
 import type { CliIO } from "./io.js";
 
@@ -45,4 +46,17 @@ export function runsDirOf(io: CliIO, opts: { runsDir?: string }): string {
 /** `--report [file]`: absent, true (the default place), or the file as an absolute path. */
 export function reportOf(io: CliIO, report: boolean | string | undefined): boolean | string | undefined {
   return typeof report === "string" ? resolve(io.cwd, report) : report;
+}
+
+/** `--layout N`: one layout of a family (a built-in scenario, a folder or list of model files, a module with layouts). */
+export const layoutOption = (): Option =>
+  new Option("--layout <n>", "layout of the environment family: 0 = the scenario as written (default), N = generated layout N (or the N-th file of a folder or comma list of model files)");
+
+/** `--layouts A-B`: a range of layouts (inclusive; a comma list of ranges is their union). */
+export const layoutsOption = (what: string): Option => new Option("--layouts <range>", `${what}, e.g. 1-20 or 0,5-9`);
+
+/** `--env` with `--layout` folded in (`<env>#<N>`, the form run ids and manifests record). */
+export function envOf<T extends string | undefined>(opts: { env?: T; layout?: string }): T {
+  if (opts.env === undefined || opts.layout === undefined) return opts.env as T;
+  return withLayout(splitLayout(opts.env).base, parseLayout(opts.layout)) as T;
 }

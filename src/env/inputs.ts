@@ -19,6 +19,8 @@ import { dirname, relative, resolve } from "node:path";
 import { canonicalJson } from "../util/canonical-json.js";
 import { packageRoot, packageVersion } from "../util/paths.js";
 import type { InputFile, RunInputs } from "../run/schema.js";
+import { splitLayout } from "./layout-spec.js";
+import { fileFamily } from "./resolve.js";
 
 export type { InputFile, RunInputs };
 
@@ -92,8 +94,15 @@ export function hashInputs(envFile: string | null, rewardFile: string | null, ve
   return { files, gapwatch: version, hash };
 }
 
-/** The inputs of a run given its `--env` and `--reward` specs as the user wrote them. */
+/**
+ * The inputs of a run given its `--env` and `--reward` specs as the user wrote them. A layout suffix
+ * (`<env>#<N>`, layout-spec.ts) is part of the env spec, hence of the run id; the file hashed is the
+ * module, or the N-th model file of a folder or list family.
+ */
 export function inputsOf(envSpec: string, envIsFile: boolean, rewardSpec: string | undefined, rewardIsVariant: boolean): RunInputs {
   const rewardFile = rewardSpec !== undefined && !rewardIsVariant && /\.json$/i.test(rewardSpec) && existsSync(resolve(rewardSpec)) ? rewardSpec : null;
-  return hashInputs(envIsFile ? envSpec : null, rewardFile);
+  const { base, layout } = splitLayout(envSpec);
+  const family = envIsFile ? fileFamily(base) : null;
+  const envFile = family ? (family[layout] ?? null) : base;
+  return hashInputs(envIsFile ? envFile : null, rewardFile);
 }

@@ -5,8 +5,8 @@
  * `loadFiniteVariant` is the sequence every command that works on a finite model runs:
  * load the environment, require its finite model, resolve the reward.
  */
-import { existsSync, readFileSync } from "node:fs";
-import { resolve } from "node:path";
+import { existsSync, readdirSync, readFileSync, statSync } from "node:fs";
+import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { loadDrnFile } from "../model/drn.js";
 import { loadModelFile } from "../model/format/model-file.js";
@@ -17,16 +17,29 @@ import { clip, didYouMean } from "../model/format/json-errors.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { importModule, loadSimulator, validateDefinition } from "../sim/load.js";
 import { builtinScenarioNames, loadScenario } from "./scenarios.js";
+import { splitLayout, withLayout } from "./layout-spec.js";
 import type { EnvLoadOptions, FiniteEnv, LoadedEnv, ModuleEnv } from "./types.js";
 import { ownValue } from "../util/own.js";
 
-/** Is `--env` a simulator module path (`.ts`, `.js`, `.mts`, `.mjs`)? */
+/** Is `--env` a simulator module path (`.ts`, `.js`, `.mts`, `.mjs`), with or without a layout? */
 export function isModuleSpec(spec: string): boolean {
-  return /\.(m?[jt]s)$/i.test(spec);
+  return /\.(m?[jt]s)$/i.test(splitLayout(spec).base);
 }
 
-/** Resolve `--env` synchronously for built-ins and model files. */
+/** Resolve `--env` synchronously for built-ins and model files; `<env>#<N>` picks layout N (layout-spec.ts). */
 export function loadEnvSync(spec: string, opts: EnvLoadOptions = {}): FiniteEnv {
+  const { base, layout } = splitLayout(spec);
+  const family = fileFamily(base);
+  if (family) {
+    // A folder of model files, or a comma list of them, is a family: layout N = the N-th file.
+    if (layout >= family.length) throw new InputError("env.layout", `layout ${layout} does not exist: the family has ${family.length} model files (layouts 0..${family.length - 1})`, spec);
+    const env = loadEnvSync(family[layout], opts);
+    return { ...env, spec } as FiniteEnv;
+  }
+  if (layout > 0) {
+    if (builtinScenarioNames().includes(base)) return loadScenario(base, layout);
+    throw new InputError("env.layout", `${base} is one model, not a family: only built-in scenarios, folders or comma lists of model files, and modules with layouts() have layouts`, spec);
+  }
   if (/\.json$/i.test(spec)) {
     const file = resolve(spec);
     if (!existsSync(file)) throw new InputError("env.notFound", `model file not found`, spec);
@@ -55,16 +68,35 @@ export function loadEnvSync(spec: string, opts: EnvLoadOptions = {}): FiniteEnv 
 }
 
 /** Load a simulator module file as an environment (compiled within `maxStates` when it allows). */
-export async function loadModuleEnv(file: string, opts: EnvLoadOptions = {}): Promise<ModuleEnv> {
-  const { simulator, model } = await loadSimulator(file, { maxStates: opts.maxStates });
-  return { kind: "module", model, simulator, spec: file };
+export async function loadModuleEnv(file: string, opts: EnvLoadOptions = {}, layout = 0): Promise<ModuleEnv> {
+  const { simulator, model } = await loadSimulator(file, { maxStates: opts.maxStates, layout });
+  return { kind: "module", model, simulator, spec: withLayout(file, layout) };
+}
+
+/** The model files of a family spec (a folder, or a comma list of .json/.drn files), else null. */
+export function fileFamily(base: string): string[] | null {
+  if (base.includes(",")) {
+    const files = base.split(",").map((f) => f.trim()).filter((f) => f !== "");
+    for (const f of files) {
+      if (!/\.(json|drn)$/i.test(f)) throw new InputError("env.family", `a list of model files takes .json or .drn files only, got ${JSON.stringify(clip(f))}`, "--env");
+    }
+    return files;
+  }
+  const dir = resolve(base);
+  if (!/\.(json|drn|m?[jt]s)$/i.test(base) && existsSync(dir) && statSync(dir).isDirectory()) {
+    const files = readdirSync(dir).filter((f) => /\.(json|drn)$/i.test(f)).sort().map((f) => join(base, f));
+    if (files.length === 0) throw new InputError("env.family", "the folder has no model files (.json, .drn)", base);
+    return files;
+  }
+  return null;
 }
 
 /** Resolve `--env`: built-in scenario, model file, or simulator module. */
 export async function loadEnv(spec: string, opts: EnvLoadOptions = {}): Promise<LoadedEnv> {
   if (isModuleSpec(spec)) {
-    if (!existsSync(resolve(spec))) throw new InputError("env.notFound", `simulator module not found`, spec);
-    return loadModuleEnv(resolve(spec), opts);
+    const { base, layout } = splitLayout(spec);
+    if (!existsSync(resolve(base))) throw new InputError("env.notFound", `simulator module not found`, base);
+    return loadModuleEnv(resolve(base), opts, layout);
   }
   return loadEnvSync(spec, opts);
 }
@@ -89,7 +121,7 @@ export function resolveReward(model: FiniteModel, spec?: string): RewardVariant 
       throw new InputError("reward.read", `cannot read the reward file (${(e as NodeJS.ErrnoException).code ?? (e as Error).message}); pass a reward file`, spec);
     }
     const variant = parseRewardFile(text, spec);
-    if (variant.env !== undefined && variant.env !== model.name) {
+    if (variant.env !== undefined && variant.env !== model.name && variant.env !== splitLayout(model.name).base) {
       throw new InputError(
         "reward.env",
         `this reward is written for ${JSON.stringify(clip(variant.env))}, but the environment is ${JSON.stringify(clip(model.name))}; pass the matching --env, or set "env" in the reward file`,

@@ -23,7 +23,10 @@
  *    uniformly random policy (low) and of an optimal/intended one (high), for normalizing a `finite: false`
  *    module's scores (the flags override them);
  *  - `rewards`: reward variants (weights over `features`);
- *  - `properties`: the module's own invariants, run by `gapwatch check`.
+ *  - `properties`: the module's own invariants, run by `gapwatch check`;
+ *  - `layouts(n)`: makes the module a layout family: given a layout number n >= 1 it returns the
+ *    definition of that layout (a pure function of n; draw positions from `createRng(n)`-like seeded
+ *    streams, never Math.random); layout 0 is the default export itself. `--layout N` picks one.
  * The learner-facing view built from a module exposes no intent.
  */
 import type { Rng } from "../rng/rng.js";
@@ -64,6 +67,8 @@ export interface EnvDefinition<S = unknown> {
   rewards?: Record<string, { weights: Record<string, number> }>;
   properties?: Record<string, EnvProperty<S>>;
   description?: string;
+  /** Layout family: the definition of layout n >= 1 (layout 0 is this definition). */
+  layouts?: (n: number) => EnvDefinition<S>;
 }
 
 /** Normalization references: the score of a uniformly random policy (low) and an optimal one (high). */

@@ -20,6 +20,8 @@ export interface SimulatorHandle {
 export interface SimulatorLoadOptions {
   /** State bound for compiling the module to a finite model (`--max-states`); default DEFAULT_MAX_STATES. */
   maxStates?: number;
+  /** Layout of a module family (`layouts(n)`, see define.ts); 0 = the default export itself. */
+  layout?: number;
 }
 
 /** A loaded simulator module: its handle, and its finite model when it compiled to one. */
@@ -109,9 +111,18 @@ export function validateDefinition(value: unknown, file: string): EnvDefinition<
 
 /** Import, validate and (when it allows, within `maxStates`) compile a simulator module. */
 export async function loadSimulator(file: string, opts: SimulatorLoadOptions = {}): Promise<LoadedSimulator> {
-  const def = validateDefinition(await importModule(file), file);
+  let def = validateDefinition(await importModule(file), file);
+  const layout = opts.layout ?? 0;
+  if (layout > 0) {
+    const family = def.layouts;
+    if (typeof family !== "function") {
+      throw new InputError("env.layout", `layout ${layout} asked for, but the module is one environment: add layouts: (n) => defineEnv({...}) to its definition to make it a family`, file);
+    }
+    def = validateDefinition(family(layout), `${file} layouts(${layout})`);
+  }
   const compiled = compileModuleStates(def, { maxStates: opts.maxStates ?? DEFAULT_MAX_STATES, source: file });
   const model = compiled?.model;
   const simulator: SimulatorHandle = { def, source: file, states: compiled?.states };
-  return { simulator, model: model ? { ...model, source: file } : undefined };
+  // A layout's model is named <name>#<layout>, like the layouts of built-in scenarios.
+  return { simulator, model: model ? { ...model, ...(layout > 0 ? { name: `${model.name}#${layout}` } : {}), source: file } : undefined };
 }

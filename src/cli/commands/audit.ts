@@ -1,5 +1,7 @@
 import type { Command } from "commander";
 import { runAuditCommand } from "../../app/audit.js";
+import { runAuditLayouts } from "../../app/audit-layouts.js";
+import { parseLayoutRange } from "../../env/layout-spec.js";
 import { checkRunDir } from "../../app/outputs.js";
 import { drawStates } from "../../audit/draw.js";
 import { givenUpStates } from "../../audit/given-up.js";
@@ -9,7 +11,7 @@ import { commandLine } from "../../report/standalone.js";
 import { STATIC_CAUTION } from "../caution.js";
 import { action, numberOption, type CliContext } from "../context.js";
 import { emit, paint, useColor } from "../io.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, rewardOption, runsDirOf, runsDirOption } from "../options.js";
+import { envOf, envOption, layoutOption, layoutsOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, rewardOption, runsDirOf, runsDirOption } from "../options.js";
 import { resolve } from "node:path";
 
 /** The file options `audit` and `pressure` share, as given on the command line. */
@@ -39,6 +41,8 @@ export function registerAudit(program: Command, ctx: CliContext): void {
     .command("audit")
     .description("static checks of a reward on the finite model: reward loops, shaping, regret, early exit, risk, weight sensitivity")
     .addOption(envOption())
+    .addOption(layoutOption())
+    .addOption(layoutsOption("audit each of these layouts of the family and summarize (how many critical, the worst)"))
     .addOption(rewardOption())
     .option("--max-risk <p>", "largest tolerated failure probability of the designer-optimal route (default 0.01)")
     .option("--fail-on <severity>", "exit 3 when a finding of this severity or worse exists: critical or warning")
@@ -49,15 +53,16 @@ export function registerAudit(program: Command, ctx: CliContext): void {
     .addOption(maxStatesOption())
     .addOption(jsonOption())
     .action(
-      action(ctx, async (opts: { env: string; reward?: string; maxRisk?: string; failOn?: string; sensitivity?: boolean; maxStates?: string; json?: boolean } & DocumentOutputFlags) => {
+      action(ctx, async (opts: { env: string; layout?: string; layouts?: string; reward?: string; maxRisk?: string; failOn?: string; sensitivity?: boolean; maxStates?: string; json?: boolean } & DocumentOutputFlags) => {
         const maxRisk = opts.maxRisk === undefined ? undefined : numberOption(opts.maxRisk, "--max-risk", { min: 0, max: 1 });
         if (opts.failOn !== undefined && opts.failOn !== "critical" && opts.failOn !== "warning") {
           throw new InputError("cli.failOn", `--fail-on expects critical or warning, got "${opts.failOn}"`, "--fail-on");
         }
+        if (opts.layouts !== undefined) return auditLayouts(ctx, opts, maxRisk);
         const outputs = documentOutputs(ctx, opts);
-        const args = ["gapwatch", "audit", "--env", opts.env, ...(opts.reward !== undefined ? ["--reward", opts.reward] : []), ...(opts.maxRisk !== undefined ? ["--max-risk", opts.maxRisk] : []), ...(opts.sensitivity === false ? ["--no-sensitivity"] : [])];
+        const args = ["gapwatch", "audit", "--env", envOf(opts), ...(opts.reward !== undefined ? ["--reward", opts.reward] : []), ...(opts.maxRisk !== undefined ? ["--max-risk", opts.maxRisk] : []), ...(opts.sensitivity === false ? ["--no-sensitivity"] : [])];
         const { model, result, audit, written, doc } = await runAuditCommand({
-          env: opts.env,
+          env: envOf(opts),
           reward: opts.reward,
           maxRisk,
           sensitivity: opts.sensitivity,
@@ -120,4 +125,31 @@ function evidencePicture(model: Parameters<typeof drawStates>[0], f: AuditReport
   const div = ev.firstDivergence as { pathStates?: number[] } | undefined;
   if (div?.pathStates) return drawStates(model, div.pathStates, "x");
   return null;
+}
+
+/** `audit --layouts A-B`: one line per layout, the summary, the worst layout's findings. */
+async function auditLayouts(
+  ctx: CliContext,
+  opts: { env: string; layout?: string; layouts?: string; reward?: string; failOn?: string; sensitivity?: boolean; maxStates?: string; json?: boolean; report?: boolean | string; runDir?: string },
+  maxRisk: number | undefined,
+): Promise<number> {
+  if (opts.layout !== undefined) throw new InputError("cli.conflict", "give --layout or --layouts, not both", "--layouts");
+  if (opts.report !== undefined || opts.runDir !== undefined) throw new InputError("cli.conflict", "--report and --run-dir audit one layout; drop them with --layouts", "--layouts");
+  const { doc, findings } = await runAuditLayouts({ env: opts.env, reward: opts.reward, layouts: parseLayoutRange(opts.layouts as string), maxRisk, sensitivity: opts.sensitivity, maxStates: maxStatesOf(opts) });
+  emit(ctx.io, Boolean(opts.json), doc, () => {
+    const color = useColor(ctx.io);
+    let text = `${paint(color, "bold", doc.env)}  reward ${paint(color, "bold", doc.reward)}  ${doc.layouts.length} layouts: ${doc.critical} with a critical finding, ${doc.warning} with a warning\n\n`;
+    for (const r of doc.perLayout) {
+      const sev = r.critical ? paint(color, "red", "CRITICAL") : r.warning ? paint(color, "yellow", "warning ") : paint(color, "dim", "ok      ");
+      text += `layout ${String(r.layout).padStart(5)}  ${sev}  regretNorm ${r.regretNorm.toFixed(3)}${r.checks.length ? `  ${r.checks.join(", ")}` : ""}\n`;
+    }
+    if (doc.worst && doc.worst.findings.length) {
+      text += `\nworst: layout ${doc.worst.layout}\n`;
+      for (const f of doc.worst.findings) text += `  ${paint(color, STYLE[f.severity], f.severity.toUpperCase().padEnd(8))} ${paint(color, "bold", f.check)}: ${f.message}\n`;
+    }
+    text += `\nExact checks on every layout. ${STATIC_CAUTION}\n`;
+    return text;
+  });
+  const gate = opts.failOn as Severity | undefined;
+  return gate && reaches(findings, gate) ? EXIT.gate : EXIT.ok;
 }

@@ -6,7 +6,7 @@ import { EXIT } from "../../errors.js";
 import { parseSeed } from "../../rng/rng.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { emit, paint, table, useColor } from "../io.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption } from "../options.js";
+import { envOf, envOption, layoutOption, jsonOption, maxStatesOf, maxStatesOption } from "../options.js";
 import { invocationOf } from "../../util/shell.js";
 import { DEFAULT_CHECK_STEPS, MAX_CHECK_HORIZON } from "../../check/harness.js";
 
@@ -34,6 +34,7 @@ export function registerCheck(program: Command, ctx: CliContext): void {
     .command("check")
     .description("property-test an environment: determinism, refusals, finite features and intent, probabilities, step limit, transition frequencies, intent hidden from the learner")
     .addOption(envOption())
+    .addOption(layoutOption())
     .option("--runs <n>", `generated cases per property (default ${DEFAULT_CHECK_RUNS})`)
     .option("--seed <seed>", `fast-check seed (default ${DEFAULT_CHECK_SEED})`)
     .option("--property <name>", "run only this property")
@@ -47,7 +48,7 @@ export function registerCheck(program: Command, ctx: CliContext): void {
         const seed = opts.seed === undefined ? DEFAULT_CHECK_SEED : parseSeed(opts.seed);
         const maxSteps = opts.maxSteps === undefined ? undefined : intOption(opts.maxSteps, "--max-steps", { min: 1, max: MAX_CHECK_HORIZON });
         const invocation = invocationOf(ctx.io.env, ctx.io.script);
-        const { report, doc } = await runCheckCommand({ env: opts.env, runs, seed, property: opts.property, replay: opts.replay, maxSteps, invocation, maxStates: maxStatesOf(opts) });
+        const { report, doc } = await runCheckCommand({ env: envOf(opts), runs, seed, property: opts.property, replay: opts.replay, maxSteps, invocation, maxStates: maxStatesOf(opts) });
         emit(ctx.io, Boolean(opts.json), doc, () => formatCheck(report, useColor(ctx.io)));
         return report.passed ? EXIT.ok : EXIT.gate;
       }),

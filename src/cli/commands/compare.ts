@@ -13,13 +13,16 @@ import { MAX_SWEEP_RUNS, parseList, parseSeedList } from "../../batch/plan.js";
 import { defaultWorkers } from "../../batch/pool.js";
 import { EXIT, InputError, printableLine } from "../../errors.js";
 import { BOOTSTRAP_DEFAULTS } from "../../stats/bootstrap.js";
+import { parseLayoutRange } from "../../env/layout-spec.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { CAUTION, emit, paint, table, useColor } from "../io.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, runsDirOf, runsDirOption } from "../options.js";
+import { envOf, envOption, layoutOption, layoutsOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, runsDirOf, runsDirOption } from "../options.js";
 import { progressLine } from "../progress.js";
 
 interface CompareCliOptions {
   env: string;
+  layout?: string;
+  layouts?: string;
   rewards: string;
   learners?: string;
   seeds?: string;
@@ -97,10 +100,12 @@ export function registerCompare(program: Command, ctx: CliContext): void {
     .command("compare")
     .description("train every reward variant on the same seeds, locally or on many machines; rank by intent with bootstrap intervals")
     .addOption(envOption().makeOptionMandatory(false))
+    .addOption(layoutOption())
     .option("--rewards <list>", "comma-separated reward variant names or reward files (required unless --collect)")
     .option("--learners <list>", `comma-separated learners (default ${defaultLearner})`)
     .option("--seeds <n>", "seeds 1..n (default 10)")
     .option("--seed-list <list>", "explicit seeds, e.g. 1,2,3 or 1-20")
+    .addOption(layoutsOption("layouts of the env family as the paired rows instead of seeds (each variant on the same layouts; every run trains with --seed-list's one seed, default 1)"))
     .option("--steps <n>", "environment steps per run (default: the scenario's)")
     .option("--workers <w>", `local worker threads (default: cores, here ${defaultWorkers()})`)
     .option("--queue <url>", "run on `gapwatch worker` processes through Redis, e.g. redis://127.0.0.1:6379/0")
@@ -134,19 +139,27 @@ export function registerCompare(program: Command, ctx: CliContext): void {
           return out.gate ? EXIT.gate : EXIT.ok;
         }
         if (opts.failOn !== undefined) throw new InputError("cli.conflict", "--fail-on goes with --collect", "--fail-on");
-        if (!opts.env) throw new InputError("cli.missing", "compare needs --env (or --collect DIR)", "--env");
+        if (!envOf(opts)) throw new InputError("cli.missing", "compare needs --env (or --collect DIR)", "--env");
         if (!opts.rewards) throw new InputError("cli.missing", "compare needs --rewards (or --collect DIR)", "--rewards");
         if (opts.seeds !== undefined && opts.seedList !== undefined) throw new InputError("cli.conflict", "give --seeds or --seed-list, not both", "--seed-list");
-        const seeds = opts.seedList !== undefined ? parseSeedList(opts.seedList) : Array.from({ length: intOption(opts.seeds, "--seeds", { def: 10, max: MAX_SWEEP_RUNS }) }, (_, i) => i + 1);
+        let seeds = opts.seedList !== undefined ? parseSeedList(opts.seedList) : Array.from({ length: intOption(opts.seeds, "--seeds", { def: 10, max: MAX_SWEEP_RUNS }) }, (_, i) => i + 1);
+        let layoutSeed: number | undefined;
+        if (opts.layouts !== undefined) {
+          if (opts.layout !== undefined) throw new InputError("cli.conflict", "give --layout or --layouts, not both", "--layouts");
+          if (opts.seeds !== undefined || (opts.seedList !== undefined && seeds.length !== 1)) throw new InputError("cli.conflict", "with --layouts the rows are layouts: give at most one seed (--seed-list N)", "--layouts");
+          layoutSeed = opts.seedList !== undefined ? seeds[0] : 1;
+          seeds = parseLayoutRange(opts.layouts);
+        }
         if (opts.plan !== undefined) {
           if (opts.queue !== undefined) throw new InputError("cli.conflict", "give --plan or --queue, not both", "--plan");
           const file = resolve(ctx.io.cwd, opts.plan);
           const { plan, doc } = await writePlanCommand(
             {
-              env: opts.env,
+              env: envOf(opts),
               rewards: parseList(opts.rewards, "--rewards"),
               learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
               seeds,
+              layoutSeed,
               steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
               bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
               reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: BOOTSTRAP_DEFAULTS.reps }),
@@ -161,10 +174,11 @@ export function registerCompare(program: Command, ctx: CliContext): void {
         const t0 = Date.now();
         const { result, report, doc } = await runCompareCommand(
           {
-            env: opts.env,
+            env: envOf(opts),
             rewards: parseList(opts.rewards, "--rewards"),
             learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
             seeds,
+            layoutSeed,
             steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
             runsDir: runsDirOf(ctx.io, opts),
             workers: intOption(opts.workers, "--workers", { def: defaultWorkers() }),

@@ -59,6 +59,7 @@ export function registerDemo(program: Command, ctx: CliContext): void {
         emit(ctx.io, Boolean(opts.json), doc, () => {
           let t = demoText(rows, useColor(ctx.io));
           if (sharedBudget) t += sharedBudgetText(sharedBudget, useColor(ctx.io));
+          t += "\n" + out.layoutLines.join("\n") + "\n";
           if (reports.length) t += `HTML reports: ${reports.length} written, e.g. ${reports.find((_, i) => rows[i].verdict === "decoupled") ?? reports[0]}\n`;
           return t;
         });

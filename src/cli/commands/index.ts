@@ -13,6 +13,7 @@ import { registerWorker } from "./worker.js";
 import { registerRuns } from "./runs.js";
 import { registerReport } from "./report.js";
 import { registerIngest } from "./ingest.js";
+import { registerRetune } from "./retune.js";
 
 export const commands: CommandModule[] = [
   registerDemo,
@@ -28,4 +29,5 @@ export const commands: CommandModule[] = [
   registerReport,
   registerCheck,
   registerExport,
+  registerRetune,
 ];

@@ -7,7 +7,7 @@ import type { PressureCurve } from "../../pressure/curve.js";
 import type { LearnerPoint } from "../../pressure/learners.js";
 import { normalizeScore, pressureSparklines } from "../../report/terminal.js";
 import { worseThanRandom } from "../../util/share.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOption, rewardOption, runsDirOption } from "../options.js";
+import { envOf, envOption, layoutOption, jsonOption, maxStatesOf, maxStatesOption, reportOption, rewardOption, runsDirOption } from "../options.js";
 import { documentOutputs, printWritten, type DocumentOutputFlags } from "./audit.js";
 
 /** The human output of `gapwatch pressure`: env and reward, normalized sparklines on one scale, the optimum for scale, peak and onset. */
@@ -43,6 +43,7 @@ export function registerPressure(program: Command, ctx: CliContext): void {
     .command("pressure")
     .description("designer return and intent of soft-optimal policies of increasing optimization strength (the Goodhart curve)")
     .addOption(envOption())
+    .addOption(layoutOption())
     .addOption(rewardOption())
     .option("--reference <file>", "reference policy (JSON with a \"policy\" array, e.g. a train run's policy.json); default uniform random")
     .option("--learners", "also train tabular Q-learning at increasing step budgets and evaluate each greedy policy exactly")
@@ -56,9 +57,9 @@ export function registerPressure(program: Command, ctx: CliContext): void {
       action(ctx, async (opts: { env: string; reward?: string; reference?: string; learners?: boolean; seed?: string; maxStates?: string; json?: boolean } & DocumentOutputFlags) => {
         const seed = opts.seed === undefined ? undefined : intOption(opts.seed, "--seed", { min: 0 });
         const outputs = documentOutputs(ctx, opts);
-        const args = ["gapwatch", "pressure", "--env", opts.env, ...(opts.reward !== undefined ? ["--reward", opts.reward] : []), ...(opts.reference !== undefined ? ["--reference", opts.reference] : []), ...(opts.learners ? ["--learners"] : []), ...(opts.seed !== undefined ? ["--seed", opts.seed] : [])];
+        const args = ["gapwatch", "pressure", "--env", envOf(opts), ...(opts.reward !== undefined ? ["--reward", opts.reward] : []), ...(opts.reference !== undefined ? ["--reference", opts.reference] : []), ...(opts.learners ? ["--learners"] : []), ...(opts.seed !== undefined ? ["--seed", opts.seed] : [])];
         const { curve, learners, env, reward, written, doc } = await runPressure({
-          env: opts.env,
+          env: envOf(opts),
           reward: opts.reward,
           reference: opts.reference,
           learners: opts.learners,

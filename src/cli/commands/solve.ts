@@ -5,13 +5,14 @@ import { drawRoute } from "../../report/terminal.js";
 import { STATIC_CAUTION } from "../caution.js";
 import { action, numberOption, type CliContext } from "../context.js";
 import { emit, formatNumber, paint, table, useColor } from "../io.js";
-import { envOption, jsonOption, maxItersOf, maxItersOption, maxStatesOf, maxStatesOption, rewardOption } from "../options.js";
+import { envOf, envOption, layoutOption, jsonOption, maxItersOf, maxItersOption, maxStatesOf, maxStatesOption, rewardOption } from "../options.js";
 
 export function registerSolve(program: Command, ctx: CliContext): void {
   program
     .command("solve")
     .description("solve the designer reward and the intent exactly; show what the designer-optimal policy gives up")
     .addOption(envOption())
+    .addOption(layoutOption())
     .addOption(rewardOption())
     .option("--gamma <gamma>", "discount factor (default: the model's)")
     .addOption(maxItersOption())
@@ -20,7 +21,7 @@ export function registerSolve(program: Command, ctx: CliContext): void {
     .action(
       action(ctx, async (opts: { env: string; reward?: string; gamma?: string; maxIters?: string; maxStates?: string; json?: boolean }) => {
         const gamma = opts.gamma === undefined ? undefined : numberOption(opts.gamma, "--gamma", { min: 1e-9, max: 1 });
-        const { model, report: r, doc } = await runSolve({ env: opts.env, reward: opts.reward, gamma, maxIters: maxItersOf(opts), maxStates: maxStatesOf(opts) });
+        const { model, report: r, doc } = await runSolve({ env: envOf(opts), reward: opts.reward, gamma, maxIters: maxItersOf(opts), maxStates: maxStatesOf(opts) });
         emit(ctx.io, Boolean(opts.json), doc, () => {
           const color = useColor(ctx.io);
           const pct = (x: number) => `${(100 * x).toFixed(1)}%`;

@@ -15,7 +15,7 @@ import type { Progress } from "../../train/run.js";
 import { action, intOption, type CliContext } from "../context.js";
 import { CAUTION, paint, table, emit, useColor, type CliIO } from "../io.js";
 import { withInterrupt } from "../interrupt.js";
-import { envOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, rewardOption, runsDirOf, runsDirOption } from "../options.js";
+import { envOf, envOption, layoutOption, jsonOption, maxStatesOf, maxStatesOption, reportOf, reportOption, rewardOption, runsDirOf, runsDirOption } from "../options.js";
 import { etaText, liveLine, progressBar } from "../progress.js";
 
 /**
@@ -113,6 +113,7 @@ export function registerTrain(program: Command, ctx: CliContext): void {
     .command("train")
     .description("train a learner on the designer reward while the monitor watches the held-out intent; verdict aligned / decoupled / inconclusive")
     .addOption(envOption().makeOptionMandatory(false))
+    .addOption(layoutOption())
     .addOption(rewardOption())
     .option("--learner <learner>", `q-learning, sarsa, expected-sarsa, double-q, linear-sarsa (default ${defaultLearner})`)
     .option("--steps <n>", "environment steps (default: sized to the model, a few seconds at most)")
@@ -143,9 +144,9 @@ export function registerTrain(program: Command, ctx: CliContext): void {
           emit(ctx.io, Boolean(opts.json), out.doc, () => trainText(out.result, useColor(ctx.io)));
           return out.result.status === "interrupted" ? EXIT.interrupted : EXIT.ok;
         }
-        if (!opts.env) throw new InputError("cli.missing", "train needs --env (or --plan FILE --index I)", "--env");
+        if (!envOf(opts)) throw new InputError("cli.missing", "train needs --env (or --plan FILE --index I)", "--env");
         const input = {
-          env: opts.env,
+          env: envOf(opts),
           reward: opts.reward,
           learner: opts.learner,
           steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
@@ -157,7 +158,7 @@ export function registerTrain(program: Command, ctx: CliContext): void {
           intentRange: opts.intentRange === undefined ? undefined : parseRange(opts.intentRange, "--intent-range"),
         };
         const maxStates = maxStatesOf(opts);
-        const progress = progressReporter(ctx.io, `${opts.env} ${opts.reward ?? ""}`.trim(), !opts.json);
+        const progress = progressReporter(ctx.io, `${envOf(opts)} ${opts.reward ?? ""}`.trim(), !opts.json);
         const { value: out } = await withInterrupt((signal) =>
           runTrainCommand({ input, runsDir: runsDirOf(ctx.io, opts), noIndex: opts.index === false, report: reportOf(ctx.io, opts.report), maxStates, signal, onProgress: (p) => progress.update(p) }).finally(() => progress.done()),
         );
