@@ -1,7 +1,7 @@
 /**
- * The layout story of `gapwatch demo`, in a few lines: glasshouse-trolley's `aisle-tuned` reward is
- * retuned on days whose aisle is clear (the generator says where each tray lies), then held out on 100
- * other days; the reward that names the trays (`default`) on the same days for contrast. Exact solves
+ * The layout story of `gapwatch demo`, in a few lines: kiln-shelf-haul's `aisle-tuned` reward is
+ * retuned on days whose aisle is clear (the generator says where each pot lies), then held out on 100
+ * other days; the reward that names the pots (`default`) on the same days for contrast. Exact solves
  * only (src/tune); about a second.
  */
 import { loadEnvSync, readScenarioMeta, withLayout } from "../env/index.js";
@@ -9,7 +9,7 @@ import { aisleRoom, layoutRng, readAisleRoomOptions } from "../model/layouts.js"
 import { ownValue } from "../util/own.js";
 import { evaluateHoldout, runRetune } from "../tune/run.js";
 
-const ENV = "glasshouse-trolley";
+const ENV = "kiln-shelf-haul";
 const HOLDOUT = Array.from({ length: 100 }, (_, i) => 1000 + i);
 
 export interface LayoutStoryDoc {
@@ -24,7 +24,7 @@ export async function layoutStory(): Promise<{ doc: LayoutStoryDoc; lines: strin
   const meta = readScenarioMeta(ENV);
   const gen = readAisleRoomOptions(meta.layouts as Record<string, unknown>, ENV);
   const tuning: number[] = [];
-  for (let n = 1; tuning.length < 5; n++) if (aisleRoom(gen, layoutRng(ENV, n)).aisleTrays.length === 0) tuning.push(n);
+  for (let n = 1; tuning.length < 5; n++) if (aisleRoom(gen, layoutRng(ENV, n)).aislePots.length === 0) tuning.push(n);
   const load = (n: number) => loadEnvSync(withLayout(ENV, n)).model;
   const first = load(tuning[0]);
   const weightsOf = (name: string) => Object.fromEntries(first.features.map((f) => [f, ownValue(first.variants?.[name]?.weights, f) ?? 0]));
@@ -47,7 +47,7 @@ export async function layoutStory(): Promise<{ doc: LayoutStoryDoc; lines: strin
   const lines = [
     `Layouts: ${ENV}, reward aisle-tuned retuned on ${tuning.length} clear-aisle days (layouts ${tuning.join(", ")}; regretNorm ${doc.tuning.maxRegretNorm.toFixed(2)} on each), then held out on ${HOLDOUT.length} other days:`,
     `  aisle-tuned games ${h.gaming} of ${HOLDOUT.length} (${pct(h.gamingRate)}, 95% Wilson ${pct(h.ci.lower)}-${pct(h.ci.upper)})${causes.length ? `; likely cause: ${causes.join(", ")}, never tested by the tuning days` : ""}`,
-    `  default (names the trays) games ${named.gaming} of ${HOLDOUT.length}. Repeat: gapwatch retune --env ${ENV} --reward aisle-tuned --move step=-0.1:0,fragile=-2:2 --tune-on ${tuning.join(",")} --hold-out ${HOLDOUT[0]}-${HOLDOUT[HOLDOUT.length - 1]}`,
+    `  default (names the pots) games ${named.gaming} of ${HOLDOUT.length}. Repeat: gapwatch retune --env ${ENV} --reward aisle-tuned --move step=-0.1:0,fragile=-2:2 --tune-on ${tuning.join(",")} --hold-out ${HOLDOUT[0]}-${HOLDOUT[HOLDOUT.length - 1]}`,
   ];
   return { doc: story, lines };
 }

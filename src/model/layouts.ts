@@ -16,9 +16,9 @@
  *    random on the non-wall plain cells, keeping how many of each there are.
  *  - grid, "aisle-room" (scenario.json `layouts.generator`): a walled room of `rows` x `cols` interior
  *    cells (each drawn within its [min, max] range; rows odd) with the start at the west end of the
- *    middle row (the aisle) and the goal at its east end; `trays` fragile cells (a count drawn in its
+ *    middle row (the aisle) and the goal at its east end; `pots` fragile cells (a count drawn in its
  *    range), each placed in the aisle with probability `aisleShare`, else in a side bay. The layout
- *    records which trays lie in the aisle (`aisleTrays`): the only straight route crosses them.
+ *    records which pots lie in the aisle (`aislePots`): the only straight route crosses them.
  *  - track: the loop length drawn within +-8 of the written one (at least gates + vmax + 1), the gates
  *    (as many as written) at distinct random positions, the start at a random position.
  *  - budget: the number of units drawn within +-3 of the written one (1 .. horizon).
@@ -102,16 +102,16 @@ export function shuffleGrid(original: readonly string[], rng: Rng, where = "map"
 export interface AisleRoomOptions {
   rows: [number, number];
   cols: [number, number];
-  trays: [number, number];
+  pots: [number, number];
   aisleShare: number;
 }
 
 export interface AisleRoomLayout {
   lines: string[];
-  /** Trays in the aisle (on the only straight route), as [row, col] of the map. */
-  aisleTrays: [number, number][];
-  /** Trays in the side bays. */
-  bayTrays: [number, number][];
+  /** Pots in the aisle (on the only straight route), as [row, col] of the map. */
+  aislePots: [number, number][];
+  /** Pots in the side bays. */
+  bayPots: [number, number][];
 }
 
 function range(x: unknown, key: string, where: string, lo: number, hi: number): [number, number] {
@@ -124,7 +124,7 @@ function range(x: unknown, key: string, where: string, lo: number, hi: number): 
 export function readAisleRoomOptions(raw: Record<string, unknown>, where: string): AisleRoomOptions {
   const share = raw.aisleShare;
   if (typeof share !== "number" || !(share >= 0 && share <= 1)) throw new InputError("env.layouts", "aisleShare must be a probability in [0, 1]", `${where} $.layouts.aisleShare`);
-  return { rows: range(raw.rows, "rows", where, 3, 15), cols: range(raw.cols, "cols", where, 4, 30), trays: range(raw.trays, "trays", where, 0, 8), aisleShare: share };
+  return { rows: range(raw.rows, "rows", where, 3, 15), cols: range(raw.cols, "cols", where, 4, 30), pots: range(raw.pots, "pots", where, 0, 8), aisleShare: share };
 }
 
 /** "aisle-room": see the file comment. */
@@ -135,14 +135,14 @@ export function aisleRoom(opts: AisleRoomOptions, rng: Rng, where = "layouts"): 
   for (let attempt = 0; attempt < MAX_ATTEMPTS; attempt++) {
     const h = oddRows[rng.int(oddRows.length)];
     const w = between(rng, opts.cols[0], opts.cols[1]);
-    const k = between(rng, opts.trays[0], opts.trays[1]);
+    const k = between(rng, opts.pots[0], opts.pots[1]);
     const aisle = 1 + (h - 1) / 2;
     const grid: string[][] = [];
     for (let r = 0; r < h + 2; r++) grid.push(Array.from({ length: w + 2 }, (_, c) => (r === 0 || r === h + 1 || c === 0 || c === w + 1 ? "#" : ".")));
     grid[aisle][1] = "@";
     grid[aisle][w] = "*";
-    const aisleTrays: [number, number][] = [];
-    const bayTrays: [number, number][] = [];
+    const aislePots: [number, number][] = [];
+    const bayPots: [number, number][] = [];
     for (let t = 0; t < k; t++) {
       let r: number;
       let c: number;
@@ -156,10 +156,10 @@ export function aisleRoom(opts: AisleRoomOptions, rng: Rng, where = "layouts"): 
       }
       if (grid[r][c] !== ".") continue;
       grid[r][c] = "%";
-      (r === aisle ? aisleTrays : bayTrays).push([r, c]);
+      (r === aisle ? aislePots : bayPots).push([r, c]);
     }
     const lines = grid.map((row) => row.join(""));
-    if (gridSolvable(lines)) return { lines, aisleTrays, bayTrays };
+    if (gridSolvable(lines)) return { lines, aislePots, bayPots };
   }
   throw new InputError("env.layout", `no solvable layout found in ${MAX_ATTEMPTS} draws`, where);
 }

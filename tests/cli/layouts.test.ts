@@ -32,26 +32,26 @@ describe("--layout", () => {
     }
   });
   it("a layout names its model and is refused on a single model file; a bad layout exits 2", async () => {
-    const r = await cli("solve", "--env", "glasshouse-trolley", "--layout", "4", "--json");
-    expect(JSON.parse(r.out).env).toBe("glasshouse-trolley#4");
+    const r = await cli("solve", "--env", "kiln-shelf-haul", "--layout", "4", "--json");
+    expect(JSON.parse(r.out).env).toBe("kiln-shelf-haul#4");
     expect((await cli("solve", "--env", "tests/fixtures/models/sb-4x4.json", "--layout", "2")).code).toBe(2);
-    const bad = await cli("solve", "--env", "glasshouse-trolley", "--layout", "-1");
+    const bad = await cli("solve", "--env", "kiln-shelf-haul", "--layout", "-1");
     expect(bad.code).toBe(2);
     expect(bad.err).toMatch(/config\.layout|layout/);
   });
   it("a trained run records its layout in the run id's config, the manifest and the runs index", async () => {
     const runsDir = tempDir("layout-train");
-    const r = await cli("train", "--env", "glasshouse-trolley", "--layout", "2", "--reward", "default", "--steps", "400", "--runs-dir", runsDir, "--json");
+    const r = await cli("train", "--env", "kiln-shelf-haul", "--layout", "2", "--reward", "default", "--steps", "400", "--runs-dir", runsDir, "--json");
     expect(r.code).toBe(0);
     const doc = JSON.parse(r.out);
     const manifest = JSON.parse(readFileSync(join(doc.runDir, "manifest.json"), "utf8"));
-    expect(manifest.config.env).toBe("glasshouse-trolley#2");
-    const plain = await cli("train", "--env", "glasshouse-trolley", "--reward", "default", "--steps", "400", "--runs-dir", runsDir, "--json");
+    expect(manifest.config.env).toBe("kiln-shelf-haul#2");
+    const plain = await cli("train", "--env", "kiln-shelf-haul", "--reward", "default", "--steps", "400", "--runs-dir", runsDir, "--json");
     const plainManifest = JSON.parse(readFileSync(join(JSON.parse(plain.out).runDir, "manifest.json"), "utf8"));
     expect(plainManifest.runId).not.toBe(manifest.runId);
     const index = openIndex(runsDir);
     try {
-      expect(index.listRuns({ env: "glasshouse-trolley#2" }).map((x) => x.runId)).toEqual([manifest.runId]);
+      expect(index.listRuns({ env: "kiln-shelf-haul#2" }).map((x) => x.runId)).toEqual([manifest.runId]);
     } finally {
       index.close();
     }
@@ -61,12 +61,12 @@ describe("--layout", () => {
 describe("retune on a built-in family", () => {
   it("human table names the likely cause; the report draws the worst layout's map with the route", async () => {
     const runsDir = tempDir("retune-builtin");
-    const r = await cli("retune", "--env", "glasshouse-trolley", "--reward", "aisle-tuned", "--move", "step=-0.1:0,fragile=-2:2", "--tune-on", "3,6,7", "--hold-out", "30-45", "--report", "--runs-dir", runsDir);
+    const r = await cli("retune", "--env", "kiln-shelf-haul", "--reward", "aisle-tuned", "--move", "step=-0.1:0,fragile=-2:2", "--tune-on", "3,6,7", "--hold-out", "30-45", "--report", "--runs-dir", runsDir);
     expect(r.code).toBe(0);
     expect(r.out).toMatch(/fragile .* no +yes/);
     expect(r.out).toMatch(/held-out layouts gamed \(regretNorm >= 0\.3\): \d+ of 16/);
     const file = r.err.match(/report: (.*)/)![1].trim();
-    expect(file).toBe(join(runsDir, "retune-glasshouse-trolley.html"));
+    expect(file).toBe(join(runsDir, "retune-kiln-shelf-haul.html"));
     const html = readFileSync(file, "utf8");
     expect(html).toContain("data-drawing");
     expect(html).toContain('data-feature="fragile"');

@@ -1,6 +1,6 @@
 /**
- * Acceptance of slider tuning across layouts (exact solves, no sampling) on glasshouse-trolley, whose
- * generator says where each tray lies: in the aisle (on the only straight route) or in a side bay.
+ * Acceptance of slider tuning across layouts (exact solves, no sampling) on kiln-shelf-haul, whose
+ * generator says where each pot lies: in the aisle (on the only straight route) or in a side bay.
  * That structural fact, read from the generator and not from any solve, is what the checks compare
  * the tuner's findings against.
  */
@@ -15,17 +15,17 @@ import { parseMoves } from "../../src/app/retune.js";
 
 const range = (a: number, b: number) => Array.from({ length: b - a + 1 }, (_, i) => a + i);
 
-const ENV = "glasshouse-trolley";
+const ENV = "kiln-shelf-haul";
 const opts = readAisleRoomOptions(readScenarioMeta(ENV).layouts as Record<string, unknown>, ENV);
-const trays = (n: number) => aisleRoom(opts, layoutRng(ENV, n));
+const pots = (n: number) => aisleRoom(opts, layoutRng(ENV, n));
 const load = (n: number) => loadEnvSync(`${ENV}#${n}`).model;
 const clear: number[] = [];
 const nearDock: number[] = [];
 for (let n = 1; clear.length < 5 || nearDock.length < 1; n++) {
-  const t = trays(n);
+  const t = pots(n);
   const w = t.lines[0].length - 2;
-  if (t.aisleTrays.length === 0) clear.push(n);
-  else if (t.aisleTrays.some(([, c]) => c === w - 1)) nearDock.push(n);
+  if (t.aislePots.length === 0) clear.push(n);
+  else if (t.aislePots.some(([, c]) => c === w - 1)) nearDock.push(n);
 }
 const HOLDOUT = Array.from({ length: 60 }, (_, i) => 500 + i);
 const bounds = [
@@ -36,8 +36,8 @@ const start = { goal: 1, step: -0.05, fragile: 0 };
 const retune = async (tuning: number[]) =>
   (await runRetune({ env: ENV, reward: "aisle-tuned", start, bounds, tuning: tuning.map((n) => ({ layout: n, model: load(n) })), holdout: HOLDOUT, loadLayout: load, budget: 10, seed: 1 })).doc;
 
-describe("retune on glasshouse-trolley", () => {
-  it("tuned only on clear-aisle layouts: the tray weight stays 0, unconstrained, and a clear share of held-out layouts game", async () => {
+describe("retune on kiln-shelf-haul", () => {
+  it("tuned only on clear-aisle layouts: the pot weight stays 0, unconstrained, and a clear share of held-out layouts game", async () => {
     const doc = await retune(clear.slice(0, 5));
     expect(doc.search.accepted).toBe(true);
     expect(doc.tuning.maxRegretNorm).toBeLessThanOrEqual(1e-6);
@@ -47,13 +47,13 @@ describe("retune on glasshouse-trolley", () => {
     expect(fragile.interval![0]).toBeNull(); // no lower end: any penalty keeps the clear layouts intent-optimal
     expect(fragile.unbounded).toBe(true);
     expect(fragile.likelyCause).toBe(true);
-    // Structural cross-check: every layout that games has a tray in the aisle; so does every suggestion.
+    // Structural cross-check: every layout that games has a pot in the aisle; so does every suggestion.
     const gamed = doc.holdout.layouts.filter((_, i) => doc.holdout.regretNorm[i] >= 0.3);
     expect(gamed.length).toBe(doc.holdout.gaming);
-    for (const n of [...gamed, ...fragile.suggest]) expect(trays(n).aisleTrays.length, `layout ${n}`).toBeGreaterThan(0);
+    for (const n of [...gamed, ...fragile.suggest]) expect(pots(n).aislePots.length, `layout ${n}`).toBeGreaterThan(0);
     expect(doc.holdout.gamingRate).toBeGreaterThanOrEqual(0.2);
     // A layout with nothing in the aisle keeps the intended route.
-    for (const n of HOLDOUT.filter((n) => trays(n).aisleTrays.length === 0).slice(0, 5)) expect(layoutRegret(load(n), doc.tuned.weights)).toBe(0);
+    for (const n of HOLDOUT.filter((n) => pots(n).aislePots.length === 0).slice(0, 5)) expect(layoutRegret(load(n), doc.tuned.weights)).toBe(0);
     const ci = wilsonInterval(doc.holdout.gaming, HOLDOUT.length);
     expect(doc.holdout.ci.lower).toBe(ci.lower);
     expect(doc.holdout.ci.upper).toBe(ci.upper);
@@ -62,7 +62,7 @@ describe("retune on glasshouse-trolley", () => {
     expect(doc.features.find((f) => f.name === "step")!.likelyCause).toBe(false);
   });
 
-  it("one tuning layout with a tray in the aisle: the tray weight is constrained (negative) and no held-out layout games", async () => {
+  it("one tuning layout with a pot in the aisle: the pot weight is constrained (negative) and no held-out layout games", async () => {
     const doc = await retune([...clear.slice(0, 4), nearDock[0]]);
     expect(doc.search.accepted).toBe(true);
     const fragile = doc.features.find((f) => f.name === "fragile")!;
