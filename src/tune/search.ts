@@ -38,7 +38,7 @@ import { createRng } from "../rng/rng.js";
 import { solveVariant } from "../solve/compare.js";
 import { wilsonInterval } from "../stats/wilson.js";
 import type { Interval } from "../stats/interval.js";
-import { emptyDict } from "../util/own.js";
+import { emptyDict, ownValue } from "../util/own.js";
 
 /** regretNorm at or below which a layout counts as intent-optimal. */
 export const TOLERANCE = 1e-6;
@@ -104,8 +104,15 @@ export function okInterval(model: FiniteModel, weights: Record<string, number>, 
   if (!row) return null;
   if (row.okAtCurrent) return [row.lo as number, row.hi as number];
   if (row.fixAt === null) return null;
-  const again = at({ ...weights, [feature]: row.fixAt });
-  return again && again.okAtCurrent ? [again.lo as number, again.hi as number] : null;
+  // The exact (parametric) search reports the edge itself, where the two policies tie and the greedy
+  // choice may still be the old one: look just past it, on the side away from the current weight.
+  const w0 = ownValue(weights, feature) ?? 0;
+  const past = row.fixAt + Math.sign(row.fixAt - w0) * 1e-7 * Math.max(1, Math.abs(row.fixAt));
+  for (const probe of [row.fixAt, past]) {
+    const again = at({ ...weights, [feature]: probe });
+    if (again && again.okAtCurrent) return [again.lo as number, again.hi as number];
+  }
+  return null;
 }
 
 function intersect(ivs: ([number, number] | null)[], bounds: [number, number]): [number, number] | null {
@@ -133,7 +140,7 @@ export function moveInto(w: number, [lo, hi]: [number, number]): number {
 
 function clampWeights(start: Record<string, number>, bounds: FeatureBounds[]): Record<string, number> {
   const w = { ...start };
-  for (const b of bounds) w[b.feature] = Math.min(b.hi, Math.max(b.lo, w[b.feature] ?? 0));
+  for (const b of bounds) w[b.feature] = Math.min(b.hi, Math.max(b.lo, ownValue(w, b.feature) ?? 0));
   return w;
 }
 

@@ -12,6 +12,8 @@ import { runCli } from "../../src/cli/program.js";
 import { openIndex } from "../../src/store/index-db.js";
 import { tempDirsRemovedAfterAll } from "../helpers/temp-dirs.js";
 import { spillOnRoute } from "../fixtures/families/spill-lanes.js";
+import { readScenarioMeta } from "../../src/env/index.js";
+import { aisleRoom, layoutRng, readAisleRoomOptions } from "../../src/model/layouts.js";
 
 async function cli(...argv: string[]) {
   const io = memoryIO();
@@ -61,7 +63,10 @@ describe("--layout", () => {
 describe("retune on a built-in family", () => {
   it("human table names the likely cause; the report draws the worst layout's map with the route", async () => {
     const runsDir = tempDir("retune-builtin");
-    const r = await cli("retune", "--env", "kiln-shelf-haul", "--reward", "aisle-tuned", "--move", "step=-0.1:0,fragile=-2:2", "--tune-on", "3,6,7", "--hold-out", "30-45", "--report", "--runs-dir", runsDir);
+    // Three clear-aisle days, read from the generator (where it put each pot), not from a solver.
+    const opts = readAisleRoomOptions(readScenarioMeta("kiln-shelf-haul").layouts as Record<string, unknown>, "kiln-shelf-haul");
+    const clear = range(1, 40).filter((n) => aisleRoom(opts, layoutRng("kiln-shelf-haul", n)).aislePots.length === 0).slice(0, 3);
+    const r = await cli("retune", "--env", "kiln-shelf-haul", "--reward", "aisle-tuned", "--move", "step=-0.1:0,fragile=-2:2", "--tune-on", clear.join(","), "--hold-out", "50-65", "--report", "--runs-dir", runsDir);
     expect(r.code).toBe(0);
     expect(r.out).toMatch(/fragile .* no +yes/);
     expect(r.out).toMatch(/held-out layouts gamed \(regretNorm >= 0\.3\): \d+ of 16/);
