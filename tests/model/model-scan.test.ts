@@ -60,14 +60,7 @@ describe("fast path of model files", () => {
 
   it("gives up on every mutant the ordinary path refuses, and agrees on the rest (seeded mutants of two exports)", () => {
     const rng = createRng("model-scan-mutants");
-    let accepted = 0;
-    for (let i = 0; i < 400; i++) {
-      const base = exported[i % 2 === 0 ? 0 : exported.length - 1].text;
-      const text = mutate(base, rng);
-      if (agree(text)) accepted++;
-    }
-    // Mutants that stay valid exist (e.g. a value copied onto an equal one); the count is not the point.
-    expect(accepted).toBeGreaterThanOrEqual(0);
+    for (let i = 0; i < 120; i++) agree(mutate(exported[i % 2 === 0 ? 1 : exported.length - 1].text, rng));
   });
 
   it("number text: every JSON spelling of a probability gives JSON.parse's double", () => {

@@ -272,18 +272,33 @@ export function parseJsonText(text: string, where: string, ns: Namespace): unkno
 /** A name that may not be used for anything a file names (it would reach an object's prototype). */
 export const RESERVED_KEY = "__proto__";
 
-/** JSON path of the first own key `key` in a parsed JSON value (iterative: no stack limit), or null. */
+/**
+ * JSON path of the first own key `key` in a parsed JSON value (iterative: no stack limit), or null.
+ * Each visited container keeps a link to its parent, so deep nesting costs linear time (the path is
+ * built only for the hit).
+ */
 function findKey(root: unknown, key: string): Path | null {
-  const stack: { v: unknown; path: Path }[] = [{ v: root, path: [] }];
+  interface Node {
+    v: unknown;
+    parent: Node | null;
+    seg: string | number;
+  }
+  const pathOf = (n: Node, last: string): Path => {
+    const out: (string | number)[] = [last];
+    for (let m: Node | null = n; m && m.parent; m = m.parent) out.push(m.seg);
+    return out.reverse();
+  };
+  const stack: Node[] = [{ v: root, parent: null, seg: "" }];
   while (stack.length > 0) {
-    const { v, path } = stack.pop()!;
+    const node = stack.pop()!;
+    const v = node.v;
     if (v === null || typeof v !== "object") continue;
     if (Array.isArray(v)) {
-      for (let i = v.length - 1; i >= 0; i--) if (v[i] !== null && typeof v[i] === "object") stack.push({ v: v[i], path: [...path, i] });
+      for (let i = v.length - 1; i >= 0; i--) if (v[i] !== null && typeof v[i] === "object") stack.push({ v: v[i], parent: node, seg: i });
       continue;
     }
-    if (Object.hasOwn(v, key)) return [...path, key];
-    for (const [k, x] of Object.entries(v)) if (x !== null && typeof x === "object") stack.push({ v: x, path: [...path, k] });
+    if (Object.hasOwn(v, key)) return pathOf(node, key);
+    for (const [k, x] of Object.entries(v)) if (x !== null && typeof x === "object") stack.push({ v: x, parent: node, seg: k });
   }
   return null;
 }
