@@ -23,12 +23,13 @@ import { compareEntry } from "./compare.js";
 import { reportEntry } from "./report.js";
 import { monitorEntry } from "./monitor.js";
 import { auditEntry } from "./audit.js";
+import { bigModelEntry } from "./big-model.js";
 import { out, oursParImpl, oursWarmImpl, PAR_NAME, PAR_THREADS, WARM_NAME, WARM_STEPS, WARM_W, type BenchEntry, type BenchOptions, type Context } from "./harness.js";
 import { qlEntry, viEntry } from "./lava-entries.js";
 import { defaultPeersDir, oursImpl, readExpected, setupPeers } from "./peers.js";
 
 /** The benchmark's entries, in run order. */
-export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, compareEntry];
+export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, compareEntry, bigModelEntry];
 
 const USAGE =
   "usage: main.js [--quick] [--runs N] [--warmup N] [--only NAME,...] [--slow] [--peers DIR]\n" +
