@@ -5,7 +5,7 @@
  * at 19); one outcome per reachable next state, its features the expected rentals given that state and
  * the cars moved: 2,080,577 outcomes) is written as a JSON model file and as a compact .gwbin file in
  * a temporary folder. Each load runs in its own child process (this file with `--child`), which
- * reports its time, its peak resident set size and a CRC-32 of the model it loaded. Printed: JSON.parse
+ * reports the CPU and wall time of its timed region, its peak resident set size and a CRC-32 of the model it loaded. Printed: JSON.parse
  * of the text, the gapwatch JSON load (read + parse + checks + arrays) and its ratio to JSON.parse, its
  * peak RSS, the compact load and its speed-up over the JSON load, and whether both checksums match the
  * generated model. Targets are reported, never enforced.
@@ -150,25 +150,23 @@ const now = (): number => Number(process.hrtime.bigint()) / 1e9;
 
 /** Child mode: `parse FILE` (read, then time JSON.parse), `json FILE` or `gwbin FILE` (time the load). */
 function child(mode: string, file: string): void {
-  let seconds: number;
   let checksum = "";
+  const text = mode === "parse" ? readFileSync(file, "utf8") : "";
+  const t = now();
+  const cpu = process.cpuUsage();
   if (mode === "parse") {
-    const text = readFileSync(file, "utf8");
-    const t = now();
-    const doc = JSON.parse(text) as { transitions: unknown[] };
-    seconds = now() - t;
-    checksum = String(doc.transitions.length);
+    checksum = String((JSON.parse(text) as { transitions: unknown[] }).transitions.length);
   } else {
-    const t = now();
-    const m = mode === "json" ? loadModelFile(file) : loadBinaryModelFile(file);
-    seconds = now() - t;
-    checksum = modelChecksum(m);
+    checksum = modelChecksum(mode === "json" ? loadModelFile(file) : loadBinaryModelFile(file));
   }
-  process.stdout.write(JSON.stringify({ seconds, maxRssMB: process.resourceUsage().maxRSS / 1024, checksum }) + "\n");
+  const used = process.cpuUsage(cpu);
+  const seconds = now() - t;
+  process.stdout.write(JSON.stringify({ seconds, cpuSeconds: (used.user + used.system) / 1e6, maxRssMB: process.resourceUsage().maxRSS / 1024, checksum }) + "\n");
 }
 
 interface ChildResult {
   seconds: number;
+  cpuSeconds: number;
   maxRssMB: number;
   checksum: string;
 }
@@ -199,22 +197,25 @@ export const bigModelEntry = {
       const parse = runChild("parse", jsonFile);
       const json = runChild("json", jsonFile);
       const bin = runChild("gwbin", binFile);
-      const ratio = json.seconds / parse.seconds;
-      const speedup = json.seconds / bin.seconds;
+      // The machine may be shared: targets are judged on CPU time (user + system) of the timed region;
+      // wall times are printed beside them.
+      const ratio = json.cpuSeconds / parse.cpuSeconds;
+      const speedup = json.cpuSeconds / bin.cpuSeconds;
+      const cpuWall = (r: ChildResult) => `${r.cpuSeconds.toFixed(3)} s CPU (${r.seconds.toFixed(3)} s wall)`;
       const same = json.checksum === want && bin.checksum === want;
       const lines = [
-        `JSON.parse of the text          ${parse.seconds.toFixed(3)} s`,
-        `gapwatch load, JSON file        ${json.seconds.toFixed(3)} s   ${ratio.toFixed(2)}x JSON.parse (target <= 2x: ${ratio <= 2 ? "met" : "NOT met"})`,
+        `JSON.parse of the text          ${cpuWall(parse)}`,
+        `gapwatch load, JSON file        ${cpuWall(json)}   ${ratio.toFixed(2)}x JSON.parse by CPU, ${(json.seconds / parse.seconds).toFixed(2)}x by wall (target <= 2x: ${ratio <= 2 ? "met" : "NOT met"})`,
         `peak RSS of the JSON load       ${json.maxRssMB.toFixed(0)} MB (target < 600 MB: ${json.maxRssMB < 600 ? "met" : "NOT met"}; JSON.parse child: ${parse.maxRssMB.toFixed(0)} MB)`,
-        `gapwatch load, .gwbin file      ${bin.seconds.toFixed(3)} s   ${speedup.toFixed(1)}x faster than the JSON load (target >= 5x: ${speedup >= 5 ? "met" : "NOT met"}; peak RSS ${bin.maxRssMB.toFixed(0)} MB)`,
+        `gapwatch load, .gwbin file      ${cpuWall(bin)}   ${speedup.toFixed(1)}x faster than the JSON load by CPU, ${(json.seconds / bin.seconds).toFixed(1)}x by wall (target >= 5x: ${speedup >= 5 ? "met" : "NOT met"}; peak RSS ${bin.maxRssMB.toFixed(0)} MB)`,
         `model checksum (CRC-32)         generated ${want}, JSON load ${json.checksum}, gwbin load ${bin.checksum}: ${same ? "same" : "MISMATCH"}`,
       ];
       process.stdout.write(lines.join("\n") + "\n\n");
       return {
         ok: same,
         summary: [
-          `big-model JSON load ${json.seconds.toFixed(2)} s = ${ratio.toFixed(2)}x JSON.parse (target <= 2x: ${ratio <= 2 ? "met" : "NOT met"}), peak RSS ${json.maxRssMB.toFixed(0)} MB (target < 600: ${json.maxRssMB < 600 ? "met" : "NOT met"})`,
-          `big-model gwbin load ${bin.seconds.toFixed(3)} s = ${speedup.toFixed(1)}x faster than JSON (target >= 5x: ${speedup >= 5 ? "met" : "NOT met"}); checksums ${same ? "same" : "MISMATCH"}`,
+          `big-model JSON load ${json.cpuSeconds.toFixed(2)} s CPU = ${ratio.toFixed(2)}x JSON.parse (target <= 2x: ${ratio <= 2 ? "met" : "NOT met"}), peak RSS ${json.maxRssMB.toFixed(0)} MB (target < 600: ${json.maxRssMB < 600 ? "met" : "NOT met"})`,
+          `big-model gwbin load ${bin.cpuSeconds.toFixed(3)} s CPU = ${speedup.toFixed(1)}x faster than JSON (target >= 5x: ${speedup >= 5 ? "met" : "NOT met"}); checksums ${same ? "same" : "MISMATCH"}`,
         ],
       };
     } finally {

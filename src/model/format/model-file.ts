@@ -54,14 +54,22 @@ export function parseModelBytes(bytes: Uint8Array, where: string, opts: ModelFil
  */
 export function fastModel(bytes: Uint8Array, where: string, maxStates: number): FiniteModel | null {
   const buf = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
-  // The reserved key may hide behind an escape: both go the ordinary way.
-  if (buf.indexOf(RESERVED_KEY) >= 0 || buf.indexOf("\\u") >= 0) return null;
   try {
     const top = scanTopLevel(bytes);
     const span = top?.spans.get("transitions");
     if (!top || !span) return null;
     const data: Record<string, unknown> = {};
-    for (const [k, [from, to]] of top.spans) data[k] = k === "transitions" ? [] : JSON.parse(buf.toString("utf8", from, to));
+    for (const [k, [from, to]] of top.spans) {
+      if (k === "transitions") {
+        // The walk takes only known keys, without escapes, and declared feature names.
+        data[k] = [];
+        continue;
+      }
+      // The reserved key may hide behind an escape: both go the ordinary way.
+      const text = buf.toString("utf8", from, to);
+      if (k === RESERVED_KEY || text.includes(RESERVED_KEY) || text.includes("\\u")) return null;
+      data[k] = JSON.parse(text);
+    }
     checkFormatTag("model", data, where);
     const doc = validate("model", modelSchema, data, where) as ModelDocument;
     const nS = typeof doc.states === "number" ? doc.states : doc.states.length;

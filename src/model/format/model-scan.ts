@@ -198,6 +198,9 @@ export function scanTransitions(b: Uint8Array, from: number, to: number, shape: 
   const featureValues = new Float64Array(outcomes * nF);
   const intent = new Float64Array(outcomes);
   const stamp = new Int32Array(nF);
+  const view = Buffer.from(b.buffer, b.byteOffset, b.byteLength) as Buffer & { latin1Slice?: (from: number, to: number) => string };
+  // Buffer's own slice decoder when this Node has it (no argument checks per call), else toString.
+  const latin1 = typeof view.latin1Slice === "function" ? (x: number, y: number): string => view.latin1Slice!(x, y) : (x: number, y: number): string => view.toString("latin1", x, y);
   let i = from;
   let nE = 0;
   let nO = 0;
@@ -304,7 +307,7 @@ export function scanTransitions(b: Uint8Array, from: number, to: number, shape: 
       const v = scale >= 0 ? m * POW10[scale] : m / POW10[-scale];
       return neg ? -v : v;
     }
-    return Number(Buffer.from(b.buffer, b.byteOffset + s, i - s).toString("latin1"));
+    return Number(latin1(s, i));
   };
   const featureObject = (o: number): void => {
     expect(LBRACE);
