@@ -154,13 +154,10 @@ function child(mode: string, file: string): void {
   const text = mode === "parse" ? readFileSync(file, "utf8") : "";
   const t = now();
   const cpu = process.cpuUsage();
-  if (mode === "parse") {
-    checksum = String((JSON.parse(text) as { transitions: unknown[] }).transitions.length);
-  } else {
-    checksum = modelChecksum(mode === "json" ? loadModelFile(file) : loadBinaryModelFile(file));
-  }
+  const loaded = mode === "parse" ? (JSON.parse(text) as { transitions: unknown[] }) : mode === "json" ? loadModelFile(file) : loadBinaryModelFile(file);
   const used = process.cpuUsage(cpu);
   const seconds = now() - t;
+  checksum = "transitions" in loaded ? String(loaded.transitions.length) : modelChecksum(loaded);
   process.stdout.write(JSON.stringify({ seconds, cpuSeconds: (used.user + used.system) / 1e6, maxRssMB: process.resourceUsage().maxRSS / 1024, checksum }) + "\n");
 }
 
