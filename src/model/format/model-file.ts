@@ -73,11 +73,9 @@ export function fastModel(bytes: Uint8Array, where: string, maxStates: number): 
     checkFormatTag("model", data, where);
     const doc = validate("model", modelSchema, data, where) as ModelDocument;
     const nS = typeof doc.states === "number" ? doc.states : doc.states.length;
-    if (nS > maxStates) return null;
+    // Before anything is allocated per state: a file that cannot list every pair goes the ordinary way.
+    if (nS > maxStates || (nS - new Set(doc.terminal).size) * doc.actions.length > top.entries) return null;
     const h = checkHeader(doc, where);
-    let nTerminal = 0;
-    for (let s = 0; s < nS; s++) nTerminal += h.terminal[s];
-    if ((nS - nTerminal) * h.nA > top.entries) return null;
     const t = scanTransitions(bytes, span[0], span[1], { nS, nA: h.nA, features: doc.features }, top.entries, top.outcomes);
     const csr = t && assembleScanned(t, h);
     if (!csr) return null;
