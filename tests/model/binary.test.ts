@@ -8,11 +8,11 @@ import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { formatError, InputError } from "../../src/errors.js";
 import { builtinScenarioNames, loadScenario } from "../../src/env/scenarios.js";
-import { ModelBuilder } from "../../src/model/builder.js";
 import { crc32, decodeBinaryModel, encodeBinaryModel } from "../../src/model/format/binary.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { designerReward } from "../../src/model/reward.js";
 import { valueIteration } from "../../src/solve/value-iteration.js";
+import { randomModel } from "../helpers/random-model.js";
 
 /** The model without `source` (which names the file it was read from). */
 const bare = (m: FiniteModel) => ({ ...m, source: undefined });
@@ -47,34 +47,9 @@ describe("compact model files", () => {
     }
   });
 
-  it("property: random models (terminal states, -0, extreme values) round-trip bit for bit", () => {
-    const value = fc.oneof(fc.double({ noNaN: true, noDefaultInfinity: true, min: -1e12, max: 1e12 }), fc.constant(-0));
-    const arb = fc
-      .record({ nS: fc.integer({ min: 1, max: 6 }), nA: fc.integer({ min: 1, max: 3 }), nF: fc.integer({ min: 0, max: 3 }) })
-      .chain(({ nS, nA, nF }) =>
-        fc.record({
-          nS: fc.constant(nS),
-          nA: fc.constant(nA),
-          nF: fc.constant(nF),
-          terminal: fc.array(fc.boolean(), { minLength: nS, maxLength: nS }),
-          outs: fc.array(fc.array(fc.record({ next: fc.nat(nS - 1), w: fc.integer({ min: 1, max: 9 }), f: fc.array(value, { minLength: nF, maxLength: nF }), intent: value }), { minLength: 1, maxLength: 4 }), { minLength: nS * nA, maxLength: nS * nA }),
-          startState: fc.nat(nS - 1),
-          gamma: fc.double({ min: 0.01, max: 1, noNaN: true }),
-          labels: fc.array(fc.string(), { minLength: nS, maxLength: nS }),
-        }),
-      );
+  it("property: random models (terminal states, groups, potentials, shaped variants, -0) round-trip bit for bit", () => {
     fc.assert(
-      fc.property(arb, ({ nS, nA, nF, terminal, outs, startState, gamma, labels }) => {
-        const features = Array.from({ length: nF }, (_, f) => `f${f}`);
-        const b = new ModelBuilder({ name: "rand", nStates: nS, actions: Array.from({ length: nA }, (_, a) => `a${a}`), features, gamma, horizon: 50, stateLabels: labels });
-        terminal.forEach((t, s) => t && s !== startState && b.setTerminal(s));
-        b.setStart(startState, 1);
-        outs.forEach((list, k) => {
-          const total = list.reduce((x, o) => x + o.w, 0);
-          for (const o of list) b.addOutcome(Math.floor(k / nA), k % nA, o.next, o.w / total, o.f, o.intent);
-        });
-        b.setVariants({ v: { name: "v", weights: Object.fromEntries(features.map((f) => [f, 1])) } });
-        const m = b.build();
+      fc.property(randomModel, (m) => {
         const back = decodeBinaryModel(encodeBinaryModel(m), "r.gwbin");
         expect(bare(back)).toEqual(bare(m));
         for (const key of ["start", "prob", "featureValues", "intent"] as const) {
@@ -122,5 +97,17 @@ describe("compact model files", () => {
       prob[m.saStart[k]] += 0.5;
       expect(errorOf(() => decodeBinaryModel(encodeBinaryModel({ ...m, prob }), "bad.gwbin"))).toMatch(/model\.probability.*bad\.gwbin/);
     });
+  });
+});
+
+describe("compact model files: -0 in the JSON header", () => {
+  it("weights, shaping scales and inline potentials keep their sign of zero", () => {
+    const m = loadScenario("quench-hall-run").model;
+    const f = m.features[0];
+    const shaped = { ...m, variants: { z: { name: "z", weights: { [f]: -0 }, shaping: { potential: Array.from({ length: m.nStates }, (_, s) => (s === 0 ? -0 : 1)), scale: -0 } } } };
+    const back = decodeBinaryModel(encodeBinaryModel(shaped), "z.gwbin").variants!.z;
+    expect(Object.is(back.weights[f], -0)).toBe(true);
+    expect(Object.is(back.shaping!.scale, -0)).toBe(true);
+    expect(Object.is((back.shaping!.potential as number[])[0], -0)).toBe(true);
   });
 });

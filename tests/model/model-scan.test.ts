@@ -8,13 +8,13 @@
 import fc from "fast-check";
 import { describe, expect, it } from "vitest";
 import { loadScenario, builtinScenarioNames } from "../../src/env/scenarios.js";
-import { ModelBuilder } from "../../src/model/builder.js";
 import { exportModel, formatModelDocument } from "../../src/model/format/export.js";
 import { DEFAULT_MAX_MODEL_STATES, fastModel, parseModelBytes, parseModelFile } from "../../src/model/format/model-file.js";
 import type { ModelDocument } from "../../src/model/format/schema.js";
 import type { FiniteModel } from "../../src/model/types.js";
 import { createRng } from "../../src/rng/rng.js";
 import { mutate } from "../helpers/fuzz.js";
+import { randomModel } from "../helpers/random-model.js";
 
 const bytes = (text: string): Uint8Array => new Uint8Array(Buffer.from(text, "utf8"));
 const fast = (text: string): FiniteModel | null => fastModel(bytes(text), "m.json", DEFAULT_MAX_MODEL_STATES);
@@ -78,35 +78,19 @@ describe("fast path of model files", () => {
     }
   });
 
-  it("property: random models round-trip through export and load the same on both paths", () => {
-    const arb = fc
-      .record({ nS: fc.integer({ min: 1, max: 6 }), nA: fc.integer({ min: 1, max: 3 }), nF: fc.integer({ min: 0, max: 3 }) })
-      .chain(({ nS, nA, nF }) =>
-        fc.record({
-          nS: fc.constant(nS),
-          nA: fc.constant(nA),
-          nF: fc.constant(nF),
-          terminal: fc.array(fc.boolean(), { minLength: nS, maxLength: nS }),
-          outs: fc.array(
-            fc.array(fc.record({ next: fc.nat(nS - 1), w: fc.integer({ min: 1, max: 7 }), f: fc.array(fc.double({ min: -1e6, max: 1e6, noNaN: true }), { minLength: nF, maxLength: nF }), intent: fc.double({ min: -1e6, max: 1e6, noNaN: true }) }), { minLength: 1, maxLength: 4 }),
-            { minLength: nS * nA, maxLength: nS * nA },
-          ),
-          startState: fc.nat(nS - 1),
-        }),
-      );
+  it("property: random models exported as model files load the same on both paths", () => {
     fc.assert(
-      fc.property(arb, ({ nS, nA, nF, terminal, outs, startState }) => {
-        const b = new ModelBuilder({ name: "rand", nStates: nS, actions: Array.from({ length: nA }, (_, a) => `a${a}`), features: Array.from({ length: nF }, (_, f) => `f${f}`), gamma: 0.95, horizon: 50 });
-        terminal.forEach((t, s) => t && s !== startState && b.setTerminal(s));
-        b.setStart(startState, 1);
-        outs.forEach((list, k) => {
-          const total = list.reduce((x, o) => x + o.w, 0);
-          for (const o of list) b.addOutcome(Math.floor(k / nA), k % nA, o.next, o.w / total, o.f, o.intent);
-        });
-        const text = JSON.stringify(exportModel(b.build()));
+      fc.property(randomModel, (m) => {
+        let text: string;
+        try {
+          text = JSON.stringify(exportModel(m));
+        } catch (e) {
+          // A state whose label is shared and whose index string is another state's label cannot be named.
+          expect((e as { code?: string }).code).toBe("model.export");
+          return;
+        }
         expect(agree(text)).toBe(true);
-        const viaBytes = parseModelBytes(bytes(text), "m.json");
-        expect(viaBytes).toEqual(ordinary(text).model);
+        expect(parseModelBytes(bytes(text), "m.json")).toEqual(ordinary(text).model);
       }),
       { numRuns: 150 },
     );

@@ -109,7 +109,7 @@ export function encodeBinaryModel(model: FiniteModel): Buffer {
     });
   };
   const variants = model.variants
-    ? Object.entries(model.variants).map(([key, v]) => ({ key, name: v.name, ...(v.env === undefined ? {} : { env: v.env }), ...(v.source === undefined ? {} : { source: v.source }), weights: Object.entries(v.weights), ...(v.shaping ? { shaping: v.shaping } : {}) }))
+    ? Object.entries(model.variants).map(([key, v]) => ({ key, name: v.name, ...(v.env === undefined ? {} : { env: v.env }), ...(v.source === undefined ? {} : { source: v.source }), weights: Object.entries(v.weights).map(([f, w]) => [f, signed(w)]), ...(v.shaping ? { shaping: shapingToJson(v.shaping) } : {}) }))
     : undefined;
   const layout = model.layout ? layoutToJson(model.layout) : undefined;
   const headerOf = (sections: SectionEntry[]) => ({
@@ -150,6 +150,11 @@ export function encodeBinaryModel(model: FiniteModel): Buffer {
 
 const align8 = (n: number): number => Math.ceil(n / 8) * 8;
 
+/** JSON has no -0: the header writes it as the string "-0" (where a number is expected) and reads it back. */
+const signed = (x: number): number | "-0" => (Object.is(x, -0) ? "-0" : x);
+const unsigned = (x: number | "-0"): number => (x === "-0" ? -0 : x);
+const shapingToJson = (sh: NonNullable<RewardVariant["shaping"]>) => ({ potential: typeof sh.potential === "string" ? sh.potential : sh.potential.map(signed), scale: signed(sh.scale) });
+
 function layoutToJson(l: Layout): unknown {
   return l.kind === "grid"
     ? { kind: "grid", rows: l.rows, cols: l.cols, map: l.map, cellOf: Array.from(l.cellOf) }
@@ -157,7 +162,8 @@ function layoutToJson(l: Layout): unknown {
 }
 
 const int = z.number().int().nonnegative();
-const shapingSchema = z.strictObject({ potential: z.union([z.string(), z.array(z.number())]), scale: z.number() });
+const num = z.union([z.number(), z.literal("-0")]);
+const shapingSchema = z.strictObject({ potential: z.union([z.string(), z.array(num)]), scale: num });
 const headerSchema = z.strictObject({
   format: z.literal(BINARY_FORMAT),
   name: z.string(),
@@ -169,7 +175,7 @@ const headerSchema = z.strictObject({
   features: z.array(z.string()),
   description: z.string().optional(),
   groups: z.array(z.string().nullable()).optional(),
-  variants: z.array(z.strictObject({ key: z.string(), name: z.string(), env: z.string().optional(), source: z.string().optional(), weights: z.array(z.tuple([z.string(), z.number()])), shaping: shapingSchema.optional() })).optional(),
+  variants: z.array(z.strictObject({ key: z.string(), name: z.string(), env: z.string().optional(), source: z.string().optional(), weights: z.array(z.tuple([z.string(), num])), shaping: shapingSchema.optional() })).optional(),
   observations: z.strictObject({ dim: int, names: z.array(z.string()) }).optional(),
   layout: z
     .union([
@@ -275,8 +281,9 @@ export function decodeBinaryModel(bytes: Uint8Array, where: string): FiniteModel
     for (const v of h.variants) {
       if (Object.hasOwn(variants, v.key)) bad(`header at byte ${PREFIX}: variant ${JSON.stringify(v.key)} is listed twice`);
       const weights = emptyDict<number>();
-      for (const [f, w] of v.weights) weights[f] = w;
-      variants[v.key] = { name: v.name, ...(v.env === undefined ? {} : { env: v.env }), ...(v.source === undefined ? {} : { source: v.source }), weights, ...(v.shaping ? { shaping: v.shaping } : {}) };
+      for (const [f, w] of v.weights) weights[f] = unsigned(w);
+      const shaping = v.shaping && { potential: typeof v.shaping.potential === "string" ? v.shaping.potential : v.shaping.potential.map(unsigned), scale: unsigned(v.shaping.scale) };
+      variants[v.key] = { name: v.name, ...(v.env === undefined ? {} : { env: v.env }), ...(v.source === undefined ? {} : { source: v.source }), weights, ...(shaping ? { shaping } : {}) };
     }
     extras.variants = variants;
   }
