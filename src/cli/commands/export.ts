@@ -9,7 +9,7 @@ import { envOption, jsonOption, maxStatesOf, maxStatesOption } from "../options.
 export function registerExport(program: Command, ctx: CliContext): void {
   program
     .command("export")
-    .description("write an environment as a model file (gapwatch-mdp/1) on stdout")
+    .description("write an environment as a model file (gapwatch-mdp/1, DRN or compact .gwbin) on stdout or to --out")
     .addOption(envOption())
     .option("--format <format>", "json (gapwatch-mdp/1, default), drn (the explicit format of probabilistic model checkers; what it cannot carry is said on stderr) or gwbin (compact binary, needs --out)")
     .option("--out <file>", "write the model to this file instead of stdout (required with --format gwbin)")
