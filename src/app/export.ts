@@ -2,11 +2,15 @@
 import { loadFinite } from "../env/resolve.js";
 import { formatDrn } from "../model/drn-export.js";
 import { exportModel } from "../model/format/export.js";
+import { encodeBinaryModel } from "../model/format/binary.js";
 
 export interface ExportConfig {
   env: string;
-  /** "json" (gapwatch-mdp/1, default) or "drn" (the explicit format of probabilistic model checkers). */
-  format?: "json" | "drn";
+  /**
+   * "json" (gapwatch-mdp/1, default), "drn" (the explicit format of probabilistic model checkers) or
+   * "gwbin" (the compact binary companion, src/model/format/binary.ts: `bytes` holds the file).
+   */
+  format?: "json" | "drn" | "gwbin";
   /** State bound when `env` is a simulator module. */
   maxStates?: number;
 }
@@ -17,6 +21,7 @@ export interface ExportConfig {
  */
 export async function runExport(cfg: ExportConfig) {
   const { model } = await loadFinite(cfg.env, { command: "export", maxStates: cfg.maxStates });
+  if (cfg.format === "gwbin") return { doc: null, text: "", bytes: encodeBinaryModel(model), warnings: [] as string[] };
   if (cfg.format === "drn") {
     const { text, warnings } = formatDrn(model);
     return { doc: null, text, warnings };

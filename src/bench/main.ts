@@ -23,6 +23,7 @@ import { compareEntry } from "./compare.js";
 import { reportEntry } from "./report.js";
 import { monitorEntry } from "./monitor.js";
 import { auditEntry, lavaAuditEntry } from "./audit.js";
+import { bigModelEntry } from "./big-model.js";
 import { layoutsEntry } from "./layouts.js";
 import { startupEntry } from "./startup.js";
 import { ENGINE_NAME, out, oursEngineImpl, oursParImpl, oursWarmImpl, PAR_NAME, PAR_THREADS, WARM_NAME, WARM_STEPS, WARM_W, type BenchEntry, type BenchOptions, type Context } from "./harness.js";
@@ -30,7 +31,7 @@ import { qlEntry, viEntry } from "./lava-entries.js";
 import { defaultPeersDir, oursImpl, readExpected, setupPeers } from "./peers.js";
 
 /** The benchmark's entries, in run order. */
-export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, lavaAuditEntry, compareEntry, startupEntry, layoutsEntry];
+export const ENTRIES: BenchEntry[] = [viEntry, qlEntry, monitorEntry, reportEntry, auditEntry, lavaAuditEntry, compareEntry, startupEntry, layoutsEntry, bigModelEntry];
 
 const USAGE =
   "usage: main.js [--quick] [--runs N] [--warmup N] [--only NAME,...] [--slow] [--peers DIR]\n" +

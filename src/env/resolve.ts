@@ -1,6 +1,7 @@
 /**
  * Resolving `--env` and `--reward`. `--env` is a built-in scenario name (a folder in `envs/`), a path to
- * a model file (`*.json`, format gapwatch-mdp/1) or a path to a simulator module (`*.ts`, `*.js`).
+ * a model file (`*.json`, format gapwatch-mdp/1; `*.gwbin`, its compact binary companion) or a path
+ * to a simulator module (`*.ts`, `*.js`).
  * `--reward` is a variant name known to the model or a path to a reward file (gapwatch-reward/1).
  * `loadFiniteVariant` is the sequence every command that works on a finite model runs:
  * load the environment, require its finite model, resolve the reward.
@@ -10,6 +11,7 @@ import { join, resolve } from "node:path";
 import { InputError } from "../errors.js";
 import { loadDrnFile } from "../model/drn.js";
 import { loadModelFile } from "../model/format/model-file.js";
+import { loadBinaryModelFile } from "../model/format/binary.js";
 import { logger } from "../util/log.js";
 import { parseRewardFile } from "../model/format/reward-file.js";
 import { checkVariant, defaultVariantName } from "../model/reward.js";
@@ -45,6 +47,16 @@ export function loadEnvSync(spec: string, opts: EnvLoadOptions = {}): FiniteEnv 
     if (!existsSync(file)) throw new InputError("env.notFound", `model file not found`, spec);
     return { model: loadModelFile(file, { maxStates: opts.maxStates }), kind: "file", spec };
   }
+  if (/\.gwbin$/i.test(spec)) {
+    // The compact companion of model files (src/model/format/binary.ts), written by export --format gwbin.
+    const file = resolve(spec);
+    if (!existsSync(file)) throw new InputError("env.notFound", `model file not found`, spec);
+    const model = loadBinaryModelFile(file, spec);
+    if (opts.maxStates !== undefined && model.nStates > opts.maxStates) {
+      throw new InputError("env.tooManyStates", `the model has ${model.nStates} states, more than --max-states ${opts.maxStates}`, spec);
+    }
+    return { model, kind: "file", spec };
+  }
   if (/\.drn$/i.test(spec)) {
     // The explicit format of probabilistic model checkers (src/model/drn.ts): what it cannot carry
     // (per-outcome rewards, reward variants) is said in warnings, logged on stderr.
@@ -62,7 +74,7 @@ export function loadEnvSync(spec: string, opts: EnvLoadOptions = {}): FiniteEnv 
   if (isModuleSpec(spec)) throw new InputError("env.module", `simulator modules load asynchronously; use loadEnv()`, spec);
   throw new InputError(
     "env.unknown",
-    `unknown environment "${spec}"; built-in scenarios: ${names.join(", ")}; or pass a path to a model file (.json, or .drn from a probabilistic model checker) or a simulator module (.ts/.js)`,
+    `unknown environment "${spec}"; built-in scenarios: ${names.join(", ")}; or pass a path to a model file (.json, .gwbin, or .drn from a probabilistic model checker) or a simulator module (.ts/.js)`,
     "--env",
   );
 }

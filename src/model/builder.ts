@@ -24,6 +24,26 @@ export interface ModelSpec {
 
 export const PROB_TOLERANCE = 1e-9;
 
+/** The outcome arrays of a FiniteModel (see ./types.ts for the layout). */
+export interface CsrArrays {
+  terminal: Uint8Array;
+  start: Float64Array;
+  saStart: Int32Array;
+  next: Int32Array;
+  prob: Float64Array;
+  featureValues: Float64Array;
+  intent: Float64Array;
+}
+
+/** What a model may carry besides its dynamics. */
+export interface ModelExtras {
+  groups?: (string | null)[];
+  potentials?: Record<string, Float64Array>;
+  observations?: { dim: number; names: string[]; values: Float64Array };
+  variants?: Record<string, RewardVariant>;
+  layout?: Layout;
+}
+
 export class ModelBuilder {
   private readonly spec: ModelSpec;
   private readonly nA: number;
@@ -36,13 +56,7 @@ export class ModelBuilder {
   private pr: Float64Array;
   private feat: Float64Array;
   private intent: Float64Array;
-  private extras: {
-    groups?: (string | null)[];
-    potentials?: Record<string, Float64Array>;
-    observations?: { dim: number; names: string[]; values: Float64Array };
-    variants?: Record<string, RewardVariant>;
-    layout?: Layout;
-  } = {};
+  private extras: ModelExtras = {};
 
   constructor(spec: ModelSpec) {
     if (!Number.isInteger(spec.nStates) || spec.nStates < 1) {
@@ -164,64 +178,111 @@ export class ModelBuilder {
         prob[o] = 1;
       }
     }
+    return ModelBuilder.fromCsr(this.spec, { terminal: this.terminal, start: this.start, saStart, next, prob, featureValues, intent }, this.extras);
+  }
+
+  /**
+   * Validate CSR arrays (laid out as FiniteModel documents them, terminal rows already one self-loop)
+   * and assemble the model. `build()` ends here; so do loaders that fill the arrays themselves (the
+   * model-file fast path, the compact binary format), so every model passes the same checks.
+   */
+  static fromCsr(spec: ModelSpec, csr: CsrArrays, extras: ModelExtras = {}): FiniteModel {
+    const { terminal, start, saStart, next, prob, featureValues, intent } = csr;
+    const nS = spec.nStates;
+    const nA = spec.actions.length;
+    const nF = spec.features.length;
+    const where = spec.source ?? spec.name;
+    const nSA = nS * nA;
+    const label = (s: number): string => spec.stateLabels?.[s] ?? String(s);
+    const saLabel = (k: number): string => {
+      const s = (k / nA) | 0;
+      return `state ${s} (${label(s)}) action ${spec.actions[k % nA]}`;
+    };
+    const nO = next.length;
+    if (terminal.length !== nS || start.length !== nS || saStart.length !== nSA + 1 || saStart[0] !== 0 || saStart[nSA] !== nO || prob.length !== nO || intent.length !== nO || featureValues.length !== nO * nF) {
+      throw new InputError("model.arrays", `array lengths do not fit ${nS} states, ${nA} actions, ${nF} features and ${nO} outcomes`, where);
+    }
+    for (let k = 0; k < nSA; k++) {
+      if (!(saStart[k + 1] > saStart[k])) {
+        const s = (k / nA) | 0;
+        throw new InputError(
+          "model.missingTransition",
+          `state ${s} (${label(s)}) action ${k % nA} (${spec.actions[k % nA]}) has no outcomes; every non-terminal state-action pair needs at least one`,
+          where,
+        );
+      }
+    }
+    for (let o = 0; o < nO; o++) {
+      const sp = next[o];
+      if (!(sp >= 0 && sp < nS)) throw new InputError("model.stateIndex", `next state index ${sp} is outside 0..${nS - 1}`, where);
+    }
+    for (let s = 0; s < nS; s++) {
+      if (!terminal[s]) continue;
+      for (let k = s * nA; k < (s + 1) * nA; k++) {
+        const o = saStart[k];
+        let zero = saStart[k + 1] === o + 1 && next[o] === s && prob[o] === 1 && intent[o] === 0;
+        for (let f = 0; f < nF && zero; f++) zero = featureValues[o * nF + f] === 0;
+        if (!zero) throw new InputError("model.terminal", `${saLabel(k)} is terminal but is not one self-loop with probability 1, zero features and zero intent`, where);
+      }
+    }
     // Validate probabilities and finiteness.
     for (let k = 0; k < nSA; k++) {
       let sum = 0;
       for (let o = saStart[k]; o < saStart[k + 1]; o++) {
         const p = prob[o];
         if (!(p >= 0 && p <= 1 + PROB_TOLERANCE)) {
-          throw new InputError("model.probability", `probability ${p} of an outcome of ${this.saLabel(k)} is outside [0, 1]`, where);
+          throw new InputError("model.probability", `probability ${p} of an outcome of ${saLabel(k)} is outside [0, 1]`, where);
         }
-        if (!Number.isFinite(intent[o])) throw new InputError("model.intent", `intent of an outcome of ${this.saLabel(k)} is not finite (${intent[o]})`, where);
+        if (!Number.isFinite(intent[o])) throw new InputError("model.intent", `intent of an outcome of ${saLabel(k)} is not finite (${intent[o]})`, where);
         for (let f = 0; f < nF; f++) {
           const v = featureValues[o * nF + f];
           if (!Number.isFinite(v)) {
-            throw new InputError("model.feature", `feature "${this.spec.features[f]}" of an outcome of ${this.saLabel(k)} is not finite (${v})`, where);
+            throw new InputError("model.feature", `feature "${spec.features[f]}" of an outcome of ${saLabel(k)} is not finite (${v})`, where);
           }
         }
         sum += p;
       }
       if (Math.abs(sum - 1) > PROB_TOLERANCE) {
-        throw new InputError("model.probabilitySum", `outcome probabilities of ${this.saLabel(k)} sum to ${sum}, expected 1 (within ${PROB_TOLERANCE})`, where);
+        throw new InputError("model.probabilitySum", `outcome probabilities of ${saLabel(k)} sum to ${sum}, expected 1 (within ${PROB_TOLERANCE})`, where);
       }
     }
     let startSum = 0;
     for (let s = 0; s < nS; s++) {
-      if (!(this.start[s] >= 0)) throw new InputError("model.start", `start probability of state ${s} is ${this.start[s]}`, where);
-      startSum += this.start[s];
+      if (!(start[s] >= 0)) throw new InputError("model.start", `start probability of state ${s} is ${start[s]}`, where);
+      startSum += start[s];
     }
     if (Math.abs(startSum - 1) > PROB_TOLERANCE) {
       throw new InputError("model.startSum", `start probabilities sum to ${startSum}, expected 1 (within ${PROB_TOLERANCE})`, where);
     }
-    if (!(this.spec.gamma > 0 && this.spec.gamma <= 1)) {
-      throw new InputError("model.gamma", `gamma must be in (0, 1], got ${this.spec.gamma}`, where);
+    if (!(spec.gamma > 0 && spec.gamma <= 1)) {
+      throw new InputError("model.gamma", `gamma must be in (0, 1], got ${spec.gamma}`, where);
     }
-    if (!(Number.isInteger(this.spec.horizon) && this.spec.horizon >= 1)) {
-      throw new InputError("model.horizon", `horizon must be a positive integer, got ${this.spec.horizon}`, where);
+    if (!(Number.isInteger(spec.horizon) && spec.horizon >= 1)) {
+      throw new InputError("model.horizon", `horizon must be a positive integer, got ${spec.horizon}`, where);
     }
-    const stateLabels = this.spec.stateLabels ?? Array.from({ length: nS }, (_, s) => String(s));
+    const stateLabels = spec.stateLabels ?? Array.from({ length: nS }, (_, s) => String(s));
     if (stateLabels.length !== nS) {
       throw new InputError("model.stateLabels", `expected ${nS} state labels, got ${stateLabels.length}`, where);
     }
     return {
-      name: this.spec.name,
-      gamma: this.spec.gamma,
+      name: spec.name,
+      gamma: spec.gamma,
       nStates: nS,
       nActions: nA,
-      actions: [...this.spec.actions],
+      actions: [...spec.actions],
       stateLabels,
-      features: [...this.spec.features],
-      terminal: this.terminal,
-      start: this.start,
+      features: [...spec.features],
+      terminal,
+      start,
       saStart,
       next,
       prob,
       featureValues: compactExact(featureValues),
       intent,
-      horizon: this.spec.horizon,
-      description: this.spec.description,
-      source: this.spec.source,
-      ...this.extras,
+      horizon: spec.horizon,
+      description: spec.description,
+      source: spec.source,
+      ...extras,
     };
   }
 
@@ -251,10 +312,6 @@ export class ModelBuilder {
   }
   private label(s: number): string {
     return this.spec.stateLabels?.[s] ?? String(s);
-  }
-  private saLabel(k: number): string {
-    const s = (k / this.nA) | 0;
-    return `state ${s} (${this.label(s)}) action ${this.spec.actions[k % this.nA]}`;
   }
 }
 

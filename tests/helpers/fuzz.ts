@@ -14,18 +14,51 @@ import { runCli } from "../../src/cli/program.js";
 import { loadScenario } from "../../src/env/index.js";
 import { exportModel, formatModelDocument } from "../../src/model/format/export.js";
 import { createRng, type Rng } from "../../src/rng/rng.js";
+import { crc32, encodeBinaryModel } from "../../src/model/format/binary.js";
 
 type Json = null | boolean | number | string | Json[] | { [k: string]: Json };
 
-/** Valid seed files: two exported built-in scenarios (fresh-coat-tug, seed-vault-courier) and a reward file for each. */
-export function seedFiles(): { model: string; reward: string }[] {
+/**
+ * Valid seed files: two exported built-in scenarios (fresh-coat-tug, seed-vault-courier), as model
+ * files and as compact .gwbin files, and a reward file for each.
+ */
+export function seedFiles(): { model: string; binary: Buffer; reward: string }[] {
   return ["fresh-coat-tug", "seed-vault-courier"].flatMap((name) => {
     const { model } = loadScenario(name);
     const text = formatModelDocument(exportModel(model));
     const features = model.features.slice(0, 3);
     const reward = JSON.stringify({ format: "gapwatch-reward/1", name: "fz", env: model.name, weights: Object.fromEntries(features.map((f, i) => [f, i === 0 ? -1 : 0.5])) });
-    return [{ model: text, reward }];
+    return [{ model: text, binary: encodeBinaryModel(model), reward }];
   });
+}
+
+/**
+ * A damaged .gwbin file: a truncation, flipped bytes, a changed length or version field, or a
+ * structural mutation of the JSON header with its CRC-32 recomputed (so the header checks, not the
+ * checksum, must catch it).
+ */
+export function mutateBinary(bytes: Buffer, rng: Rng): Buffer {
+  const b = Buffer.from(bytes);
+  switch (rng.int(5)) {
+    case 0:
+      return b.subarray(0, rng.int(b.length));
+    case 1:
+      for (let k = 1 + rng.int(4); k > 0; k--) b[rng.int(b.length)] ^= 1 << rng.int(8);
+      return b;
+    case 2:
+      b.writeUInt32LE(pick(rng, [0, 1, 2, 7, 0xffffffff, b.length, rng.int(b.length)]), pick(rng, [8, 12, 16]));
+      return b;
+    default: {
+      // Padded back to the old length when shorter, so the section offsets still hold.
+      const len = b.readUInt32LE(12);
+      let header = Buffer.from(mutate(b.toString("utf8", 24, 24 + len).trimEnd(), rng), "utf8");
+      if (header.length < len) header = Buffer.concat([header, Buffer.alloc(len - header.length, 0x20)]);
+      const out = Buffer.concat([b.subarray(0, 24), header, b.subarray(24 + len)]);
+      out.writeUInt32LE(header.length, 12);
+      out.writeUInt32LE(crc32(header), 16);
+      return out;
+    }
+  }
 }
 
 const PROTO_NAMES = ["__proto__", "constructor", "toString", "valueOf", "hasOwnProperty", "isPrototypeOf"];
@@ -146,7 +179,7 @@ export type Outcome = "ok" | "refused" | "exit1" | "otherExit" | "multiLine" | "
 export interface FuzzCase {
   index: number;
   command: string;
-  target: "model" | "reward";
+  target: "model" | "reward" | "gwbin";
   outcome: Outcome;
   code: number;
   ms: number;
@@ -192,13 +225,15 @@ export async function runFuzz(opts: FuzzOptions): Promise<FuzzCase[]> {
     for (let index = opts.from ?? 0; index < (opts.from ?? 0) + opts.cases; index++) {
       const caseRng = rng.fork(`case-${index}`);
       const base = pick(caseRng, seeds);
-      const target = caseRng.int(4) === 0 ? "reward" : "model";
+      // A separate stream picks the .gwbin cases, so the other cases stay those of earlier runs.
+      const binRng = rng.fork(`gwbin-${index}`);
+      const target = caseRng.int(4) === 0 ? "reward" : binRng.int(5) === 0 ? "gwbin" : "model";
       const cmd = pick(caseRng, COMMANDS);
       const modelText = target === "model" ? mutate(base.model, caseRng) : base.model;
       const rewardText = target === "reward" ? mutate(base.reward, caseRng) : base.reward;
-      const modelFile = join(dir, `model-${index}.json`);
+      const modelFile = join(dir, target === "gwbin" ? `model-${index}.gwbin` : `model-${index}.json`);
       const rewardFile = join(dir, `reward-${index}.json`);
-      writeFileSync(modelFile, modelText);
+      writeFileSync(modelFile, target === "gwbin" ? mutateBinary(base.binary, binRng) : modelText);
       writeFileSync(rewardFile, rewardText);
       const args = [cmd[0], "--env", modelFile, ...(cmd[0] !== "check" ? ["--reward", rewardFile] : []), ...cmd.slice(1)];
       const io = memoryIO();

@@ -1,7 +1,8 @@
 /** Model files (`gapwatch-mdp/1`, described in ./schema.ts): parse, validate, build. */
 import { readFileSync } from "node:fs";
 import { InputError } from "../../errors.js";
-import { ModelBuilder, PROB_TOLERANCE } from "../builder.js";
+import { ModelBuilder, PROB_TOLERANCE, type CsrArrays, type ModelExtras, type ModelSpec } from "../builder.js";
+import { scanTopLevel, scanTransitions, type ScannedTransitions } from "./model-scan.js";
 import type { FiniteModel, RewardVariant } from "../types.js";
 import { clip, fail, hint, parseJsonText, RESERVED_KEY, type Path } from "./json-errors.js";
 import { CANONICAL_INT, checkFormatTag, DEFAULT_HORIZON, modelSchema, validate, type ModelDocument } from "./schema.js";
@@ -25,23 +26,163 @@ export const DEFAULT_MAX_MODEL_STATES = 100_000;
 /** Bound on the magnitude of feature values and intent increments (keeps every return finite). */
 export const MAX_MAGNITUDE = 1e12;
 
-/** Read and parse a model file. */
+/** Read and parse a model file (the byte-level fast path first, see ./model-scan.ts). */
 export function loadModelFile(file: string, opts: ModelFileOptions = {}): FiniteModel {
-  let text: string;
+  let bytes: Buffer;
   try {
-    text = readFileSync(file, "utf8");
+    bytes = readFileSync(file);
   } catch (e) {
     throw new InputError("model.read", `cannot read the model file (${(e as NodeJS.ErrnoException).code ?? (e as Error).message}); check the path`, file);
   }
-  return parseModelFile(text, file, opts);
+  return parseModelBytes(bytes, file, opts);
 }
 
-/** Semantic checks on a schema-valid document, then build through ModelBuilder. */
-function buildFromDocument(doc: ModelDocument, where: string, maxStates: number): FiniteModel {
+/**
+ * Parse the UTF-8 bytes of a model file: the fast path when it accepts the file, else the ordinary
+ * path (`parseModelFile` on the decoded text), which also gives every error message.
+ */
+export function parseModelBytes(bytes: Uint8Array, where: string, opts: ModelFileOptions = {}): FiniteModel {
+  const fast = fastModel(bytes, where, opts.maxStates ?? DEFAULT_MAX_MODEL_STATES);
+  if (fast) return fast;
+  return parseModelFile(Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength).toString("utf8"), where, opts);
+}
+
+/**
+ * The fast path: the JSON values of the small top-level keys are parsed and checked as usual, the
+ * transitions are walked byte by byte into typed arrays. Null whenever the file needs the ordinary
+ * path (anything unexpected, including every error); never a model that path would refuse.
+ */
+export function fastModel(bytes: Uint8Array, where: string, maxStates: number): FiniteModel | null {
+  const buf = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  try {
+    const top = scanTopLevel(bytes);
+    const span = top?.spans.get("transitions");
+    if (!top || !span) return null;
+    const data: Record<string, unknown> = {};
+    for (const [k, [from, to]] of top.spans) {
+      if (k === "transitions") {
+        // The walk takes only known keys, without escapes, and declared feature names.
+        data[k] = [];
+        continue;
+      }
+      // The reserved key may hide behind an escape: both go the ordinary way.
+      const text = buf.toString("utf8", from, to);
+      if (k === RESERVED_KEY || text.includes(RESERVED_KEY) || text.includes("\\u")) return null;
+      data[k] = JSON.parse(text);
+    }
+    checkFormatTag("model", data, where);
+    const doc = validate("model", modelSchema, data, where) as ModelDocument;
+    const nS = typeof doc.states === "number" ? doc.states : doc.states.length;
+    // Before anything is allocated per state: a file that cannot list every pair goes the ordinary way.
+    if (nS > maxStates || (nS - new Set(doc.terminal).size) * doc.actions.length > top.entries) return null;
+    const h = checkHeader(doc, where);
+    const t = scanTransitions(bytes, span[0], span[1], { nS, nA: h.nA, features: doc.features }, top.entries, top.outcomes);
+    const csr = t && assembleScanned(t, h);
+    if (!csr) return null;
+    return ModelBuilder.fromCsr(modelSpec(doc, h.labels, where), csr, checkExtras(doc, h));
+  } catch {
+    return null;
+  }
+}
+
+/**
+ * The checks the ordinary path makes on transitions, over scanned entries; then the CSR arrays (the
+ * scanned ones themselves when the file lists every pair in order and has no terminal state).
+ */
+function assembleScanned(t: ScannedTransitions, h: ModelHeader): CsrArrays | null {
+  const { nS, nA, nF, terminal } = h;
+  const nSA = nS * nA;
+  const entryOf = new Int32Array(nSA).fill(-1);
+  let inOrder = true;
+  for (let e = 0; e < t.count; e++) {
+    const s = t.state[e];
+    const a = t.action[e];
+    if (s >= nS || a >= nA) return null;
+    const k = s * nA + a;
+    if (entryOf[k] >= 0) return null;
+    entryOf[k] = e;
+    if (k !== e) inOrder = false;
+    const isTerminal = terminal[s] === 1;
+    let sum = 0;
+    for (let o = t.outStart[e]; o < t.outStart[e + 1]; o++) {
+      const p = t.prob[o];
+      if (t.next[o] >= nS || !(p >= 0 && p <= 1 + PROB_TOLERANCE)) return null;
+      sum += p;
+      const intent = t.intent[o];
+      if (!(Math.abs(intent) <= MAX_MAGNITUDE)) return null;
+      let nonzero = intent !== 0;
+      for (let f = o * nF; f < (o + 1) * nF; f++) {
+        const v = t.featureValues[f];
+        if (!(Math.abs(v) <= MAX_MAGNITUDE)) return null;
+        if (v !== 0) nonzero = true;
+      }
+      if (isTerminal && (t.next[o] !== s || nonzero)) return null;
+    }
+    if (Math.abs(sum - 1) > PROB_TOLERANCE) return null;
+  }
+  let anyTerminal = false;
+  for (let s = 0; s < nS; s++) {
+    if (terminal[s]) {
+      anyTerminal = true;
+      continue;
+    }
+    for (let k = s * nA; k < (s + 1) * nA; k++) if (entryOf[k] < 0) return null;
+  }
+  // The ordinary path sets only non-zero start probabilities: a -0 there is +0.
+  const start = h.start;
+  for (let s = 0; s < nS; s++) if (start[s] === 0) start[s] = 0;
+  if (inOrder && !anyTerminal && t.count === nSA) {
+    return { terminal, start, saStart: t.outStart, next: t.next, prob: t.prob, featureValues: t.featureValues, intent: t.intent };
+  }
+  const saStart = new Int32Array(nSA + 1);
+  for (let k = 0; k < nSA; k++) {
+    const e = entryOf[k];
+    saStart[k + 1] = saStart[k] + (terminal[(k / nA) | 0] ? 1 : t.outStart[e + 1] - t.outStart[e]);
+  }
+  const nO = saStart[nSA];
+  const next = new Int32Array(nO);
+  const prob = new Float64Array(nO);
+  const featureValues = new Float64Array(nO * nF);
+  const intent = new Float64Array(nO);
+  for (let k = 0; k < nSA; k++) {
+    const s = (k / nA) | 0;
+    const o = saStart[k];
+    if (terminal[s]) {
+      next[o] = s;
+      prob[o] = 1;
+      continue;
+    }
+    const e = entryOf[k];
+    const from = t.outStart[e];
+    const to = t.outStart[e + 1];
+    next.set(t.next.subarray(from, to), o);
+    prob.set(t.prob.subarray(from, to), o);
+    intent.set(t.intent.subarray(from, to), o);
+    featureValues.set(t.featureValues.subarray(from * nF, to * nF), o * nF);
+  }
+  return { terminal, start, saStart, next, prob, featureValues, intent };
+}
+
+/** What the checks of a document's header (everything but its transitions) establish. */
+export interface ModelHeader {
+  nS: number;
+  nA: number;
+  nF: number;
+  labels: readonly string[];
+  featureIndex: Map<string, number>;
+  terminal: Uint8Array;
+  start: Float64Array;
+  F: (code: string, path: Path, msg: string) => never;
+  checkState: (s: number, path: Path, code?: string, what?: string) => void;
+  describeState: (s: number) => string;
+  resolveKey: (key: string, path: Path) => number;
+}
+
+/** Semantic checks on the header of a schema-valid document: gamma, names, labels, terminal states, start. */
+export function checkHeader(doc: ModelDocument, where: string): ModelHeader {
   function F(code: string, path: Path, msg: string): never {
     fail("model", code, where, path, msg);
   }
-  checkDescribable(doc, maxStates, F);
 
   if (!(doc.gamma > 0 && doc.gamma <= 1)) F("gamma", ["gamma"], `gamma must be in (0, 1], got ${doc.gamma}; use e.g. 0.99 (or 1 for an episodic task whose policies all terminate)`);
 
@@ -118,19 +259,28 @@ function buildFromDocument(doc: ModelDocument, where: string, maxStates: number)
     if (Math.abs(sum - 1) > PROB_TOLERANCE) F("startSum", ["start"], `start probabilities sum to ${sum}, expected 1 (within ${PROB_TOLERANCE}); rescale them so they sum to 1`);
   }
 
+  return { nS, nA, nF, labels, featureIndex, terminal, start, F, checkState, describeState, resolveKey };
+}
+
+/** The spec every model file builds with. */
+export function modelSpec(doc: ModelDocument, labels: readonly string[], where: string): ModelSpec {
+  return { name: doc.name, nStates: labels.length, actions: doc.actions, features: doc.features, gamma: doc.gamma, horizon: doc.horizon ?? DEFAULT_HORIZON, stateLabels: labels, source: where };
+}
+
+/** Semantic checks on a schema-valid document, then build through ModelBuilder. */
+function buildFromDocument(doc: ModelDocument, where: string, maxStates: number): FiniteModel {
+  function F(code: string, path: Path, msg: string): never {
+    fail("model", code, where, path, msg);
+  }
+  checkDescribable(doc, maxStates, F);
+  const header = checkHeader(doc, where);
+  const { nS, nA, nF, labels, featureIndex, terminal, start, checkState, describeState } = header;
+  const features = doc.features;
+
   // Transitions: each non-terminal pair exactly once.
   const entryOf = new Int32Array(nS * nA).fill(-1);
   const scratch = new Float64Array(nF);
-  const builder = new ModelBuilder({
-    name: doc.name,
-    nStates: nS,
-    actions: doc.actions,
-    features,
-    gamma: doc.gamma,
-    horizon: doc.horizon ?? DEFAULT_HORIZON,
-    stateLabels: labels,
-    source: where,
-  });
+  const builder = new ModelBuilder(modelSpec(doc, labels, where));
   doc.transitions.forEach((t, ti) => {
     const tp: Path = ["transitions", ti];
     checkState(t.state, [...tp, "state"]);
@@ -197,10 +347,21 @@ function buildFromDocument(doc: ModelDocument, where: string, maxStates: number)
     if (start[s] !== 0) builder.setStart(s, start[s]);
   }
 
+  const extras = checkExtras(doc, header);
+  if (extras.groups) builder.setGroups(extras.groups);
+  if (extras.variants) builder.setVariants(extras.variants);
+  return builder.build();
+}
+
+/** Groups and reward variants of a document (checked against its header). */
+export function checkExtras(doc: ModelDocument, h: ModelHeader): ModelExtras {
+  const { F, featureIndex, resolveKey } = h;
+  const features = doc.features;
+  const extras: ModelExtras = {};
   if (doc.groups) {
-    const groups: (string | null)[] = new Array(nS).fill(null);
+    const groups: (string | null)[] = new Array(h.nS).fill(null);
     for (const [k, g] of Object.entries(doc.groups)) groups[resolveKey(k, ["groups", k])] = g;
-    builder.setGroups(groups);
+    extras.groups = groups;
   }
 
   if (doc.rewards) {
@@ -216,9 +377,9 @@ function buildFromDocument(doc: ModelDocument, where: string, maxStates: number)
       }
       variants[vname] = { name: vname, weights: Object.assign(emptyDict<number>(), v.weights) };
     }
-    builder.setVariants(variants);
+    extras.variants = variants;
   }
-  return builder.build();
+  return extras;
 }
 
 /**
