@@ -23,7 +23,7 @@ export function runStartupBench(opts: { quick: boolean; runs: number }): { lines
   const cases: [string, string[]][] = [
     ["node -e 0", [process.execPath, "-e", "0"]],
     ["gapwatch --version", [process.execPath, cli, "--version"]],
-    ["gapwatch solve --env ridge-survey --reward light-fall", [process.execPath, cli, "solve", "--env", "ridge-survey", "--reward", "light-fall"]],
+    ["gapwatch solve --env quench-hall-run --reward light-loss", [process.execPath, cli, "solve", "--env", "quench-hall-run", "--reward", "light-loss"]],
   ];
   const runs = Math.max(3, opts.runs);
   const times = cases.map(() => [] as number[]);

@@ -5,11 +5,15 @@
 import { Command, CommanderError } from "commander";
 import { EXIT } from "../errors.js";
 import { packageVersion } from "../util/paths.js";
-import { commands } from "./commands/index.js";
+import { loadCommands } from "./commands/index.js";
 import type { CliContext } from "./context.js";
 import { processIO, type CliIO } from "./io.js";
 
-export function buildProgram(ctx: CliContext): Command {
+/**
+ * The commander program with the commands of `argv`: the one it names (its code alone is imported:
+ * start-up is mostly module loading), or all of them for help, a bare call or an unknown name.
+ */
+export async function buildProgram(ctx: CliContext, argv: readonly string[] = []): Promise<Command> {
   const program = new Command();
   program
     .name("gapwatch")
@@ -21,13 +25,13 @@ export function buildProgram(ctx: CliContext): Command {
       writeOut: (s) => ctx.io.out(s),
       writeErr: (s) => ctx.io.err(s),
     });
-  for (const register of commands) register(program, ctx);
+  for (const register of await loadCommands(argv[0])) register(program, ctx);
   return program;
 }
 
 export async function runCli(argv: string[], io: CliIO = processIO()): Promise<number> {
   const ctx: CliContext = { io, exitCode: EXIT.ok };
-  const program = buildProgram(ctx);
+  const program = await buildProgram(ctx, argv);
   try {
     await program.parseAsync(argv, { from: "user" });
   } catch (err) {

@@ -1,33 +1,32 @@
-/** Every subcommand, in help order. Add a command: its handler in src/app/<name>.ts, its flags in src/cli/commands/<name>.ts, listed here. */
+/**
+ * Every subcommand, in help order, each loaded on demand: a run of one command imports that command's
+ * code only (start-up time is module loading), help and an unknown command load them all. Add a
+ * command: its handler in src/app/<name>.ts, its flags in src/cli/commands/<name>.ts, listed here.
+ */
 import type { CommandModule } from "../context.js";
-import { registerEnvs } from "./envs.js";
-import { registerExport } from "./export.js";
-import { registerSolve } from "./solve.js";
-import { registerAudit } from "./audit.js";
-import { registerPressure } from "./pressure.js";
-import { registerCheck } from "./check.js";
-import { registerTrain } from "./train.js";
-import { registerDemo } from "./demo.js";
-import { registerCompare } from "./compare.js";
-import { registerWorker } from "./worker.js";
-import { registerRuns } from "./runs.js";
-import { registerReport } from "./report.js";
-import { registerIngest } from "./ingest.js";
-import { registerRetune } from "./retune.js";
 
-export const commands: CommandModule[] = [
-  registerDemo,
-  registerEnvs,
-  registerSolve,
-  registerAudit,
-  registerPressure,
-  registerTrain,
-  registerIngest,
-  registerCompare,
-  registerWorker,
-  registerRuns,
-  registerReport,
-  registerCheck,
-  registerExport,
-  registerRetune,
-];
+const LOADERS = new Map<string, () => Promise<CommandModule>>([
+  ["demo", async () => (await import("./demo.js")).registerDemo],
+  ["envs", async () => (await import("./envs.js")).registerEnvs],
+  ["solve", async () => (await import("./solve.js")).registerSolve],
+  ["audit", async () => (await import("./audit.js")).registerAudit],
+  ["pressure", async () => (await import("./pressure.js")).registerPressure],
+  ["train", async () => (await import("./train.js")).registerTrain],
+  ["ingest", async () => (await import("./ingest.js")).registerIngest],
+  ["compare", async () => (await import("./compare.js")).registerCompare],
+  ["worker", async () => (await import("./worker.js")).registerWorker],
+  ["runs", async () => (await import("./runs.js")).registerRuns],
+  ["report", async () => (await import("./report.js")).registerReport],
+  ["check", async () => (await import("./check.js")).registerCheck],
+  ["export", async () => (await import("./export.js")).registerExport],
+  ["retune", async () => (await import("./retune.js")).registerRetune],
+]);
+
+/** The command names, in help order. */
+export const COMMAND_NAMES: readonly string[] = [...LOADERS.keys()];
+
+/** The register functions of `name` alone when it is a command, else of every command (help order). */
+export async function loadCommands(name?: string): Promise<CommandModule[]> {
+  const one = name === undefined ? undefined : LOADERS.get(name);
+  return one ? [await one()] : Promise.all([...LOADERS.values()].map((load) => load()));
+}
