@@ -26,7 +26,7 @@
  *  - `properties`: the module's own invariants, run by `gapwatch check`;
  *  - `layouts(n)`: makes the module a layout family: given a layout number n >= 1 it returns the
  *    definition of that layout (a pure function of n; draw positions from `createRng(n)`-like seeded
- *    streams, never Math.random); layout 0 is the default export itself. `--layout N` picks one.
+ *    streams, never an unseeded global source); layout 0 is the default export itself. `--layout N` picks one.
  * The learner-facing view built from a module exposes no intent.
  */
 import type { Rng } from "../rng/rng.js";
