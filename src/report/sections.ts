@@ -35,9 +35,11 @@ export function columnFormatter(values: readonly number[], digits = 4): (x: unkn
  */
 export function pct(x: number | null | undefined, digits = 0): string {
   if (typeof x !== "number" || !Number.isFinite(x)) return "–";
-  // Within solver tolerance of the ends, a score is at the end (1 + 1e-12 is "100%", not "above optimal").
-  if (x < 0 && x > -1e-9) x = 0;
-  if (x > 1 && x < 1 + 1e-6) x = 1;
+  // A score that rounds to an end at the printed precision is printed as that end (-0.0002 with no
+  // decimals is "0%", not "worse than random (-0.00018)" beside "100%" in the same column).
+  const half = 0.5 * 10 ** -(digits + 2);
+  if (x < 0 && x > -half) x = 0;
+  if (x > 1 && x < 1 + half) x = 1;
   if (x < 0) return `worse than random (${x <= -0.1 ? x.toFixed(2) : x.toPrecision(2)})`;
   if (x > 1) return `above optimal (${x.toFixed(2)})`;
   return `${(100 * x).toFixed(digits)}%`;

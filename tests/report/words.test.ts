@@ -17,10 +17,8 @@ describe("shares in words", () => {
     fc.assert(
       fc.property(fc.double({ min: -50, max: 50, noNaN: true }), (x) => {
         for (const s of [shareText(x), regretText(x), pct(x), regretPct(x)]) for (const p of percents(s)) expect(p >= 0 && p <= 100, s).toBe(true);
-        if (x < -1e-6) {
-          expect(shareText(x)).toMatch(/^worse than random behaviour/);
-          expect(pct(x)).toMatch(/^worse than random/);
-        }
+        if (x < -1e-6) expect(shareText(x)).toMatch(/^worse than random behaviour/);
+        if (x <= -0.005) expect(pct(x)).toMatch(/^worse than random/); // below 0% at the printed precision
         if (x > 1 + 1e-6) expect(regretText(x)).toMatch(/worse than random behaviour/);
       }),
     );
@@ -32,6 +30,11 @@ describe("shares in words", () => {
     expect(regretText(0.705)).toBe("gives up 70.5% of the achievable intent");
     expect(pct(-1.98)).toBe("worse than random (-1.98)");
     expect(pct(1 + 1e-9)).toBe("100%");
+    // Rounding to the printed precision: whole percents by default, so |x| < 0.005 reads as an end.
+    expect(pct(-0.00018)).toBe("0%");
+    expect(pct(-0.0051)).toBe("worse than random (-0.0051)");
+    expect(pct(-0.0004, 1)).toBe("0.0%");
+    expect(pct(-0.0006, 1)).toBe("worse than random (-0.00060)");
   });
 });
 
