@@ -25,15 +25,23 @@ export interface PolicyChain {
   readonly self: Float64Array;
 }
 
+/** The live (non-terminal) states numbered in state order: `states[i]` is row i, `rowOf[s]` its row or -1. */
+export function liveRows(model: FiniteModel): { rowOf: Int32Array; states: Int32Array } {
+  const nS = model.nStates;
+  const rowOf = new Int32Array(nS).fill(-1);
+  let n = 0;
+  for (let s = 0; s < nS; s++) if (!model.terminal[s]) rowOf[s] = n++;
+  const states = new Int32Array(n);
+  for (let s = 0; s < nS; s++) if (rowOf[s] >= 0) states[rowOf[s]] = s;
+  return { rowOf, states };
+}
+
 export function policyChain(model: FiniteModel, policy: Policy): PolicyChain {
   const nS = model.nStates;
   const nA = model.nActions;
-  const { saStart, next, prob, terminal } = model;
-  const rowOf = new Int32Array(nS).fill(-1);
-  let n = 0;
-  for (let s = 0; s < nS; s++) if (!terminal[s]) rowOf[s] = n++;
-  const states = new Int32Array(n);
-  for (let s = 0; s < nS; s++) if (rowOf[s] >= 0) states[rowOf[s]] = s;
+  const { saStart, next, prob } = model;
+  const { rowOf, states } = liveRows(model);
+  const n = states.length;
   // Upper bound on the entries: the outcomes of the actions the policy uses.
   let cap = 0;
   for (let i = 0; i < n; i++) {

@@ -8,6 +8,7 @@ import type { Command } from "commander";
 import { resolve } from "node:path";
 import { defaultLearner } from "../../../policies/index.js";
 import { collectCommand, runCompareCommand, writePlanCommand, type CollectGate } from "../../app/compare.js";
+import type { PlanSweep } from "../../batch/sweep-plan.js";
 import type { CompareResult } from "../../batch/compare.js";
 import { MAX_SWEEP_RUNS, parseList, parseSeedList } from "../../batch/plan.js";
 import { defaultWorkers } from "../../batch/pool.js";
@@ -150,23 +151,22 @@ export function registerCompare(program: Command, ctx: CliContext): void {
           layoutSeed = opts.seedList !== undefined ? seeds[0] : 1;
           seeds = parseLayoutRange(opts.layouts);
         }
+        if (opts.plan !== undefined && opts.queue !== undefined) throw new InputError("cli.conflict", "give --plan or --queue, not both", "--plan");
+        // The sweep itself (what a plan file records); the local or queued run adds where and how it runs.
+        const sweep: PlanSweep = {
+          env: envOf(opts),
+          rewards: parseList(opts.rewards, "--rewards"),
+          learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
+          seeds,
+          layoutSeed,
+          steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
+          bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
+          reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: BOOTSTRAP_DEFAULTS.reps }),
+          maxStates: maxStatesOf(opts),
+        };
         if (opts.plan !== undefined) {
-          if (opts.queue !== undefined) throw new InputError("cli.conflict", "give --plan or --queue, not both", "--plan");
           const file = resolve(ctx.io.cwd, opts.plan);
-          const { plan, doc } = await writePlanCommand(
-            {
-              env: envOf(opts),
-              rewards: parseList(opts.rewards, "--rewards"),
-              learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
-              seeds,
-              layoutSeed,
-              steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
-              bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
-              reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: BOOTSTRAP_DEFAULTS.reps }),
-              maxStates: maxStatesOf(opts),
-            },
-            file,
-          );
+          const { plan, doc } = await writePlanCommand(sweep, file);
           emit(ctx.io, Boolean(opts.json), doc, () => `plan ${plan.id}: ${plan.runs.length} runs (indices 0..${plan.runs.length - 1}) written to ${file}\n`);
           return EXIT.ok;
         }
@@ -174,21 +174,13 @@ export function registerCompare(program: Command, ctx: CliContext): void {
         const t0 = Date.now();
         const { result, report, doc } = await runCompareCommand(
           {
-            env: envOf(opts),
-            rewards: parseList(opts.rewards, "--rewards"),
-            learners: opts.learners ? parseList(opts.learners, "--learners") : [defaultLearner],
-            seeds,
-            layoutSeed,
-            steps: opts.steps === undefined ? undefined : intOption(opts.steps, "--steps"),
+            ...sweep,
             runsDir: runsDirOf(ctx.io, opts),
             workers: intOption(opts.workers, "--workers", { def: defaultWorkers() }),
             queue: opts.queue,
             attempts: opts.attempts === undefined ? undefined : intOption(opts.attempts, "--attempts"),
             runTimeoutMs: opts.runTimeout === undefined ? undefined : runTimeoutMs(opts.runTimeout),
             waitTimeoutMs: opts.waitTimeout === undefined ? undefined : runTimeoutMs(opts.waitTimeout, "--wait-timeout"),
-            bootstrapSeed: intOption(opts.bootstrapSeed, "--bootstrap-seed", { min: 0, def: 0 }),
-            reps: intOption(opts.bootstrapReps, "--bootstrap-reps", { def: BOOTSTRAP_DEFAULTS.reps }),
-            maxStates: maxStatesOf(opts),
             csv: opts.csv === undefined ? undefined : resolve(ctx.io.cwd, opts.csv),
             report: reportOf(ctx.io, opts.report),
           },

@@ -32,6 +32,7 @@
  * The greedy policy is dp.ts's: `greedyActions(actionValues(...))`, lowest action index on ties.
  */
 import type { FiniteModel } from "../../model/types.js";
+import { liveRows } from "../evaluation.js";
 import { actionValues, expectedReward, greedyActions } from "../sweeps.js";
 import { solveOrder, type SolveOrder } from "./order.js";
 import { discountedSweeps, fillOver, maxOver, undiscountedSweeps, type ComponentSweeps } from "./sweeps.js";
@@ -49,14 +50,10 @@ export interface ValuePlan {
 }
 
 export function planValueIteration(model: FiniteModel): ValuePlan {
-  const nS = model.nStates;
   const nA = model.nActions;
-  const { saStart, next, prob, terminal } = model;
-  const rowOf = new Int32Array(nS).fill(-1);
-  let n = 0;
-  for (let s = 0; s < nS; s++) if (!terminal[s]) rowOf[s] = n++;
-  const live = new Int32Array(n);
-  for (let s = 0; s < nS; s++) if (rowOf[s] >= 0) live[rowOf[s]] = s;
+  const { saStart, next, prob } = model;
+  const { rowOf, states: live } = liveRows(model);
+  const n = live.length;
   let cap = 0;
   for (let i = 0; i < n; i++) cap += saStart[(live[i] + 1) * nA] - saStart[live[i] * nA];
   const rowStart = new Int32Array(n + 1);
