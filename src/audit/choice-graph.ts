@@ -7,7 +7,7 @@
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import type { MeanCycle } from "./cycles.js";
-import type { CsrDigraph } from "./mean-cycle/graph.js";
+import { stronglyConnectedComponents, type CsrDigraph } from "./mean-cycle/graph.js";
 
 /** Label of a choice-graph edge: the (state, action) pair and which of its outcomes the edge is. */
 export interface ChoiceLabel {
@@ -108,4 +108,22 @@ export interface ChoiceLoop {
 
 export function choiceLoop(g: ChoiceGraph, c: MeanCycle): ChoiceLoop {
   return { states: c.vertices, actions: c.edges.map((e) => g.action[e]), outcomes: c.edges.map((e) => g.outcome[e]) };
+}
+
+/** The same graph with the weights of another reward per outcome (edges, labels and order unchanged). */
+export function reweighted(g: ChoiceGraph, rewardPerOutcome: Float64Array): ChoiceGraph {
+  const weight = new Float64Array(g.to.length);
+  for (let e = 0; e < weight.length; e++) weight[e] = rewardPerOutcome[g.outcome[e]];
+  return { ...g, weight };
+}
+
+/**
+ * 1 for each edge that lies on some cycle of the graph (both ends in one strongly connected
+ * component; a self-loop counts): every cycle, and so every cycle mean, uses only these edges.
+ */
+export function cyclicEdges(g: CsrDigraph): Uint8Array {
+  const { comp } = stronglyConnectedComponents(g.n, g.start, g.to);
+  const on = new Uint8Array(g.to.length);
+  for (let v = 0; v < g.n; v++) for (let e = g.start[v]; e < g.start[v + 1]; e++) if (comp[g.to[e]] === comp[v]) on[e] = 1;
+  return on;
 }

@@ -16,12 +16,12 @@
  *
  * Pure; no I/O.
  */
-import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { solveVariant, type SolveReport } from "../solve/compare.js";
-import { policyValues, policyValuesMany } from "../solve/default-solver.js";
-import { deterministicPolicy, startValue, uniformPolicy } from "../solve/policy.js";
+import { solveVariantDetailed, type SolveReport } from "../solve/compare.js";
+import { policyValues, startStateValues } from "../solve/default-solver.js";
+import { startValue, uniformPolicy } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
+import { modelChoiceGraph, type ChoiceGraph } from "./choice-graph.js";
 
 export interface AuditOptions {
   /** Discount (default: the model's). */
@@ -66,7 +66,10 @@ export interface AuditContext {
   /** One-hot policies of the two optima. */
   dPolicy: Policy;
   iPolicy: Policy;
-  /** Intent values per state of the designer-optimal policy and of uniform random behaviour (the latter only when start states carry groups, else zeros). */
+  /**
+   * Intent values per state of the designer-optimal policy, and of uniform random behaviour at the
+   * start states only (read there by the per-group regret; zeros when no start state carries a group).
+   */
   intentOfD: Float64Array;
   intentOfRandom: Float64Array;
   /** Designer values per state of the intent-optimal policy. */
@@ -111,18 +114,16 @@ function onesPerOutcome(model: FiniteModel): Float64Array {
 export function prepareAudit(model: FiniteModel, variant: RewardVariant, options: AuditOptions = {}): AuditContext {
   const gamma = options.gamma ?? model.gamma;
   const opts = { ...AUDIT_DEFAULTS, ...stripUndefined(options) };
-  const rd = designerReward(model, variant, gamma);
-  const solve = solveVariant(model, variant, { gamma });
-  const dPolicy = deterministicPolicy(model, solve.designerOptimal.policy);
-  const iPolicy = deterministicPolicy(model, solve.intentOptimal.policy);
-  const o = { gamma, tol: 1e-10 };
-  // Exact values by the engine (solve/default-solver.ts), two rewards per policy chain.
+  // One solve gives the optima and, per state, the cross values and the expected discounted steps
+  // under both optimal policies (exact values: see solve/compare.ts).
   const ones = onesPerOutcome(model);
-  const [intentOfD, stepsOfD] = policyValuesMany(model, [model.intent, ones], dPolicy, o).map((e) => e.values);
-  // Only the per-group regret needs per-state random values (solveVariant has the start value).
+  const v = solveVariantDetailed(model, variant, { gamma }, [ones]);
+  const { rd, dPolicy, iPolicy, report: solve } = v;
+  const [intentOfD, stepsOfD] = v.ofDesignerOptimal;
+  const [designerOfI, stepsOfI] = v.ofIntentOptimal;
+  // Only the per-group regret needs the random policy's values at each start state (solveVariant has the start value).
   const grouped = model.groups?.some((g, s) => g !== null && g !== undefined && model.start[s] > 0) ?? false;
-  const intentOfRandom = grouped ? policyValues(model, model.intent, uniformPolicy(model), o).values : new Float64Array(model.nStates);
-  const [designerOfI, stepsOfI] = policyValuesMany(model, [rd, ones], iPolicy, o).map((e) => e.values);
+  const intentOfRandom = grouped ? startStateValues(model, [model.intent], uniformPolicy(model), { gamma, tol: 1e-10 })[0] : new Float64Array(model.nStates);
   const steps = startValue(model, stepsOfI);
   const task = {
     designerRate: steps > 0 ? startValue(model, designerOfI) / steps : 0,
@@ -150,4 +151,20 @@ export function fmt(x: number, digits = 3): string {
   const a = Math.abs(x);
   if (a !== 0 && (a < 1e-3 || a >= 1e5)) return x.toExponential(2);
   return x.toFixed(digits);
+}
+
+const choiceGraphs = new WeakMap<AuditContext, ChoiceGraph>();
+
+/**
+ * The choice graph of the loop checks (reward-loop, shaping terms): outcomes of probability at least
+ * `opts.loopMinProb` out of the reachable states, weighted with the designer reward. Built once per
+ * context; other weights through choice-graph.ts `reweighted`.
+ */
+export function reachableChoiceGraph(ctx: AuditContext): ChoiceGraph {
+  let g = choiceGraphs.get(ctx);
+  if (!g) {
+    g = modelChoiceGraph(ctx.model, ctx.rd, { minProb: ctx.opts.loopMinProb, from: ctx.reachable });
+    choiceGraphs.set(ctx, g);
+  }
+  return g;
 }

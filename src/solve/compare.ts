@@ -14,11 +14,11 @@ import { InputError } from "../errors.js";
 import { likelyStart, tracePolicy } from "../model/likely-path.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { optimalSolution, planValueIteration, policyValues, policyValuesMany } from "./default-solver.js";
+import { optimalSolution, planValueIteration, policyValuesMany, startStateValues } from "./default-solver.js";
 import { FIXED_POINT_ACCURACY } from "./evaluation.js";
 import { EXACT_GAMMA, evaluateExact, exactPolicyIteration } from "./exact.js";
 import { deterministicPolicy, startValue, uniformPolicy } from "./policy.js";
-import type { Solution, SolveOptions } from "./sweeps.js";
+import type { Policy, Solution, SolveOptions } from "./sweeps.js";
 import { valueIteration } from "./value-iteration.js";
 
 export interface OptimalSide {
@@ -86,28 +86,54 @@ export function solveOptima(model: FiniteModel, rd: Float64Array, opts: SolveOpt
   const plan = planValueIteration(model);
   const designer = optimalSolution(model, rd, o, plan);
   const intent = optimalSolution(model, model.intent, o, plan);
-  const [rdRandom, riRandom] = policyValuesMany(model, [rd, model.intent], uniformPolicy(model), { ...o, accuracy: FIXED_POINT_ACCURACY });
-  return { gamma, designer, intent, random: { designer: startValue(model, rdRandom.values), intent: startValue(model, riRandom.values) } };
+  const [rdRandom, riRandom] = startStateValues(model, [rd, model.intent], uniformPolicy(model), { ...o, accuracy: FIXED_POINT_ACCURACY });
+  return { gamma, designer, intent, random: { designer: startValue(model, rdRandom), intent: startValue(model, riRandom) } };
 }
 
 export function solveVariant(model: FiniteModel, variant: RewardVariant, opts: SolveOptions = {}): SolveReport {
+  return solveVariantDetailed(model, variant, opts).report;
+}
+
+/** `solveVariant` with what it computed on the way, for callers that need more than the report (the audit). */
+export interface VariantSolve {
+  report: SolveReport;
+  /** Designer reward per outcome. */
+  rd: Float64Array;
+  /** One-hot policies of the designer-optimal and intent-optimal solutions. */
+  dPolicy: Policy;
+  iPolicy: Policy;
+  /** Per state: [intent, ...extra] under the designer-optimal policy, [designer reward, ...extra] under the intent-optimal one. */
+  ofDesignerOptimal: Float64Array[];
+  ofIntentOptimal: Float64Array[];
+}
+
+/**
+ * The report of `solveVariant`, with the per-state values of the cross evaluations (intent of the
+ * designer-optimal policy, designer reward of the intent-optimal one) and of each `extra` reward per
+ * outcome under both policies, each policy's chain built once.
+ */
+export function solveVariantDetailed(model: FiniteModel, variant: RewardVariant, opts: SolveOptions = {}, extra: Float64Array[] = []): VariantSolve {
   const gamma = opts.gamma ?? model.gamma;
   const o = { ...opts, gamma };
   const rd = designerReward(model, variant, gamma);
   const ri = model.intent;
   const { designer: dOpt, intent: iOpt, random } = solveOptima(model, rd, o);
-  const dPol = deterministicPolicy(model, dOpt.policy);
-  const iPol = deterministicPolicy(model, iOpt.policy);
+  const dPolicy = deterministicPolicy(model, dOpt.policy);
+  const iPolicy = deterministicPolicy(model, iOpt.policy);
   const exact = gamma > EXACT_GAMMA && gamma < 1;
-  const intentOfDesignerOpt = startValue(model, exact ? evaluateExact(model, ri, dPol, gamma) : policyValues(model, ri, dPol, o).values);
-  const designerOfIntentOpt = startValue(model, exact ? evaluateExact(model, rd, iPol, gamma) : policyValues(model, rd, iPol, o).values);
+  const evaluate = (rewards: Float64Array[], pol: Policy) =>
+    exact ? rewards.map((r) => evaluateExact(model, r, pol, gamma)) : policyValuesMany(model, rewards, pol, o).map((e) => e.values);
+  const ofDesignerOptimal = evaluate([ri, ...extra], dPolicy);
+  const ofIntentOptimal = evaluate([rd, ...extra], iPolicy);
+  const intentOfDesignerOpt = startValue(model, ofDesignerOptimal[0]);
+  const designerOfIntentOpt = startValue(model, ofIntentOptimal[0]);
   const intentBest = startValue(model, iOpt.values);
   // Regret is >= 0 (the intent-optimal policy is optimal); a difference within the solvers' proven
   // accuracy (both values within FIXED_POINT_ACCURACY of exact) is no regret, not a sign to report.
   const rawRegret = intentBest - intentOfDesignerOpt;
   const regret = rawRegret <= 2 * FIXED_POINT_ACCURACY ? 0 : rawRegret;
   const range = intentBest - random.intent;
-  return {
+  const report: SolveReport = {
     env: model.name,
     reward: variant.name,
     gamma,
@@ -119,6 +145,7 @@ export function solveVariant(model: FiniteModel, variant: RewardVariant, opts: S
     regretNorm: Math.abs(range) < 1e-12 ? 0 : regret / range,
     converged: dOpt.converged && iOpt.converged,
   };
+  return { report, rd, dPolicy, iPolicy, ofDesignerOptimal, ofIntentOptimal };
 }
 
 /** Default sweep cap of `solveOptima` at gamma = 1 (built-ins converge within 1,000). */

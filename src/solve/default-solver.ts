@@ -15,7 +15,7 @@
  * states (state backups / live states, rounded up), not a sweep count of the textbook method.
  */
 import type { FiniteModel } from "../model/types.js";
-import { evaluatePolicyEngineMany, planValueIteration, solveValuesEngine, type EngineResult, type ValuePlan } from "./engine/index.js";
+import { evaluatePolicyEngineMany, planValueIteration, solveValuesEngine, startValuesEngine, type EngineResult, type ValuePlan } from "./engine/index.js";
 import { evaluatePolicyMany, FIXED_POINT_ACCURACY } from "./evaluation.js";
 import { actionValues, greedyActions, type Evaluation, type Policy, type Solution, type SolveOptions } from "./sweeps.js";
 import { valueIteration } from "./value-iteration.js";
@@ -77,4 +77,17 @@ export function policyValuesMany(model: FiniteModel, rewards: Float64Array[], po
 /** v_pi of `policy` for one reward. */
 export function policyValues(model: FiniteModel, reward: Float64Array, policy: Policy, opts: SolveOptions = {}): Evaluation {
   return policyValuesMany(model, [reward], policy, opts)[0];
+}
+
+/**
+ * v_pi at the start states (start > 0) for each reward, within `opts.accuracy` (default
+ * FIXED_POINT_ACCURACY): state-indexed arrays to be read at the start states only (`startValue`).
+ * The engine solves only the part of the model the start values depend on to that accuracy
+ * (engine/local.ts); where it proves no bound that way (gamma >= 1, say) the whole model is evaluated.
+ */
+export function startStateValues(model: FiniteModel, rewards: Float64Array[], policy: Policy, opts: SolveOptions = {}): Float64Array[] {
+  const gamma = opts.gamma ?? model.gamma;
+  const local = startValuesEngine(model, rewards, policy, { gamma, accuracy: opts.accuracy ?? FIXED_POINT_ACCURACY, maxSweeps: opts.maxIters });
+  if (local) return local.values;
+  return policyValuesMany(model, rewards, policy, opts).map((e) => e.values);
 }

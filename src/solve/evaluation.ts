@@ -3,7 +3,7 @@
  * sweeps, or the fixed point to a guaranteed accuracy (`evaluateFixedPoint`). Pure; no I/O.
  */
 import type { FiniteModel } from "../model/types.js";
-import { DEFAULT_TOL, defaultMaxIters, expectedReward, iterateSweeps, type Evaluation, type Policy, type SolveOptions } from "./sweeps.js";
+import { DEFAULT_TOL, defaultMaxIters, expectedRewardAt, iterateSweeps, type Evaluation, type Policy, type SolveOptions } from "./sweeps.js";
 
 /**
  * The Markov chain of a stochastic policy over the live (non-terminal) states, built once per
@@ -89,14 +89,13 @@ export function policyChain(model: FiniteModel, policy: Policy): PolicyChain {
 /** Expected one-step reward of the policy per chain row: r_pi(s) = sum_a pi(a|s) r(s, a). */
 export function chainReward(model: FiniteModel, chain: PolicyChain, policy: Policy, reward: Float64Array): Float64Array {
   const nA = model.nActions;
-  const r = expectedReward(model, reward);
   const out = new Float64Array(chain.states.length);
   for (let i = 0; i < out.length; i++) {
     const k0 = chain.states[i] * nA;
     let acc = 0;
     for (let a = 0; a < nA; a++) {
       const pa = policy[k0 + a];
-      if (pa !== 0) acc += pa * r[k0 + a];
+      if (pa !== 0) acc += pa * expectedRewardAt(model, reward, k0 + a);
     }
     out[i] = acc;
   }

@@ -53,19 +53,19 @@ export function defaultMaxIters(gamma: number): number {
 export function expectedReward(model: FiniteModel, reward: Float64Array): Float64Array {
   const nSA = model.nStates * model.nActions;
   const r = new Float64Array(nSA);
-  const { saStart, prob } = model;
-  for (let k = 0; k < nSA; k++) {
-    const lo = saStart[k];
-    const hi = saStart[k + 1];
-    if (hi - lo === 1) {
-      r[k] = reward[lo];
-      continue;
-    }
-    let acc = 0;
-    for (let o = lo; o < hi; o++) acc += prob[o] * reward[o];
-    r[k] = acc;
-  }
+  for (let k = 0; k < nSA; k++) r[k] = expectedRewardAt(model, reward, k);
   return r;
+}
+
+/** One entry of `expectedReward`: sum_o p_o reward_o over the outcomes of state-action k. */
+export function expectedRewardAt(model: FiniteModel, reward: Float64Array, k: number): number {
+  const lo = model.saStart[k];
+  const hi = model.saStart[k + 1];
+  if (hi - lo === 1) return reward[lo];
+  const prob = model.prob;
+  let acc = 0;
+  for (let o = lo; o < hi; o++) acc += prob[o] * reward[o];
+  return acc;
 }
 
 /** Q(s, a) = r(s, a) + gamma * sum_o p_o V(next_o). Single-outcome pairs skip the multiply by 1. */

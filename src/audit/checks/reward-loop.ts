@@ -15,10 +15,10 @@
  * Also reported: the designer-optimal policy's own recurrent loop, when its most likely path from the
  * most likely start repeats a state instead of ending.
  */
-import { choiceLoop, modelChoiceGraph } from "../choice-graph.js";
+import { choiceLoop } from "../choice-graph.js";
 import { maxMeanCycle } from "../cycles.js";
 import type { AuditContext } from "../context.js";
-import { actionNames, fmt, labelsOf } from "../context.js";
+import { actionNames, fmt, labelsOf, reachableChoiceGraph } from "../context.js";
 import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding, LoopReport } from "../findings.js";
 
@@ -56,8 +56,7 @@ export function loopFromOutcomes(ctx: AuditContext, stateIds: number[], outcomes
 
 /** The best loop of the reachable choice graph, or null if the graph has no cycle. */
 export function bestLoop(ctx: AuditContext): LoopEvidence | null {
-  const { model, rd, reachable } = ctx;
-  const g = modelChoiceGraph(model, rd, { minProb: ctx.opts.loopMinProb, from: reachable });
+  const g = reachableChoiceGraph(ctx);
   const c = maxMeanCycle(g);
   if (!c) return null;
   const loop = choiceLoop(g, c);

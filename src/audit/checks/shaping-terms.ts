@@ -11,8 +11,8 @@
  *    are not potential-based either; they are not reported.)
  */
 import type { AuditContext } from "../context.js";
-import { actionNames, fmt, labelsOf } from "../context.js";
-import { choiceLoop, modelChoiceGraph } from "../choice-graph.js";
+import { actionNames, fmt, labelsOf, reachableChoiceGraph } from "../context.js";
+import { choiceLoop, cyclicEdges, reweighted } from "../choice-graph.js";
 import { maxMeanCycle } from "../cycles.js";
 import type { Finding } from "../findings.js";
 import { checkPotentialShaping, type ShapingCheck } from "../shaping.js";
@@ -29,6 +29,9 @@ function summarizeCheck(model: AuditContext["model"], c: ShapingCheck): Record<s
     ...(c.loop ? { loop: { states: labelsOf(model, c.loop.states), sumPerLap: c.loop.sum, meanPerStep: c.loop.mean } } : {}),
   };
 }
+
+/** A term loop is reported when it pays more than this per step. */
+const LOOP_PAYS = 1e-9;
 
 export function shapingCheck(ctx: AuditContext): Finding[] {
   const { model, variant, gamma } = ctx;
@@ -59,6 +62,8 @@ export function shapingCheck(ctx: AuditContext): Finding[] {
   const nF = model.features.length;
   const nO = model.next.length;
   const T = new Float64Array(nO);
+  let cyclic: Uint8Array | null = null;
+  const onCycle = () => (cyclic ??= cyclicEdges(reachableChoiceGraph(ctx)));
   for (let f = 0; f < nF; f++) {
     const name = model.features[f];
     const w = ownValue(variant.weights, name) ?? 0;
@@ -69,8 +74,8 @@ export function shapingCheck(ctx: AuditContext): Finding[] {
       findings.push({ check: "shaping", severity: "info", message: `the term ${name} (weight ${w}) is potential-based shaping on its own`, evidence: { feature: name, weight: w, ...summarizeCheck(model, c) } });
       continue;
     }
-    const loop = termLoop(ctx, T);
-    if (loop && loop.mean > 1e-9 && loop.intentMean <= 1e-9) {
+    const loop = termLoop(ctx, T, onCycle);
+    if (loop && loop.mean > LOOP_PAYS && loop.intentMean <= 1e-9) {
       findings.push({
         check: "shaping",
         severity: "warning",
@@ -82,9 +87,16 @@ export function shapingCheck(ctx: AuditContext): Finding[] {
   return findings;
 }
 
-function termLoop(ctx: AuditContext, T: Float64Array) {
-  const { model, reachable } = ctx;
-  const g = modelChoiceGraph(model, T, { minProb: ctx.opts.loopMinProb, from: reachable });
+/** The term's best loop, or null when no loop can pay it more than LOOP_PAYS per step. */
+function termLoop(ctx: AuditContext, T: Float64Array, onCycle: () => Uint8Array) {
+  const { model } = ctx;
+  const g = reweighted(reachableChoiceGraph(ctx), T);
+  // A cycle's mean is at most its largest edge: with no edge on a cycle paying more than LOOP_PAYS,
+  // no loop can (the common case of a goal bonus or a cost: skips the cycle search).
+  const cyclic = onCycle();
+  let top = -Infinity;
+  for (let e = 0; e < cyclic.length; e++) if (cyclic[e] && g.weight[e] > top) top = g.weight[e];
+  if (!(top > LOOP_PAYS)) return null;
   const c = maxMeanCycle(g);
   if (!c) return null;
   const { outcomes, actions } = choiceLoop(g, c);

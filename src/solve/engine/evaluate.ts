@@ -24,6 +24,7 @@ import { chainReward, evaluateFixedPoint, policyChain, type PolicyChain } from "
 import type { Policy } from "../sweeps.js";
 import { solveDense } from "./dense.js";
 import { solveOrder } from "./order.js";
+import { regionChain, regionReward } from "./region.js";
 import { fillOver, maxOver, undiscountedSweeps, type ComponentResult, type ComponentSweeps } from "./sweeps.js";
 import {
   componentError,
@@ -86,56 +87,12 @@ export function evaluateOnStates(
   scratch: Int32Array,
 ): { converged: boolean; errorBound: number } {
   const o = resolveOptions(model.gamma, opts);
-  const gamma = o.gamma;
-  const { saStart, next, prob } = model;
-  const nA = model.nActions;
+  const choice = { actions };
+  const region = regionChain(model, choice, states, scratch);
+  const { chain, exits } = region;
   const n = states.length;
-  const rowOf = scratch;
-  for (let i = 0; i < n; i++) rowOf[states[i]] = i;
-  let cap = 0;
-  for (let i = 0; i < n; i++) {
-    const k = states[i] * nA + actions[states[i]];
-    cap += saStart[k + 1] - saStart[k];
-  }
-  const rowStart = new Int32Array(n + 1);
-  const col = new Int32Array(cap);
-  const weight = new Float64Array(cap);
-  const self = new Float64Array(n);
-  const exits = new Uint8Array(n);
-  const slot = new Int32Array(n).fill(-1);
-  const rs = rewards.map(() => new Float64Array(n));
-  let e = 0;
-  for (let i = 0; i < n; i++) {
-    const s = states[i];
-    const k = s * nA + actions[s];
-    rowStart[i] = e;
-    for (let j = 0; j < rewards.length; j++) rs[j][i] = rewards[j][k];
-    let kept = 0;
-    for (let q = saStart[k]; q < saStart[k + 1]; q++) {
-      const p = prob[q];
-      if (p === 0) continue;
-      const t = next[q];
-      const row = rowOf[t];
-      if (row < 0) {
-        for (let j = 0; j < rewards.length; j++) rs[j][i] += gamma * p * xs[j][t];
-        continue;
-      }
-      kept += p;
-      if (row === i) self[i] += p;
-      else if (slot[row] >= 0) weight[slot[row]] += p;
-      else {
-        slot[row] = e;
-        col[e] = row;
-        weight[e++] = p;
-      }
-    }
-    if (kept < 1 - 1e-12) exits[i] = 1;
-    for (let c = rowStart[i]; c < e; c++) slot[col[c]] = -1;
-  }
-  rowStart[n] = e;
-  for (let i = 0; i < n; i++) rowOf[states[i]] = -1;
-  const chain: PolicyChain = { nStates: model.nStates, states, rowStart, col: col.subarray(0, e), weight: weight.subarray(0, e), self };
-  const order = solveOrder({ n, rowStart, col: chain.col }, exits);
+  const rs = rewards.map((rsa, j) => regionReward(model, choice, region, { perAction: rsa }, xs[j], o.gamma));
+  const order = solveOrder({ n, rowStart: chain.rowStart, col: chain.col }, exits);
   let converged = true;
   let errorBound = 0;
   for (let j = 0; j < rewards.length; j++) {
@@ -148,10 +105,10 @@ export function evaluateOnStates(
   return { converged, errorBound };
 }
 
-type Order = ReturnType<typeof solveOrder>;
+export type Order = ReturnType<typeof solveOrder>;
 
-/** The component loop in row space. */
-function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: ResolvedOptions): EngineResult {
+/** The component loop in row space: values per row of `chain` for the row rewards `r`, components in `order`. */
+export function solveChain(chain: PolicyChain, r: Float64Array, order: Order, o: ResolvedOptions): EngineResult {
   const n = r.length;
   const { rowStart, col, weight, self } = chain;
   const { members, compStart, comp, count } = order;
