@@ -7,7 +7,7 @@
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import type { MeanCycle } from "./cycles.js";
-import { stronglyConnectedComponents, type CsrDigraph } from "./mean-cycle/graph.js";
+import type { CsrDigraph } from "./mean-cycle/graph.js";
 
 /** Label of a choice-graph edge: the (state, action) pair and which of its outcomes the edge is. */
 export interface ChoiceLabel {
@@ -52,15 +52,14 @@ export function modelChoiceGraph(model: FiniteModel, rewardPerOutcome: Float64Ar
   if (rewardPerOutcome.length !== nO) {
     throw new InputError("input.reward", `reward has ${rewardPerOutcome.length} entries, expected one per outcome (${nO})`, "choice graph reward");
   }
-  const thr = minProb - 1e-12;
-  const positive = opts.positive === true;
+  // Kept: probability >= minProb (with a 1e-12 slack), or > 0 with `positive`.
+  const thr = opts.positive === true ? Number.MIN_VALUE : minProb - 1e-12;
   const from = opts.from;
-  const keep = (p: number): boolean => (positive ? p > 0 : p >= thr);
   const { nStates: nS, nActions: nA, saStart, prob, next, terminal } = model;
   const start = new Int32Array(nS + 1);
   for (let s = 0; s < nS; s++) {
     let cnt = 0;
-    if (!terminal[s] && (!from || from[s])) for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) if (keep(prob[o])) cnt++;
+    if (!terminal[s] && (!from || from[s])) for (let o = saStart[s * nA]; o < saStart[(s + 1) * nA]; o++) if (prob[o] >= thr) cnt++;
     start[s + 1] = start[s] + cnt;
   }
   const m = start[nS];
@@ -68,19 +67,17 @@ export function modelChoiceGraph(model: FiniteModel, rewardPerOutcome: Float64Ar
   const weight = new Float64Array(m);
   const action = new Int32Array(m);
   const outcome = new Int32Array(m);
-  const stateOf = new Int32Array(m);
   let j = 0;
   for (let s = 0; s < nS; s++) {
-    if (terminal[s] || (from && !from[s])) continue;
+    if (start[s + 1] === start[s]) continue;
     for (let a = 0; a < nA; a++) {
       const k = s * nA + a;
       for (let o = saStart[k]; o < saStart[k + 1]; o++) {
-        if (!keep(prob[o])) continue;
+        if (!(prob[o] >= thr)) continue;
         to[j] = next[o];
         weight[j] = rewardPerOutcome[o];
         action[j] = a;
         outcome[j] = o;
-        stateOf[j] = s;
         j++;
       }
     }
@@ -92,8 +89,20 @@ export function modelChoiceGraph(model: FiniteModel, rewardPerOutcome: Float64Ar
     weight,
     action,
     outcome,
-    label: (e: number) => ({ state: stateOf[e], action: action[e], outcome: outcome[e] }),
+    label: (e: number) => ({ state: sourceOf(start, e), action: action[e], outcome: outcome[e] }),
   };
+}
+
+/** The vertex whose out-edges hold edge e (binary search of the CSR starts). */
+function sourceOf(start: Int32Array, e: number): number {
+  let lo = 0;
+  let hi = start.length - 2;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (start[mid] <= e) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
 }
 
 /**
@@ -120,9 +129,9 @@ export function reweighted(g: ChoiceGraph, rewardPerOutcome: Float64Array): Choi
 /**
  * 1 for each edge that lies on some cycle of the graph (both ends in one strongly connected
  * component; a self-loop counts): every cycle, and so every cycle mean, uses only these edges.
+ * `comp`: component per vertex (`stronglyConnectedComponents`).
  */
-export function cyclicEdges(g: CsrDigraph): Uint8Array {
-  const { comp } = stronglyConnectedComponents(g.n, g.start, g.to);
+export function cyclicEdges(g: CsrDigraph, comp: Int32Array): Uint8Array {
   const on = new Uint8Array(g.to.length);
   for (let v = 0; v < g.n; v++) for (let e = g.start[v]; e < g.start[v + 1]; e++) if (comp[g.to[e]] === comp[v]) on[e] = 1;
   return on;

@@ -22,6 +22,7 @@ import { policyValues, startStateValues } from "../solve/default-solver.js";
 import { startValue, uniformPolicy } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
 import { modelChoiceGraph, type ChoiceGraph } from "./choice-graph.js";
+import { stronglyConnectedComponents, type Components } from "./mean-cycle/graph.js";
 
 export interface AuditOptions {
   /** Discount (default: the model's). */
@@ -153,7 +154,16 @@ export function fmt(x: number, digits = 3): string {
   return x.toFixed(digits);
 }
 
-const choiceGraphs = new WeakMap<AuditContext, ChoiceGraph>();
+const choiceGraphs = new WeakMap<AuditContext, { graph: ChoiceGraph; components: Components | null }>();
+
+function choiceEntry(ctx: AuditContext) {
+  let entry = choiceGraphs.get(ctx);
+  if (!entry) {
+    entry = { graph: modelChoiceGraph(ctx.model, ctx.rd, { minProb: ctx.opts.loopMinProb, from: ctx.reachable }), components: null };
+    choiceGraphs.set(ctx, entry);
+  }
+  return entry;
+}
 
 /**
  * The choice graph of the loop checks (reward-loop, shaping terms): outcomes of probability at least
@@ -161,10 +171,11 @@ const choiceGraphs = new WeakMap<AuditContext, ChoiceGraph>();
  * context; other weights through choice-graph.ts `reweighted`.
  */
 export function reachableChoiceGraph(ctx: AuditContext): ChoiceGraph {
-  let g = choiceGraphs.get(ctx);
-  if (!g) {
-    g = modelChoiceGraph(ctx.model, ctx.rd, { minProb: ctx.opts.loopMinProb, from: ctx.reachable });
-    choiceGraphs.set(ctx, g);
-  }
-  return g;
+  return choiceEntry(ctx).graph;
+}
+
+/** Strongly connected components of `reachableChoiceGraph(ctx)` (any weights), computed once. */
+export function reachableChoiceComponents(ctx: AuditContext): Components {
+  const entry = choiceEntry(ctx);
+  return (entry.components ??= stronglyConnectedComponents(entry.graph.n, entry.graph.start, entry.graph.to));
 }

@@ -32,7 +32,7 @@
  * Pure; no I/O. Hot loops run over typed arrays (CSR adjacency).
  */
 import { InputError } from "../errors.js";
-import { isCsr, stronglyConnectedComponents, subgraph, toCsr, type Digraph, type LocalCycle, type Sub } from "./mean-cycle/graph.js";
+import { isCsr, stronglyConnectedComponents, subgraph, toCsr, type Components, type Digraph, type LocalCycle, type Sub } from "./mean-cycle/graph.js";
 import { howardComponent } from "./mean-cycle/howard.js";
 import { karpComponent, karpTableLocal } from "./mean-cycle/karp.js";
 
@@ -45,6 +45,8 @@ export interface MeanCycleOptions {
   karpMaxVertices?: number;
   /** Cap on Howard's policy-improvement rounds (per component). Default 10000. */
   maxHowardIters?: number;
+  /** The graph's strongly connected components (`stronglyConnectedComponents` of its CSR), when the caller has them already. */
+  components?: Components;
 }
 
 export interface MeanCycle<L = unknown> {
@@ -68,7 +70,7 @@ const DEFAULT_KARP_MAX = 2000;
 
 function solveMinMean<L>(graph: Digraph<L>, sign: number, opts: MeanCycleOptions): MeanCycle<L> | null {
   const g = toCsr(graph, sign);
-  const cc = stronglyConnectedComponents(g.n, g.start, g.to);
+  const cc = opts.components ?? stronglyConnectedComponents(g.n, g.start, g.to);
   const method = opts.method ?? "auto";
   const karpMax = opts.karpMaxVertices ?? DEFAULT_KARP_MAX;
   const localIdx = new Int32Array(g.n);

@@ -118,13 +118,24 @@ export function solveVariantDetailed(model: FiniteModel, variant: RewardVariant,
   const rd = designerReward(model, variant, gamma);
   const ri = model.intent;
   const { designer: dOpt, intent: iOpt, random } = solveOptima(model, rd, o);
-  const dPolicy = deterministicPolicy(model, dOpt.policy);
-  const iPolicy = deterministicPolicy(model, iOpt.policy);
   const exact = gamma > EXACT_GAMMA && gamma < 1;
   const evaluate = (rewards: Float64Array[], pol: Policy) =>
     exact ? rewards.map((r) => evaluateExact(model, r, pol, gamma)) : policyValuesMany(model, rewards, pol, o).map((e) => e.values);
-  const ofDesignerOptimal = evaluate([ri, ...extra], dPolicy);
-  const ofIntentOptimal = evaluate([rd, ...extra], iPolicy);
+  const dPolicy = deterministicPolicy(model, dOpt.policy);
+  let iPolicy: Policy;
+  let ofDesignerOptimal: Float64Array[];
+  let ofIntentOptimal: Float64Array[];
+  if (sameActions(dOpt.policy, iOpt.policy)) {
+    // One policy (no regret by construction): one chain, every reward once.
+    iPolicy = dPolicy;
+    const [intent, designer, ...rest] = evaluate([ri, rd, ...extra], dPolicy);
+    ofDesignerOptimal = [intent, ...rest];
+    ofIntentOptimal = [designer, ...rest];
+  } else {
+    iPolicy = deterministicPolicy(model, iOpt.policy);
+    ofDesignerOptimal = evaluate([ri, ...extra], dPolicy);
+    ofIntentOptimal = evaluate([rd, ...extra], iPolicy);
+  }
   const intentOfDesignerOpt = startValue(model, ofDesignerOptimal[0]);
   const designerOfIntentOpt = startValue(model, ofIntentOptimal[0]);
   const intentBest = startValue(model, iOpt.values);
@@ -146,6 +157,12 @@ export function solveVariantDetailed(model: FiniteModel, variant: RewardVariant,
     converged: dOpt.converged && iOpt.converged,
   };
   return { report, rd, dPolicy, iPolicy, ofDesignerOptimal, ofIntentOptimal };
+}
+
+function sameActions(a: Int32Array, b: Int32Array): boolean {
+  if (a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
+  return true;
 }
 
 /** Default sweep cap of `solveOptima` at gamma = 1 (built-ins converge within 1,000). */

@@ -17,7 +17,7 @@
 import type { FiniteModel } from "../model/types.js";
 import { evaluatePolicyEngineMany, planValueIteration, solveValuesEngine, startValuesEngine, type EngineResult, type ValuePlan } from "./engine/index.js";
 import { evaluatePolicyMany, FIXED_POINT_ACCURACY } from "./evaluation.js";
-import { actionValues, greedyActions, type Evaluation, type Policy, type Solution, type SolveOptions } from "./sweeps.js";
+import { actionValues, actionValuesFrom, expectedReward, greedyActions, type Evaluation, type Policy, type Solution, type SolveOptions } from "./sweeps.js";
 import { valueIteration } from "./value-iteration.js";
 
 export type { ValuePlan } from "./engine/index.js";
@@ -49,9 +49,10 @@ function asEvaluation(model: FiniteModel, res: EngineResult): Evaluation {
 export function optimalSolution(model: FiniteModel, reward: Float64Array, opts: SolveOptions = {}, plan?: ValuePlan): Solution {
   const gamma = opts.gamma ?? model.gamma;
   const accuracy = opts.accuracy ?? FIXED_POINT_ACCURACY;
-  const res = solveValuesEngine(model, reward, { gamma, accuracy, maxSweeps: opts.maxIters }, plan ?? planValueIteration(model));
+  const expected = expectedReward(model, reward);
+  const res = solveValuesEngine(model, reward, { gamma, accuracy, maxSweeps: opts.maxIters }, plan ?? planValueIteration(model), expected);
   if (!usable(res)) return valueIteration(model, reward, { ...opts, gamma });
-  const q = actionValues(model, reward, res.values, gamma);
+  const q = actionValuesFrom(model, expected, res.values, gamma);
   let scale = 0;
   for (let i = 0; i < q.length; i++) if (Math.abs(q[i]) > scale && Number.isFinite(q[i])) scale = Math.abs(q[i]);
   const tieTol = 2 * Math.max(accuracy, res.errorBound) + 1e-14 * scale;

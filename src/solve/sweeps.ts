@@ -80,8 +80,12 @@ function backup(model: FiniteModel, r: Float64Array, gamma: number, V: Float64Ar
 
 /** Q = r + gamma * P V for every (s, a); zeros on terminal states. */
 export function actionValues(model: FiniteModel, reward: Float64Array, V: Float64Array, gamma = model.gamma): Float64Array {
+  return actionValuesFrom(model, expectedReward(model, reward), V, gamma);
+}
+
+/** `actionValues` from the expected reward per (s, a) (`expectedReward`). */
+export function actionValuesFrom(model: FiniteModel, r: Float64Array, V: Float64Array, gamma = model.gamma): Float64Array {
   const nA = model.nActions;
-  const r = expectedReward(model, reward);
   const q = new Float64Array(model.nStates * nA);
   for (let s = 0; s < model.nStates; s++) {
     if (model.terminal[s]) continue;

@@ -18,7 +18,7 @@
 import { choiceLoop } from "../choice-graph.js";
 import { maxMeanCycle } from "../cycles.js";
 import type { AuditContext } from "../context.js";
-import { actionNames, fmt, labelsOf, reachableChoiceGraph } from "../context.js";
+import { actionNames, fmt, labelsOf, reachableChoiceComponents, reachableChoiceGraph } from "../context.js";
 import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding, LoopReport } from "../findings.js";
 
@@ -57,7 +57,7 @@ export function loopFromOutcomes(ctx: AuditContext, stateIds: number[], outcomes
 /** The best loop of the reachable choice graph, or null if the graph has no cycle. */
 export function bestLoop(ctx: AuditContext): LoopEvidence | null {
   const g = reachableChoiceGraph(ctx);
-  const c = maxMeanCycle(g);
+  const c = maxMeanCycle(g, { components: reachableChoiceComponents(ctx) });
   if (!c) return null;
   const loop = choiceLoop(g, c);
   const ev = loopFromOutcomes(ctx, loop.states, loop.outcomes, loop.actions);

@@ -11,7 +11,7 @@
  *    are not potential-based either; they are not reported.)
  */
 import type { AuditContext } from "../context.js";
-import { actionNames, fmt, labelsOf, reachableChoiceGraph } from "../context.js";
+import { actionNames, fmt, labelsOf, reachableChoiceComponents, reachableChoiceGraph } from "../context.js";
 import { choiceLoop, cyclicEdges, reweighted } from "../choice-graph.js";
 import { maxMeanCycle } from "../cycles.js";
 import type { Finding } from "../findings.js";
@@ -63,7 +63,7 @@ export function shapingCheck(ctx: AuditContext): Finding[] {
   const nO = model.next.length;
   const T = new Float64Array(nO);
   let cyclic: Uint8Array | null = null;
-  const onCycle = () => (cyclic ??= cyclicEdges(reachableChoiceGraph(ctx)));
+  const onCycle = () => (cyclic ??= cyclicEdges(reachableChoiceGraph(ctx), reachableChoiceComponents(ctx).comp));
   for (let f = 0; f < nF; f++) {
     const name = model.features[f];
     const w = ownValue(variant.weights, name) ?? 0;
@@ -90,14 +90,15 @@ export function shapingCheck(ctx: AuditContext): Finding[] {
 /** The term's best loop, or null when no loop can pay it more than LOOP_PAYS per step. */
 function termLoop(ctx: AuditContext, T: Float64Array, onCycle: () => Uint8Array) {
   const { model } = ctx;
-  const g = reweighted(reachableChoiceGraph(ctx), T);
+  const base = reachableChoiceGraph(ctx);
   // A cycle's mean is at most its largest edge: with no edge on a cycle paying more than LOOP_PAYS,
   // no loop can (the common case of a goal bonus or a cost: skips the cycle search).
   const cyclic = onCycle();
   let top = -Infinity;
-  for (let e = 0; e < cyclic.length; e++) if (cyclic[e] && g.weight[e] > top) top = g.weight[e];
+  for (let e = 0; e < cyclic.length; e++) if (cyclic[e] && T[base.outcome[e]] > top) top = T[base.outcome[e]];
   if (!(top > LOOP_PAYS)) return null;
-  const c = maxMeanCycle(g);
+  const g = reweighted(base, T);
+  const c = maxMeanCycle(g, { components: reachableChoiceComponents(ctx) });
   if (!c) return null;
   const { outcomes, actions } = choiceLoop(g, c);
   let im = 0;

@@ -93,10 +93,16 @@ export function valueIterationEngine(model: FiniteModel, reward: Float64Array, o
   return { ...res, policy: greedyActions(model, q), q };
 }
 
-/** Optimal values only (what the benchmark times); `plan` may be built beforehand and reused. */
-export function solveValuesEngine(model: FiniteModel, reward: Float64Array, opts: EngineOptions = {}, plan: ValuePlan = planValueIteration(model)): EngineResult {
+/** Optimal values only (what the benchmark times); `plan` may be built beforehand and reused, `expected` is `expectedReward(model, reward)`. */
+export function solveValuesEngine(
+  model: FiniteModel,
+  reward: Float64Array,
+  opts: EngineOptions = {},
+  plan: ValuePlan = planValueIteration(model),
+  expected: Float64Array = expectedReward(model, reward),
+): EngineResult {
   const o = resolveOptions(model.gamma, opts);
-  const r = expectedReward(model, reward);
+  const r = expected;
   const { order, states } = plan;
   const { compStart, count } = order;
   const gamma = o.gamma;
