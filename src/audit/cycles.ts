@@ -91,10 +91,10 @@ function solveMinMean<L>(graph: Digraph<L>, sign: number, opts: MeanCycleOptions
   }
   if (!best) return null;
   const { cyc, sub } = best;
-  const edges = cyc.edges.map((e) => g.eid[sub.slot[e]]);
+  const edges = cyc.edges.map((e) => (g.eid ? g.eid[sub.slot[e]] : sub.slot[e]));
   const slots = cyc.edges.map((e) => sub.slot[e]);
   const vertices = cyc.edges.map((e) => sub.verts[localFrom(sub, e)]);
-  const weights = slots.map((s) => sign * g.weight[s]);
+  const weights = slots.map((s) => g.weight[s]);
   const labels = edges.map((e) => labelOf(graph, e));
   return { mean: sign * cyc.mean, vertices, edges, weights, labels, method: best.method, certified: cyc.certified };
 }
@@ -140,7 +140,9 @@ export function karpWalkTable<L>(graph: Digraph<L>, source: number): number[][] 
   }
   const verts = new Int32Array(g.n);
   for (let i = 0; i < g.n; i++) verts[i] = i;
-  const sub: Sub = { m: g.n, verts, start: g.start, to: g.to, weight: g.weight, slot: g.eid };
+  const weight = Float64Array.from(g.weight, (w) => g.sign * w);
+  const slot = g.eid ?? Int32Array.from({ length: g.to.length }, (_, e) => e);
+  const sub: Sub = { m: g.n, verts, start: g.start, to: g.to, weight, slot };
   const { d } = karpTableLocal(sub, source, g.n + 1);
   const rows: number[][] = [];
   for (let k = 0; k <= g.n; k++) rows.push(Array.from(d.subarray(k * g.n, (k + 1) * g.n)));

@@ -14,7 +14,7 @@ import { InputError } from "../errors.js";
 import { likelyStart, tracePolicy } from "../model/likely-path.js";
 import { designerReward } from "../model/reward.js";
 import type { FiniteModel, RewardVariant } from "../model/types.js";
-import { optimalSolution, planValueIteration, policyValuesMany, startStateValues } from "./default-solver.js";
+import { actionPolicyValues, optimalSolution, planValueIteration, startStateValues } from "./default-solver.js";
 import { FIXED_POINT_ACCURACY } from "./evaluation.js";
 import { EXACT_GAMMA, evaluateExact, exactPolicyIteration } from "./exact.js";
 import { deterministicPolicy, startValue, uniformPolicy } from "./policy.js";
@@ -119,22 +119,21 @@ export function solveVariantDetailed(model: FiniteModel, variant: RewardVariant,
   const ri = model.intent;
   const { designer: dOpt, intent: iOpt, random } = solveOptima(model, rd, o);
   const exact = gamma > EXACT_GAMMA && gamma < 1;
-  const evaluate = (rewards: Float64Array[], pol: Policy) =>
-    exact ? rewards.map((r) => evaluateExact(model, r, pol, gamma)) : policyValuesMany(model, rewards, pol, o).map((e) => e.values);
   const dPolicy = deterministicPolicy(model, dOpt.policy);
-  let iPolicy: Policy;
+  const same = sameActions(dOpt.policy, iOpt.policy);
+  const iPolicy = same ? dPolicy : deterministicPolicy(model, iOpt.policy);
+  const evaluate = (rewards: Float64Array[], actions: Int32Array, pol: Policy) =>
+    exact ? rewards.map((r) => evaluateExact(model, r, pol, gamma)) : actionPolicyValues(model, rewards, actions, o);
   let ofDesignerOptimal: Float64Array[];
   let ofIntentOptimal: Float64Array[];
-  if (sameActions(dOpt.policy, iOpt.policy)) {
-    // One policy (no regret by construction): one chain, every reward once.
-    iPolicy = dPolicy;
-    const [intent, designer, ...rest] = evaluate([ri, rd, ...extra], dPolicy);
+  if (same) {
+    // One policy (no regret by construction): one evaluation, every reward once.
+    const [intent, designer, ...rest] = evaluate([ri, rd, ...extra], dOpt.policy, dPolicy);
     ofDesignerOptimal = [intent, ...rest];
     ofIntentOptimal = [designer, ...rest];
   } else {
-    iPolicy = deterministicPolicy(model, iOpt.policy);
-    ofDesignerOptimal = evaluate([ri, ...extra], dPolicy);
-    ofIntentOptimal = evaluate([rd, ...extra], iPolicy);
+    ofDesignerOptimal = evaluate([ri, ...extra], dOpt.policy, dPolicy);
+    ofIntentOptimal = evaluate([rd, ...extra], iOpt.policy, iPolicy);
   }
   const intentOfDesignerOpt = startValue(model, ofDesignerOptimal[0]);
   const designerOfIntentOpt = startValue(model, ofIntentOptimal[0]);

@@ -15,7 +15,8 @@
  * states (state backups / live states, rounded up), not a sweep count of the textbook method.
  */
 import type { FiniteModel } from "../model/types.js";
-import { evaluatePolicyEngineMany, planValueIteration, solveValuesEngine, startValuesEngine, type EngineResult, type ValuePlan } from "./engine/index.js";
+import { deterministicPolicy } from "./policy.js";
+import { evaluateFunctional, evaluatePolicyEngineMany, planValueIteration, solveValuesEngine, startValuesEngine, type EngineResult, type ValuePlan } from "./engine/index.js";
 import { evaluatePolicyMany, FIXED_POINT_ACCURACY } from "./evaluation.js";
 import { actionValues, actionValuesFrom, expectedReward, greedyActions, type Evaluation, type Policy, type Solution, type SolveOptions } from "./sweeps.js";
 import { valueIteration } from "./value-iteration.js";
@@ -91,4 +92,14 @@ export function startStateValues(model: FiniteModel, rewards: Float64Array[], po
   const local = startValuesEngine(model, rewards, policy, { gamma, accuracy: opts.accuracy ?? FIXED_POINT_ACCURACY, maxSweeps: opts.maxIters });
   if (local) return local.values;
   return policyValuesMany(model, rewards, policy, opts).map((e) => e.values);
+}
+
+/**
+ * v_pi of the deterministic policy `actions` (an action per state, -1 on terminal states) for each
+ * reward: in one pass along the policy's paths where every chosen action has a single outcome
+ * (engine/functional.ts, exact up to rounding), else as `policyValuesMany` of the one-hot policy.
+ */
+export function actionPolicyValues(model: FiniteModel, rewards: Float64Array[], actions: Int32Array, opts: SolveOptions = {}): Float64Array[] {
+  const gamma = opts.gamma ?? model.gamma;
+  return evaluateFunctional(model, rewards, actions, gamma) ?? policyValuesMany(model, rewards, deterministicPolicy(model, actions), opts).map((e) => e.values);
 }

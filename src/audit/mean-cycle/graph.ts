@@ -39,16 +39,19 @@ export interface Csr {
   n: number;
   start: Int32Array;
   to: Int32Array;
+  /** The graph's own weights (not multiplied by `sign`: `subgraph` does that). */
   weight: Float64Array;
-  /** Original edge id of each CSR slot. */
-  eid: Int32Array;
+  /** The solvers see `sign * weight`. */
+  sign: number;
+  /** Original edge id of each CSR slot; null when slots are the edge ids (CSR input). */
+  eid: Int32Array | null;
 }
 
 export function isCsr<L>(g: Digraph<L>): g is CsrDigraph<L> {
   return (g as CsrDigraph<L>).start !== undefined;
 }
 
-/** Validate and convert to internal CSR, multiplying weights by `sign`. */
+/** Validate and convert to internal CSR (CSR input is not copied); the solvers see weights times `sign`. */
 export function toCsr<L>(g: Digraph<L>, sign: number): Csr {
   const n = g.n;
   if (!Number.isInteger(n) || n < 0) throw new InputError("input.graph", `vertex count must be a non-negative integer, got ${n}`, "graph.n");
@@ -57,18 +60,14 @@ export function toCsr<L>(g: Digraph<L>, sign: number): Csr {
     if (g.start.length !== n + 1 || g.start[0] !== 0 || g.start[n] !== m || g.weight.length !== m) {
       throw new InputError("input.graph", `CSR arrays are inconsistent: start has ${g.start.length} entries (expected ${n + 1}), to ${m}, weight ${g.weight.length}`, "graph.start");
     }
-    const weight = new Float64Array(m);
     for (let v = 0; v < n; v++) if (g.start[v + 1] < g.start[v]) throw new InputError("input.graph", `start[${v + 1}] < start[${v}]`, "graph.start");
     for (let e = 0; e < m; e++) {
       const t = g.to[e];
       if (!(t >= 0 && t < n)) throw new InputError("input.graph", `edge ${e} goes to vertex ${t}, outside 0..${n - 1}`, `graph.to[${e}]`);
       const w = g.weight[e];
       if (!Number.isFinite(w)) throw new InputError("input.graph", `edge ${e} has non-finite weight ${w}`, `graph.weight[${e}]`);
-      weight[e] = sign * w;
     }
-    const eid = new Int32Array(m);
-    for (let e = 0; e < m; e++) eid[e] = e;
-    return { n, start: g.start, to: g.to, weight, eid };
+    return { n, start: g.start, to: g.to, weight: g.weight, sign, eid: null };
   }
   const edges = g.edges;
   const m = edges.length;
@@ -89,10 +88,10 @@ export function toCsr<L>(g: Digraph<L>, sign: number): Csr {
   for (let e = 0; e < m; e++) {
     const i = fill[edges[e].from]++;
     to[i] = edges[e].to;
-    weight[i] = sign * edges[e].weight;
+    weight[i] = edges[e].weight;
     eid[i] = e;
   }
-  return { n, start, to, weight, eid };
+  return { n, start, to, weight, sign, eid };
 }
 
 export interface Components {
@@ -147,7 +146,7 @@ export function subgraph(g: Csr, cc: Components, c: number, localIdx: Int32Array
     for (let e = g.start[v]; e < g.start[v + 1]; e++) {
       if (cc.comp[g.to[e]] !== c) continue;
       to[j] = localIdx[g.to[e]];
-      weight[j] = g.weight[e];
+      weight[j] = g.sign * g.weight[e];
       slot[j] = e;
       j++;
     }

@@ -8,3 +8,4 @@ export { solveOrder, type SolveOrder } from "./order.js";
 export { stronglyConnected, transpose, type Components, type CsrGraph } from "./scc.js";
 export type { EngineOptions, EngineResult, EngineStats } from "./types.js";
 export { startValuesEngine, type StartValues } from "./local.js";
+export { evaluateFunctional } from "./functional.js";
