@@ -14,7 +14,7 @@ import { mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync } from "node:
 import { tmpdir } from "node:os";
 import { basename, join } from "node:path";
 import { GapwatchError, InputError } from "../errors.js";
-import { checkShippedRun, runFolderInside } from "./job-guard.js";
+import { CARRIED_FILE, checkShippedRun, runFolderInside } from "./job-guard.js";
 import { commitRunDir, readRun, runId as makeRunId, RUN_FILES, tempRunDir } from "../store/run-store.js";
 import { writeFileAtomic } from "../store/atomic.js";
 import type { RunResult } from "../run/schema.js";
@@ -78,12 +78,13 @@ export async function executeRemote(job: BatchJob): Promise<ShippedRun> {
     let moved = false;
     for (const [spec, text] of Object.entries(job.files ?? {})) {
       // Only data files travel (job-guard.ts checks it before the job reaches this thread, too).
-      if (!/\.json$/i.test(spec)) throw new InputError("batch.jobFile", `only data files (.json) may travel in a job, not "${basename(spec)}"`, "queued job");
+      if (!CARRIED_FILE.test(spec)) throw new InputError("batch.jobFile", `only data files (.json, .drn) may travel in a job, not "${basename(spec)}"`, "queued job");
       const dir = join(scratch, "inputs", sha256(text).slice(0, 16));
       mkdirSync(dir, { recursive: true });
       const file = join(dir, basename(spec));
       writeFileAtomic(file, text);
-      if (input.env === spec) input.env = file;
+      // A family member chosen by the layout becomes the env itself (one model file, layout 0).
+      if (input.env === spec || job.envFile === spec) input.env = file;
       if (input.reward === spec) input.reward = file;
       moved = true;
     }

@@ -21,7 +21,8 @@ import type { BatchJob, ShippedRun } from "./types.js";
 export const JOB_LIMITS = { maxJobFileBytes: 64 * 1024 * 1024, maxResultBytes: 256 * 1024 * 1024 } as const;
 
 const MODULE_EXT = /\.(m|c)?[jt]sx?$/i;
-const DATA_EXT = /\.json$/i;
+/** The files a job may carry: data (model files .json / .drn, reward files .json), never code. */
+export const CARRIED_FILE = /\.(json|drn)$/i;
 const KNOWN_RUN_FILES = new Set<string>(Object.values(RUN_FILES));
 
 const cut = (s: string, n = 80) => (s.length > n ? s.slice(0, n) + "..." : s);
@@ -103,13 +104,16 @@ export function checkJobForWorker(data: unknown, policy: WorkerPolicy = {}): Bat
   const reward = input.reward as string | undefined;
   const files = job.files ?? {};
   if (typeof files !== "object" || Array.isArray(files)) throw new InputError("batch.jobFile", "the job's files are not a map of names to texts", where);
+  if (job.envFile !== undefined && (typeof job.envFile !== "string" || !Object.prototype.hasOwnProperty.call(files, job.envFile))) {
+    throw new InputError("batch.jobFile", "the job names a family member it does not carry", where);
+  }
   const limit = policy.maxJobFileBytes ?? JOB_LIMITS.maxJobFileBytes;
   let bytes = 0;
   for (const [spec, text] of Object.entries(files)) {
-    if (!DATA_EXT.test(spec)) {
-      throw new InputError("batch.jobFile", `the job carries "${printable(spec)}": only data files (.json) may travel in a job; a simulator module must already be on the worker`, where);
+    if (!CARRIED_FILE.test(spec)) {
+      throw new InputError("batch.jobFile", `the job carries "${printable(spec)}": only data files (.json, .drn) may travel in a job; a simulator module must already be on the worker`, where);
     }
-    if (spec !== env && spec !== reward) throw new InputError("batch.jobFile", `the job carries "${printable(spec)}", which its config does not name`, where);
+    if (spec !== env && spec !== reward && spec !== job.envFile) throw new InputError("batch.jobFile", `the job carries "${printable(spec)}", which its config does not name`, where);
     if (typeof text !== "string") throw new InputError("batch.jobFile", `the job's file "${printable(spec)}" is not text`, where);
     bytes += Buffer.byteLength(text);
     if (bytes > limit) throw new InputError("batch.jobSize", `the job's files are over the limit of ${limit} bytes`, where);

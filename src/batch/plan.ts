@@ -10,7 +10,7 @@ import { InputError } from "../errors.js";
 import { canonicalJson } from "../util/canonical-json.js";
 import type { TrainConfigInput } from "../run/schema.js";
 import { inputsOf } from "../env/inputs.js";
-import { fileFamily } from "../env/resolve.js";
+import { fileFamily, isModuleSpec } from "../env/resolve.js";
 import { splitLayout, withLayout } from "../env/layout-spec.js";
 import type { BatchJob } from "./types.js";
 
@@ -67,16 +67,30 @@ export function parseList(text: string, flag: string): string[] {
 
 const isDataFile = (spec: string) => /\.json$/i.test(spec);
 
-/** The text of every .json file a job names (model file env, reward files), keyed by its spec string. */
-export function shipFiles(input: TrainConfigInput): Record<string, string> {
+function readShipped(spec: string): string {
+  const file = resolve(spec);
+  if (!existsSync(file)) throw new InputError("env.notFound", "file not found", spec);
+  return readFileSync(file, "utf8");
+}
+
+/**
+ * The data files a job names, keyed by their spec strings: a model-file env (.json or .drn), a reward
+ * file (.json), and for a model-file family (`<folder>#N`, a comma list `#N`) the member the layout
+ * chose, named in `envFile`.
+ */
+export function shipFiles(input: TrainConfigInput): { files: Record<string, string>; envFile?: string } {
   const files: Record<string, string> = {};
-  for (const spec of [input.env, input.reward]) {
-    if (spec === undefined || !isDataFile(spec)) continue;
-    const file = resolve(spec);
-    if (!existsSync(file)) throw new InputError("env.notFound", "file not found", spec);
-    files[spec] = readFileSync(file, "utf8");
-  }
-  return files;
+  let envFile: string | undefined;
+  const { base, layout } = splitLayout(input.env);
+  const family = isModuleSpec(base) ? null : fileFamily(base);
+  if (family) {
+    const member = family[layout];
+    if (member === undefined) throw new InputError("env.layout", `layout ${layout} does not exist: the family has ${family.length} model files (layouts 0..${family.length - 1})`, input.env);
+    files[member] = readShipped(member);
+    envFile = member;
+  } else if (isDataFile(input.env) || /\.drn$/i.test(input.env)) files[input.env] = readShipped(input.env);
+  if (input.reward !== undefined && isDataFile(input.reward)) files[input.reward] = readShipped(input.reward);
+  return envFile === undefined ? { files } : { files, envFile };
 }
 
 /**
@@ -101,7 +115,7 @@ export function planSweep(spec: SweepSpec, opts: { ship?: boolean } = {}): Batch
   const total = spec.rewards.length * spec.learners.length * spec.seeds.length;
   if (total > MAX_SWEEP_RUNS) throw new InputError("compare.size", `${spec.rewards.length} rewards x ${spec.learners.length} learners x ${spec.seeds.length} seeds = ${total} runs, more than the ${MAX_SWEEP_RUNS} a sweep may plan`, "--seeds");
   const jobs: BatchJob[] = [];
-  const cache = new Map<string, { files: Record<string, string>; inputs: string }>();
+  const cache = new Map<string, { files: Record<string, string>; envFile?: string; inputs: string }>();
   for (const reward of spec.rewards) {
     for (const learner of spec.learners) {
       for (const seed of spec.seeds) {
@@ -109,12 +123,13 @@ export function planSweep(spec: SweepSpec, opts: { ship?: boolean } = {}): Batch
         const input: TrainConfigInput = { ...(spec.base ?? {}), env, reward, learner, seed: spec.layoutSeed ?? seed, ...(spec.steps !== undefined ? { steps: spec.steps } : {}) };
         const key = spec.layoutSeed === undefined ? `${reward}` : `${reward}\u0000${seed}`;
         let hit = cache.get(key);
-        if (!hit) cache.set(key, (hit = { files: shipFiles(input), inputs: jobInputsHash(input) }));
+        if (!hit) cache.set(key, (hit = { ...shipFiles(input), inputs: jobInputsHash(input) }));
         const files = hit.files;
         jobs.push({
           jobId: jobIdOf(input, files, hit.inputs),
           input,
           ...(opts.ship && Object.keys(files).length ? { files } : {}),
+          ...(opts.ship && hit.envFile !== undefined ? { envFile: hit.envFile } : {}),
           ...(spec.maxStates !== undefined ? { maxStates: spec.maxStates } : {}),
           cell: { reward, learner, seed },
         });

@@ -12,6 +12,11 @@ export interface BatchJob {
   input: TrainConfigInput;
   /** Input files by the spec string that names them in `input` (env / reward), with their text. */
   files?: Record<string, string>;
+  /**
+   * When the env is a model-file family (`<folder>#N`, `<a.json,b.json>#N`): the key in `files` of the
+   * family member the layout chose, which the worker loads as the env (the folder is not on its disk).
+   */
+  envFile?: string;
   /** State bound when the env is a simulator module (`--max-states`); not part of the job id. */
   maxStates?: number;
   /** Where the job sits in the matrix (for reports). */

@@ -70,6 +70,12 @@ describe("job checks on the worker (pure)", () => {
     expect(code(() => checkJobForWorker(data(jobOf({ env: "payload.ts" }, { "payload.ts": "export default 1" }))))).toBe("batch.jobFile");
     expect(code(() => checkJobForWorker(data(jobOf({ env: "m.json" }, { "m.json": "{}", "other.json": "{}" }))))).toBe("batch.jobFile");
     expect(code(() => checkJobForWorker(data(jobOf({ reward: "evil.mjs" }))))).toBe("batch.jobFile");
+    // A family member travels only as the file the job names in envFile; code never does.
+    const family = (envFile: string, files: Record<string, string>) => data({ ...jobOf({ env: "fam#1" }, files), envFile });
+    expect(code(() => checkJobForWorker(family("fam/b.json", { "fam/b.json": "{}" })))).toBe("accepted");
+    expect(code(() => checkJobForWorker(family("fam/b.drn", { "fam/b.drn": "@model" })))).toBe("accepted");
+    expect(code(() => checkJobForWorker(family("fam/b.json", { "fam/c.json": "{}" })))).toBe("batch.jobFile");
+    expect(code(() => checkJobForWorker(family("fam/b.ts", { "fam/b.ts": "export default 1" })))).toBe("batch.jobFile");
     expect(code(() => checkJobForWorker(data(jobOf({ env: "m.json" }, { "m.json": "x".repeat(2000) })), { maxJobFileBytes: 1000 }))).toBe("batch.jobSize");
     expect(code(() => checkJobForWorker({ format: "other", job: {} }))).toBe("batch.job");
     const pump = resolve(ROOT, "examples/pump-station.ts");

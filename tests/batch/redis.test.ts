@@ -6,8 +6,8 @@
  * killed with SIGKILL mid-job loses nothing: its job is picked up by another worker.
  */
 import { spawn, type ChildProcess } from "node:child_process";
-import { rmSync } from "node:fs";
-import { resolve } from "node:path";
+import { readFileSync, rmSync } from "node:fs";
+import { join, resolve } from "node:path";
 import { pathToFileURL } from "node:url";
 import { Queue } from "bullmq";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -147,6 +147,34 @@ describe("compare through Redis with worker processes", () => {
     expect(JSON.stringify(rr.stats)).toBe(JSON.stringify(rl.stats));
     // The manifests name the file as the user gave it, not the worker's scratch copy.
     for (const o of rr.outcomes) if (o.ok) expect(o.result.config.env).toBe("tests/fixtures/batch/corridor.json");
+    await stopAll();
+  });
+
+  it("a model-file family travels as the member its layout chose: a folder family (#1) and a comma list (#0), run ids equal the local run's", async () => {
+    const url = redis.url(1);
+    const elsewhere = fresh("worker-cwd-family");
+    const w = startWorker(url, [], elsewhere);
+    await until(() => ready(w));
+    for (const env of ["tests/fixtures/batch/corridors#1", "tests/fixtures/batch/corridors/b-long.json,tests/fixtures/batch/corridor.json#0"]) {
+      const sweep = { env, rewards: ["default", "dawdle"], learners: ["q-learning"], seeds: [1], steps: 600, bootstrapSeed: 1, reps: 200 };
+      const local = fresh("family-local");
+      const remote = fresh("family-remote");
+      const rl = await runCompare({ ...sweep, runsDir: local, workers: 1 });
+      const rr = await runCompare({ ...sweep, runsDir: remote, queue: url });
+      expect(rr.stats.failed).toEqual([]);
+      const fl = runFingerprints(local);
+      expect(fl.size).toBe(2);
+      expect(runFingerprints(remote)).toEqual(fl);
+      for (const o of rr.outcomes) {
+        expect(o.ok).toBe(true);
+        // The run names the family spec as the user gave it, and trained on the 4-state member.
+        if (o.ok) {
+          expect(o.result.config.env).toBe(env);
+          const policy = JSON.parse(readFileSync(join(o.result.runDir, "policy.json"), "utf8")) as { greedy: unknown[] };
+          expect(policy.greedy.length).toBe(4);
+        }
+      }
+    }
     await stopAll();
   });
 
