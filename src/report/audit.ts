@@ -13,8 +13,11 @@ import { worseThanRandom } from "../util/share.js";
 
 /** A path of states to draw, with what it is. */
 export interface DrawnPath {
-  /** loop: a repeatable loop; route: a designer-optimal (risky) route; safe: the intended, safe route. */
-  kind: "loop" | "route" | "safe";
+  /**
+   * loop: a repeatable loop; route: a designer-optimal (risky) route; safe: the intended, safe route;
+   * given: cells (not a path) where the designer-optimal route gives up intent the intended one keeps.
+   */
+  kind: "loop" | "route" | "safe" | "given";
   label: string;
   states: number[];
 }
@@ -51,7 +54,8 @@ export function auditPaths(audit: AuditDoc, model?: FiniteModel | null): DrawnPa
     const ids = stateIdsOf(model, o);
     if (ids.length > 0 && (Array.isArray(o.stateIds) || Array.isArray(o.states))) {
       const last = path.split(".").pop() ?? "";
-      add({ kind: /loop|cycle/i.test(path) ? "loop" : /safe/i.test(path) ? "safe" : "route", label: `${check}: ${last ? keyWords(last) : "route"}`, states: ids });
+      const kind = /givenUp$/.test(path) ? "given" : /loop|cycle/i.test(path) ? "loop" : /safe/i.test(path) ? "safe" : "route";
+      add({ kind, label: `${check}: ${last ? keyWords(last) : "route"}`, states: ids });
     }
     for (const [k, x] of Object.entries(o)) {
       if (Array.isArray(x) && /route|path|trajectory/i.test(k) && x.every((n) => Number.isInteger(n))) {
@@ -88,7 +92,13 @@ const PATH_STYLE: Record<DrawnPath["kind"], { colour: string; dash: string }> = 
   loop: { colour: ROLE.alert, dash: "" },
   route: { colour: ROLE.designer, dash: "" },
   safe: { colour: ROLE.intent, dash: "7 4" },
+  given: { colour: ROLE.alert, dash: "" },
 };
+
+/** A cross over a cell or position (the "given" marks): two strokes, half-width `r`. */
+function cross(x: number, y: number, r: number, colour: string): string {
+  return `<path d="M${(x - r).toFixed(1)},${(y - r).toFixed(1)}L${(x + r).toFixed(1)},${(y + r).toFixed(1)}M${(x - r).toFixed(1)},${(y + r).toFixed(1)}L${(x + r).toFixed(1)},${(y - r).toFixed(1)}" stroke="${colour}" stroke-width="3" stroke-linecap="round"/>`;
+}
 
 function markers(id: string): string {
   return `<defs>${(Object.keys(PATH_STYLE) as DrawnPath["kind"][])
@@ -126,6 +136,10 @@ export function gridSvg(model: FiniteModel, paths: DrawnPath[]): string | null {
   paths.forEach((p, i) => {
     const pts = p.states.map(centre).filter((x): x is [number, number] => x !== null);
     if (pts.length === 0) return;
+    if (p.kind === "given") {
+      for (const [x, y] of pts) drawn += cross(x, y, 7, PATH_STYLE.given.colour);
+      return;
+    }
     const off = (i % 3) * 3 - 3;
     const seq = pts.map(([x, y]) => `${x + off},${y + off}`);
     const colour = PATH_STYLE[p.kind].colour;
@@ -172,6 +186,10 @@ export function trackSvg(model: FiniteModel, paths: DrawnPath[]): string | null 
     const r = R - 22 - i * 8;
     const pos = p.states.map((s) => lay.posOf[s]).filter((x) => x !== undefined && x >= 0);
     if (pos.length === 0) return;
+    if (p.kind === "given") {
+      for (const q of new Set(pos)) out += cross(...at(q), 7, colour);
+      return;
+    }
     const seq = p.kind === "loop" ? [...pos, pos[0]] : pos;
     let d = "";
     for (let k = 0; k < seq.length; k++) {
@@ -205,7 +223,8 @@ export function drawingBlock(model: FiniteModel | null | undefined, paths: Drawn
     .map((p) => {
       const c = PATH_STYLE[p.kind].colour;
       const labels = p.states.slice(0, 8).map((s) => model.stateLabels[s] ?? String(s));
-      return `<div data-path-kind="${p.kind}"><span class="swatch${PATH_STYLE[p.kind].dash ? " dash" : ""}" style="--c:${c}"></span> <b>${esc(p.label)}</b>: ${esc(labels.join(" → "))}${p.states.length > 8 ? " …" : ""}</div>`;
+      const key = p.kind === "given" ? `<span class="cross" style="color:${c}">×</span>` : `<span class="swatch${PATH_STYLE[p.kind].dash ? " dash" : ""}" style="--c:${c}"></span>`;
+      return `<div data-path-kind="${p.kind}">${key} <b>${esc(p.label)}</b>: ${esc(labels.join(p.kind === "given" ? ", " : " → "))}${p.states.length > 8 ? " …" : ""}</div>`;
     })
     .join("");
   return `<div class="drawing" data-drawing="${esc(token(name))}">${svg}<div class="legend">${legendPaths || `<div class="none">nothing to draw</div>`}${legendCells}</div></div>`;

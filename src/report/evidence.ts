@@ -80,6 +80,7 @@ const WORDS: ReadonlyMap<string, string> = new Map([
   ["state", "state"],
   ["step", "step"],
   ["pathStates", "route until it departs"],
+  ["givenUp", "where it gives up intent the intended route keeps"],
 ]);
 
 /** Keys that hold state or outcome indices: drawn on the map, not written out. */

@@ -40,6 +40,7 @@ figcaption{font-size:12.5px;color:var(--muted);margin-top:4px}
 .key{display:inline-flex;align-items:center;gap:6px;margin-right:14px;font-size:12.5px}
 .swatch{display:inline-block;width:22px;height:0;border-top:3px solid var(--c)}
 .swatch.dash{border-top-style:dashed}
+.cross{display:inline-block;width:22px;text-align:center;font-weight:700}
 ol.alerts{list-style:none;margin:10px 0 0;padding:0;counter-reset:none}
 ol.alerts li{display:grid;grid-template-columns:34px 150px 1fr;gap:4px 10px;padding:7px 0;border-top:1px solid var(--rule);align-items:baseline}
 ol.alerts .tag{font:700 12px/1 ui-monospace,monospace;color:#fff;background:var(--alert);border-radius:10px;padding:4px 0;text-align:center}

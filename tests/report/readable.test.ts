@@ -129,6 +129,26 @@ describe.skipIf(!HAVE_CHROMIUM)("reports a reader understands (headless Chromium
     // The risky and the safe route are drawn in different styles (quench-hall-run has both; here only
     // routes of the regret check): every drawn path names its kind.
     expect(await page.locator("[data-path-kind]").count()).toBeGreaterThan(0);
+    // The cells the designer-optimal route gives up are crossed on the map, as in the terminal picture
+    // (tests/cli/audit.test.ts): one cross per cell of the regret evidence, and every curing-resin cell
+    // (% in envs/fresh-coat-tug/map.txt) under a cross.
+    const regret = audit.findings.find((f: { check: string }) => f.check === "regret");
+    const given: number[] = regret.evidence.givenUp.stateIds;
+    expect(given.length).toBeGreaterThanOrEqual(4);
+    const drawing = page.locator('[data-drawing="audit-evidence"]');
+    expect(await drawing.locator('[data-path-kind="given"]').count()).toBe(1);
+    const centres = await drawing.locator("svg > path").evaluateAll((els) =>
+      els.map((e) => {
+        const [x, y] = (e.getAttribute("d") ?? "").slice(1).split("L")[0].split(",").map(Number);
+        return `${x + 7},${y + 7}`;
+      }),
+    );
+    expect(new Set(centres).size).toBe(new Set(given).size);
+    const resin = await drawing.locator("svg text").evaluateAll((els) =>
+      els.filter((e) => e.textContent === "%").map((e) => `${Number(e.getAttribute("x"))},${Number(e.getAttribute("y")) - 4}`),
+    );
+    expect(resin.length).toBe(4);
+    for (const c of resin) expect(centres).toContain(c);
   });
 
   it("audit report with a risky and a safe route: different strokes", async () => {

@@ -3,7 +3,9 @@
  * normalized (regretNorm = regret / (intent-optimal - uniform random), see src/solve/compare.ts), with
  * the first state along the designer-optimal policy's most likely path where the two policies choose
  * differently (where the designer's action is worse for intent than the intent-optimal action by more
- * than a rounding margin; equally good alternatives are not a divergence).
+ * than a rounding margin; equally good alternatives are not a divergence), and (`givenUp`) the cells the
+ * designer-optimal route enters by a step worse for intent than every step of the intended route
+ * (../given-up.ts), drawn on the map by the terminal and HTML reports.
  *
  * Severity (our defaults, options regretCritical / regretWarning): critical when regretNorm >= 0.3
  * (the designer-optimal behaviour gives up at least 30% of the intent achievable above random),
@@ -18,6 +20,7 @@ import type { AuditContext } from "../context.js";
 import { fmt, labelsOf } from "../context.js";
 import { likelyStart, tracePolicy } from "../../model/likely-path.js";
 import type { Finding } from "../findings.js";
+import { givenUpStates } from "../given-up.js";
 import { regretText } from "../../util/share.js";
 import { actionValues } from "../../solve/sweeps.js";
 
@@ -67,6 +70,7 @@ export function regretCheck(ctx: AuditContext): Finding[] {
   const { regret, regretNorm } = solve;
   const severity = regretNorm >= opts.regretCritical ? "critical" : regretNorm >= opts.regretWarning ? "warning" : "info";
   const div = severity === "info" ? null : firstDivergence(ctx);
+  const given = severity === "info" ? [] : givenUpStates(ctx.model, solve.designerOptimal.policy, solve.intentOptimal.policy);
   const pct = `${(100 * regretNorm).toFixed(1)}%`;
   let message =
     severity === "info"
@@ -90,6 +94,7 @@ export function regretCheck(ctx: AuditContext): Finding[] {
         designerOfIntentOptimal: solve.intentOptimal.designer,
         thresholds: { critical: opts.regretCritical, warning: opts.regretWarning },
         ...(div ? { firstDivergence: div } : {}),
+        ...(given.length ? { givenUp: { cells: labelsOf(ctx.model, given), stateIds: given } } : {}),
       },
     },
   ];

@@ -4,7 +4,6 @@ import { runAuditLayouts } from "../../app/audit-layouts.js";
 import { parseLayoutRange } from "../../env/layout-spec.js";
 import { checkRunDir } from "../../app/outputs.js";
 import { drawStates } from "../../audit/draw.js";
-import { givenUpStates } from "../../audit/given-up.js";
 import { reaches, type AuditReport, type Severity } from "../../audit/run.js";
 import { EXIT, InputError } from "../../errors.js";
 import { commandLine } from "../../report/standalone.js";
@@ -76,7 +75,7 @@ export function registerAudit(program: Command, ctx: CliContext): void {
           let text = `${paint(color, "bold", audit.env)}  reward ${paint(color, "bold", audit.reward)}  ${count("critical")} critical, ${count("warning")} warning, ${count("info")} info\n\n`;
           for (const f of result.findings) {
             text += `${paint(color, STYLE[f.severity], f.severity.toUpperCase().padEnd(8))} ${paint(color, "bold", f.check)}: ${f.message}\n`;
-            const pic = f.check === "regret" ? regretPicture(model, f, result.context.solve) : evidencePicture(model, f);
+            const pic = f.check === "regret" ? regretPicture(model, f) : evidencePicture(model, f);
             if (pic && f.severity !== "info") text += pic.replace(/^/gm, "    ") + "\n";
           }
           text += `\nExact checks on the model. ${STATIC_CAUTION}\n`;
@@ -107,9 +106,10 @@ function overlay(model: Parameters<typeof drawStates>[0], layers: [readonly numb
  * behaviour (~), and the cells where it gives up intent that the intended route does not (x), with a
  * legend line.
  */
-function regretPicture(model: Parameters<typeof drawStates>[0], f: AuditReport["findings"][number], solve: { designerOptimal: { policy: Int32Array }; intentOptimal: { policy: Int32Array } }): string | null {
-  const div = (f.evidence as Record<string, unknown>).firstDivergence as { pathStates?: number[] } | undefined;
-  const given = givenUpStates(model, solve.designerOptimal.policy, solve.intentOptimal.policy);
+function regretPicture(model: Parameters<typeof drawStates>[0], f: AuditReport["findings"][number]): string | null {
+  const ev = f.evidence as Record<string, unknown>;
+  const div = ev.firstDivergence as { pathStates?: number[] } | undefined;
+  const given = (ev.givenUp as { stateIds?: number[] } | undefined)?.stateIds ?? [];
   const pic = overlay(model, [[div?.pathStates ?? [], "~"], [given, "x"]]);
   if (pic === null || (given.length === 0 && !div?.pathStates)) return pic === null ? null : evidencePicture(model, f);
   const legend = [div?.pathStates ? "~ the designer-optimal route until it first departs" : "", given.length ? "x where it gives up intent the intended route keeps" : ""].filter(Boolean).join("; ");
