@@ -24,7 +24,8 @@ import { failureOf, writeShippedRun } from "./execute.js";
 import { planSweep, sha256, type SweepSpec } from "./plan.js";
 import { defaultWorkers, PoolError, WorkerPool, type PoolRunOptions } from "./pool.js";
 import type { BatchJob, BatchProgress, RunOutcome } from "./types.js";
-import { isModuleSpec, moduleVariantNames, unknownVariant } from "../env/index.js";
+import { isModuleSpec, unknownVariant } from "../env/index.js";
+import { MODULE_LOAD_TIMEOUT_MS, moduleVariantNamesWithin } from "./variant-names.js";
 
 export interface CompareConfig extends SweepSpec {
   runsDir: string;
@@ -183,10 +184,11 @@ export async function runCompare(cfg: CompareConfig, hooks: CompareHooks = {}): 
   // Every variant, learner and file resolved before the first run: a misspelt name stops the sweep
   // at once instead of failing its own runs while the rest train. A simulator module is user code that
   // may hang while it compiles, which only a run's thread (with --run-timeout) can stop: for modules
-  // the definition is imported (not compiled) for its variant names, and the files are checked.
+  // the definition is imported (not compiled) for its variant names, in a thread stopped after the run
+  // timeout (default MODULE_LOAD_TIMEOUT_MS) if its top-level code never returns, and the files are checked.
   if (isModuleSpec(cfg.env)) {
     if (!existsSync(resolve(cfg.env))) throw new InputError("env.notFound", "simulator module not found", cfg.env);
-    const names = await moduleVariantNames(cfg.env);
+    const names = await moduleVariantNamesWithin(cfg.env, cfg.runTimeoutMs ?? MODULE_LOAD_TIMEOUT_MS);
     const moduleName = basename(cfg.env);
     for (const r of cfg.rewards) {
       if (/\.json$/i.test(r)) {

@@ -79,6 +79,19 @@ describe("gapwatch compare / runs", () => {
     }
   });
 
+  it("a module whose top-level code never returns: the variant pre-check stops it at the run timeout with one line, before any run (exit 2)", async () => {
+    const runsDir = tempDir("cli-hang-load");
+    const t0 = Date.now();
+    const r = await cli("compare", "--env", "tests/fixtures/batch/hang-load.ts", "--rewards", "default", "--seed-list", "1", "--steps", "100", "--workers", "1", "--run-timeout", "2", "--runs-dir", runsDir);
+    expect(r.code).toBe(2);
+    expect(r.err.trim().split("\n")).toHaveLength(1);
+    expect(r.err).toMatch(/hang-load\.ts/);
+    expect(r.err).toMatch(/did not finish within 2 s/);
+    // Stopped by the limit, not by the test's own timeout; no run was written.
+    expect(Date.now() - t0).toBeLessThan(30_000);
+    expect(existsSync(join(runsDir, "index.db")) ? readdirSync(runsDir).filter((d) => d !== "index.db" && !d.startsWith(".")).length : 0).toBe(0);
+  });
+
   it("a broken reward file stops the sweep before any run (one line naming it, exit 2); bad flags exit 2 with one line", async () => {
     const runsDir = tempDir("cli-bad");
     // Every variant is resolved before the first run: nothing is trained or written.
