@@ -2,7 +2,7 @@
  * Writing a FiniteModel in the explicit DRN format (the grammar, the mapping of features, intent,
  * labels and potentials, and what is exact and what is lost are described in drn.ts, which reads it).
  */
-import { DRN_GROUP_PREFIX, DRN_INIT, DRN_INTENT, DRN_POTENTIAL_PREFIX, DRN_TERMINAL, META, type DrnExport, type DrnExportOptions } from "./drn.js";
+import { DRN_GROUP_PREFIX, DRN_INIT, DRN_INTENT, DRN_POTENTIAL_PREFIX, DRN_TERMINAL, META, type DrnExport, type DrnExportOptions } from "./drn-types.js";
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "./types.js";
 
