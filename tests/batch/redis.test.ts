@@ -85,6 +85,24 @@ afterAll(async () => {
 
 const SWEEP = { env: "fresh-coat-tug", rewards: ["fast", "default"], learners: ["q-learning"], seeds: [1, 2, 3], steps: 4000, bootstrapSeed: 5, reps: 300 };
 
+/**
+ * A two-variant sweep on `env` run locally and through the queue at `url` (a worker must be up): no
+ * run failed, `runs` runs, the same run files and statistics. Returns the queued comparison.
+ */
+async function sameAsLocal(url: string, spec: { env: string; seeds: number[] }, runs: number) {
+  const sweep = { ...spec, rewards: ["default", "dawdle"], learners: ["q-learning"], steps: 600, bootstrapSeed: 1, reps: 200 };
+  const local = fresh("queue-local");
+  const remote = fresh("queue-remote");
+  const rl = await runCompare({ ...sweep, runsDir: local, workers: 1 });
+  const rr = await runCompare({ ...sweep, runsDir: remote, queue: url });
+  expect(rr.stats.failed).toEqual([]);
+  const fl = runFingerprints(local);
+  expect(fl.size).toBe(runs);
+  expect(runFingerprints(remote)).toEqual(fl);
+  expect(JSON.stringify(rr.stats)).toBe(JSON.stringify(rl.stats));
+  return rr;
+}
+
 describe("compare through Redis with worker processes", () => {
   it("two workers give the same runs and statistics as a local run; a resubmitted sweep does no work twice", async () => {
     const url = redis.url(0);
@@ -135,16 +153,7 @@ describe("compare through Redis with worker processes", () => {
     const elsewhere = fresh("worker-cwd");
     const w = startWorker(url, [], elsewhere);
     await until(() => ready(w));
-    const sweep = { env: "tests/fixtures/batch/corridor.json", rewards: ["default", "dawdle"], learners: ["q-learning"], seeds: [1, 2], steps: 600, bootstrapSeed: 1, reps: 200 };
-    const local = fresh("file-local");
-    const remote = fresh("file-remote");
-    const rl = await runCompare({ ...sweep, runsDir: local, workers: 1 });
-    const rr = await runCompare({ ...sweep, runsDir: remote, queue: url });
-    expect(rr.stats.failed).toEqual([]);
-    const fl = runFingerprints(local);
-    expect(fl.size).toBe(4);
-    expect(runFingerprints(remote)).toEqual(fl);
-    expect(JSON.stringify(rr.stats)).toBe(JSON.stringify(rl.stats));
+    const rr = await sameAsLocal(url, { env: "tests/fixtures/batch/corridor.json", seeds: [1, 2] }, 4);
     // The manifests name the file as the user gave it, not the worker's scratch copy.
     for (const o of rr.outcomes) if (o.ok) expect(o.result.config.env).toBe("tests/fixtures/batch/corridor.json");
     await stopAll();
@@ -156,15 +165,7 @@ describe("compare through Redis with worker processes", () => {
     const w = startWorker(url, [], elsewhere);
     await until(() => ready(w));
     for (const env of ["tests/fixtures/batch/corridors#1", "tests/fixtures/batch/corridors/b-long.json,tests/fixtures/batch/corridor.json#0"]) {
-      const sweep = { env, rewards: ["default", "dawdle"], learners: ["q-learning"], seeds: [1], steps: 600, bootstrapSeed: 1, reps: 200 };
-      const local = fresh("family-local");
-      const remote = fresh("family-remote");
-      const rl = await runCompare({ ...sweep, runsDir: local, workers: 1 });
-      const rr = await runCompare({ ...sweep, runsDir: remote, queue: url });
-      expect(rr.stats.failed).toEqual([]);
-      const fl = runFingerprints(local);
-      expect(fl.size).toBe(2);
-      expect(runFingerprints(remote)).toEqual(fl);
+      const rr = await sameAsLocal(url, { env, seeds: [1] }, 2);
       for (const o of rr.outcomes) {
         expect(o.ok).toBe(true);
         // The run names the family spec as the user gave it, and trained on the 4-state member.

@@ -28,7 +28,11 @@ describe("exact solvers on random finite MDPs", () => {
         const vi = valueIteration(model, reward, { tol: TOL });
         const pi = policyIteration(model, reward, { tol: TOL });
         expect(vi.converged && pi.converged).toBe(true);
-        expect(close(vi.values, pi.values, 1e-8)).toBe(true);
+        // Policy iteration switches an action only for a gain above its margin (1e-9 in
+        // policy-iteration.ts); a policy no action of which gains more than eps is within
+        // eps / (1 - gamma) of v* (the policy improvement bound; Puterman 1994, section 6.4, from
+        // memory). A reward below the margin (fast-check found 5e-10 at gamma 0.95) sits right at it.
+        expect(close(vi.values, pi.values, 1e-8 + 1e-9 / (1 - model.gamma))).toBe(true);
       }),
       { numRuns: 150 },
     );
