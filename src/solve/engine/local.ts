@@ -139,18 +139,19 @@ export function startValuesEngine(model: FiniteModel, rewards: Float64Array[], p
   let held: Float64Array | null = null;
   let g: Float64Array | null = null;
   let gErr = 0;
-  let region: RegionChain | null = null;
+  let region: { chain: RegionChain; order: Order } | null = null;
   for (let d = FIRST_DEPTH; ; d *= 2) {
     front.growTo(d);
     if (front.size > live / 2) front.growTo(Infinity);
     if (front.complete) break;
-    region = regionChain(model, choice, order.subarray(0, front.size), scratch);
+    const rc = regionChain(model, choice, order.subarray(0, front.size), scratch);
+    region = { chain: rc, order: orderOf(rc) };
     if (!held) {
       held = new Float64Array(nS);
       for (let s = 0; s < nS; s++) if (!model.terminal[s]) held[s] = 1;
     }
     const gAccuracy = scale > 0 ? accuracy / (4 * scale) : accuracy;
-    const res = solveChain(region.chain, regionReward(model, choice, region, null, held, gamma), orderOf(region), { ...o, accuracy: gAccuracy });
+    const res = solveChain(rc.chain, regionReward(model, choice, rc, null, held, gamma), region.order, { ...o, accuracy: gAccuracy });
     if (!res.converged || !(res.errorBound <= gAccuracy)) return null;
     let worst = 0;
     for (let i = 0; i < starts; i++) worst = Math.max(worst, res.values[i] + res.errorBound);
@@ -160,8 +161,13 @@ export function startValuesEngine(model: FiniteModel, rewards: Float64Array[], p
       break;
     }
   }
-  const last = g && region ? region : regionChain(model, choice, order.subarray(0, front.size), scratch);
-  const lastOrder = orderOf(last);
+  let last: RegionChain;
+  let lastOrder: Order;
+  if (g && region) ({ chain: last, order: lastOrder } = region);
+  else {
+    last = regionChain(model, choice, order.subarray(0, front.size), scratch);
+    lastOrder = orderOf(last);
+  }
   const values: Float64Array[] = [];
   let errorBound = 0;
   for (let j = 0; j < rewards.length; j++) {
