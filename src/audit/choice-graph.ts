@@ -7,7 +7,7 @@
 import { InputError } from "../errors.js";
 import type { FiniteModel } from "../model/types.js";
 import type { MeanCycle } from "./cycles.js";
-import type { CsrDigraph } from "./mean-cycle/graph.js";
+import { edgeSource, type CsrDigraph } from "./mean-cycle/graph.js";
 
 /** Label of a choice-graph edge: the (state, action) pair and which of its outcomes the edge is. */
 export interface ChoiceLabel {
@@ -89,20 +89,8 @@ export function modelChoiceGraph(model: FiniteModel, rewardPerOutcome: Float64Ar
     weight,
     action,
     outcome,
-    label: (e: number) => ({ state: sourceOf(start, e), action: action[e], outcome: outcome[e] }),
+    label: (e: number) => ({ state: edgeSource(start, e), action: action[e], outcome: outcome[e] }),
   };
-}
-
-/** The vertex whose out-edges hold edge e (binary search of the CSR starts). */
-function sourceOf(start: Int32Array, e: number): number {
-  let lo = 0;
-  let hi = start.length - 2;
-  while (lo < hi) {
-    const mid = (lo + hi + 1) >> 1;
-    if (start[mid] <= e) lo = mid;
-    else hi = mid - 1;
-  }
-  return lo;
 }
 
 /**

@@ -18,8 +18,8 @@
  */
 import type { FiniteModel, RewardVariant } from "../model/types.js";
 import { solveVariantDetailed, type SolveReport } from "../solve/compare.js";
-import { policyValues, startStateValues } from "../solve/default-solver.js";
-import { startValue, uniformPolicy } from "../solve/policy.js";
+import { policyValues } from "../solve/default-solver.js";
+import { startValue } from "../solve/policy.js";
 import type { Policy } from "../solve/sweeps.js";
 import { modelChoiceGraph, type ChoiceGraph } from "./choice-graph.js";
 import { stronglyConnectedComponents, type Components } from "./mean-cycle/graph.js";
@@ -69,7 +69,7 @@ export interface AuditContext {
   iPolicy: Policy;
   /**
    * Intent values per state of the designer-optimal policy, and of uniform random behaviour at the
-   * start states only (read there by the per-group regret; zeros when no start state carries a group).
+   * start states only (read there by the per-group regret; other entries are not values).
    */
   intentOfD: Float64Array;
   intentOfRandom: Float64Array;
@@ -122,9 +122,8 @@ export function prepareAudit(model: FiniteModel, variant: RewardVariant, options
   const { rd, dPolicy, iPolicy, report: solve } = v;
   const [intentOfD, stepsOfD] = v.ofDesignerOptimal;
   const [designerOfI, stepsOfI] = v.ofIntentOptimal;
-  // Only the per-group regret needs the random policy's values at each start state (solveVariant has the start value).
-  const grouped = model.groups?.some((g, s) => g !== null && g !== undefined && model.start[s] > 0) ?? false;
-  const intentOfRandom = grouped ? startStateValues(model, [model.intent], uniformPolicy(model), { gamma, tol: 1e-10 })[0] : new Float64Array(model.nStates);
+  // The per-group regret reads the random policy's intent at each start state (solved with the optima).
+  const intentOfRandom = v.randomIntentAtStarts;
   const steps = startValue(model, stepsOfI);
   const task = {
     designerRate: steps > 0 ? startValue(model, designerOfI) / steps : 0,

@@ -32,7 +32,7 @@
  * Pure; no I/O. Hot loops run over typed arrays (CSR adjacency).
  */
 import { InputError } from "../errors.js";
-import { isCsr, stronglyConnectedComponents, subgraph, toCsr, type Components, type Digraph, type LocalCycle, type Sub } from "./mean-cycle/graph.js";
+import { edgeSource, isCsr, stronglyConnectedComponents, subgraph, toCsr, type Components, type Digraph, type LocalCycle, type Sub } from "./mean-cycle/graph.js";
 import { howardComponent } from "./mean-cycle/howard.js";
 import { karpComponent, karpTableLocal } from "./mean-cycle/karp.js";
 
@@ -93,22 +93,10 @@ function solveMinMean<L>(graph: Digraph<L>, sign: number, opts: MeanCycleOptions
   const { cyc, sub } = best;
   const edges = cyc.edges.map((e) => (g.eid ? g.eid[sub.slot[e]] : sub.slot[e]));
   const slots = cyc.edges.map((e) => sub.slot[e]);
-  const vertices = cyc.edges.map((e) => sub.verts[localFrom(sub, e)]);
+  const vertices = cyc.edges.map((e) => sub.verts[edgeSource(sub.start, e)]);
   const weights = slots.map((s) => g.weight[s]);
   const labels = edges.map((e) => labelOf(graph, e));
   return { mean: sign * cyc.mean, vertices, edges, weights, labels, method: best.method, certified: cyc.certified };
-}
-
-function localFrom(sub: Sub, e: number): number {
-  // Binary search the CSR start array for the source of local edge e.
-  let lo = 0;
-  let hi = sub.m - 1;
-  while (lo < hi) {
-    const mid = (lo + hi + 1) >> 1;
-    if (sub.start[mid] <= e) lo = mid;
-    else hi = mid - 1;
-  }
-  return lo;
 }
 
 function labelOf<L>(graph: Digraph<L>, e: number): L | undefined {

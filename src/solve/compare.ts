@@ -56,6 +56,8 @@ export interface Optima {
   intent: Solution;
   /** Start values of the uniform-random policy. */
   random: { designer: number; intent: number };
+  /** The uniform-random policy's intent values, state-indexed, to be read at the start states only. */
+  randomIntentAtStarts: Float64Array;
 }
 
 /**
@@ -71,8 +73,9 @@ export function solveOptima(model: FiniteModel, rd: Float64Array, opts: SolveOpt
     const designer = exactOptimum(model, rd, gamma, opts.maxIters);
     const intent = exactOptimum(model, model.intent, gamma, opts.maxIters);
     const uniform = uniformPolicy(model);
-    const random = { designer: startValue(model, evaluateExact(model, rd, uniform, gamma)), intent: startValue(model, evaluateExact(model, model.intent, uniform, gamma)) };
-    return { gamma, designer, intent, random };
+    const randomIntentAtStarts = evaluateExact(model, model.intent, uniform, gamma);
+    const random = { designer: startValue(model, evaluateExact(model, rd, uniform, gamma)), intent: startValue(model, randomIntentAtStarts) };
+    return { gamma, designer, intent, random, randomIntentAtStarts };
   }
   if (gamma >= 1) {
     // Undiscounted: value iteration converges when every policy worth following ends; values that
@@ -87,7 +90,7 @@ export function solveOptima(model: FiniteModel, rd: Float64Array, opts: SolveOpt
   const designer = optimalSolution(model, rd, o, plan);
   const intent = optimalSolution(model, model.intent, o, plan);
   const [rdRandom, riRandom] = startStateValues(model, [rd, model.intent], uniformPolicy(model), { ...o, accuracy: FIXED_POINT_ACCURACY });
-  return { gamma, designer, intent, random: { designer: startValue(model, rdRandom), intent: startValue(model, riRandom) } };
+  return { gamma, designer, intent, random: { designer: startValue(model, rdRandom), intent: startValue(model, riRandom) }, randomIntentAtStarts: riRandom };
 }
 
 export function solveVariant(model: FiniteModel, variant: RewardVariant, opts: SolveOptions = {}): SolveReport {
@@ -105,6 +108,8 @@ export interface VariantSolve {
   /** Per state: [intent, ...extra] under the designer-optimal policy, [designer reward, ...extra] under the intent-optimal one. */
   ofDesignerOptimal: Float64Array[];
   ofIntentOptimal: Float64Array[];
+  /** The uniform-random policy's intent values at the start states (`Optima.randomIntentAtStarts`). */
+  randomIntentAtStarts: Float64Array;
 }
 
 /**
@@ -117,13 +122,13 @@ export function solveVariantDetailed(model: FiniteModel, variant: RewardVariant,
   const o = { ...opts, gamma };
   const rd = designerReward(model, variant, gamma);
   const ri = model.intent;
-  const { designer: dOpt, intent: iOpt, random } = solveOptima(model, rd, o);
+  const { designer: dOpt, intent: iOpt, random, randomIntentAtStarts } = solveOptima(model, rd, o);
   const exact = gamma > EXACT_GAMMA && gamma < 1;
   const dPolicy = deterministicPolicy(model, dOpt.policy);
   const same = sameActions(dOpt.policy, iOpt.policy);
   const iPolicy = same ? dPolicy : deterministicPolicy(model, iOpt.policy);
   const evaluate = (rewards: Float64Array[], actions: Int32Array, pol: Policy) =>
-    exact ? rewards.map((r) => evaluateExact(model, r, pol, gamma)) : actionPolicyValues(model, rewards, actions, o);
+    exact ? rewards.map((r) => evaluateExact(model, r, pol, gamma)) : actionPolicyValues(model, rewards, actions, o, pol);
   let ofDesignerOptimal: Float64Array[];
   let ofIntentOptimal: Float64Array[];
   if (same) {
@@ -155,7 +160,7 @@ export function solveVariantDetailed(model: FiniteModel, variant: RewardVariant,
     regretNorm: Math.abs(range) < 1e-12 ? 0 : regret / range,
     converged: dOpt.converged && iOpt.converged,
   };
-  return { report, rd, dPolicy, iPolicy, ofDesignerOptimal, ofIntentOptimal };
+  return { report, rd, dPolicy, iPolicy, ofDesignerOptimal, ofIntentOptimal, randomIntentAtStarts };
 }
 
 function sameActions(a: Int32Array, b: Int32Array): boolean {

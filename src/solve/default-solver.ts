@@ -97,9 +97,12 @@ export function startStateValues(model: FiniteModel, rewards: Float64Array[], po
 /**
  * v_pi of the deterministic policy `actions` (an action per state, -1 on terminal states) for each
  * reward: in one pass along the policy's paths where every chosen action has a single outcome
- * (engine/functional.ts, exact up to rounding), else as `policyValuesMany` of the one-hot policy.
+ * (engine/functional.ts, exact up to rounding), else as `policyValuesMany` of the one-hot policy
+ * (`oneHot`, `deterministicPolicy(model, actions)`, when the caller has it already).
  */
-export function actionPolicyValues(model: FiniteModel, rewards: Float64Array[], actions: Int32Array, opts: SolveOptions = {}): Float64Array[] {
+export function actionPolicyValues(model: FiniteModel, rewards: Float64Array[], actions: Int32Array, opts: SolveOptions = {}, oneHot?: Policy): Float64Array[] {
   const gamma = opts.gamma ?? model.gamma;
-  return evaluateFunctional(model, rewards, actions, gamma) ?? policyValuesMany(model, rewards, deterministicPolicy(model, actions), opts).map((e) => e.values);
+  const direct = evaluateFunctional(model, rewards, actions, gamma);
+  if (direct) return direct;
+  return policyValuesMany(model, rewards, oneHot ?? deterministicPolicy(model, actions), opts).map((e) => e.values);
 }

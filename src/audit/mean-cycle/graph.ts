@@ -123,6 +123,18 @@ export interface Sub {
   slot: Int32Array;
 }
 
+/** The vertex whose out-edges hold edge `e` in a CSR graph with `start` (binary search). */
+export function edgeSource(start: Int32Array, e: number): number {
+  let lo = 0;
+  let hi = start.length - 2;
+  while (lo < hi) {
+    const mid = (lo + hi + 1) >> 1;
+    if (start[mid] <= e) lo = mid;
+    else hi = mid - 1;
+  }
+  return lo;
+}
+
 export function subgraph(g: Csr, cc: Components, c: number, localIdx: Int32Array): Sub {
   const lo = cc.offset[c];
   const hi = cc.offset[c + 1];

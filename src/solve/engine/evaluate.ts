@@ -24,7 +24,7 @@ import { chainReward, evaluateFixedPoint, policyChain, type PolicyChain } from "
 import type { Policy } from "../sweeps.js";
 import { solveDense } from "./dense.js";
 import { solveOrder } from "./order.js";
-import { regionChain, regionReward } from "./region.js";
+import { regionChain, regionOrder, regionReward } from "./region.js";
 import { fillOver, maxOver, undiscountedSweeps, type ComponentResult, type ComponentSweeps } from "./sweeps.js";
 import {
   componentError,
@@ -89,10 +89,10 @@ export function evaluateOnStates(
   const o = resolveOptions(model.gamma, opts);
   const choice = { actions };
   const region = regionChain(model, choice, states, scratch);
-  const { chain, exits } = region;
+  const { chain } = region;
   const n = states.length;
   const rs = rewards.map((rsa, j) => regionReward(model, choice, region, { perAction: rsa }, xs[j], o.gamma));
-  const order = solveOrder({ n, rowStart: chain.rowStart, col: chain.col }, exits);
+  const order = regionOrder(region);
   let converged = true;
   let errorBound = 0;
   for (let j = 0; j < rewards.length; j++) {

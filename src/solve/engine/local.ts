@@ -29,8 +29,7 @@
 import type { FiniteModel } from "../../model/types.js";
 import type { Policy } from "../sweeps.js";
 import { solveChain, type Order } from "./evaluate.js";
-import { solveOrder } from "./order.js";
-import { regionChain, regionReward, type RegionChain } from "./region.js";
+import { regionChain, regionOrder, regionReward, type RegionChain } from "./region.js";
 import { resolveOptions, type EngineOptions } from "./types.js";
 
 /** The first depth tried; doubled while the truncation bound is too wide. */
@@ -107,11 +106,6 @@ function valueRange(reward: Float64Array, gamma: number): { lo: number; hi: numb
   return { lo: min / (1 - gamma), hi: max / (1 - gamma) };
 }
 
-function orderOf(region: RegionChain): Order {
-  const { chain, exits } = region;
-  return solveOrder({ n: chain.states.length, rowStart: chain.rowStart, col: chain.col }, exits);
-}
-
 /**
  * Values of `policy` at the start states for each reward (per outcome), to `opts.accuracy`; null when
  * no bound can be had this way (gamma >= 1, a reward that is not finite, or a solve that did not
@@ -145,7 +139,7 @@ export function startValuesEngine(model: FiniteModel, rewards: Float64Array[], p
     if (front.size > live / 2) front.growTo(Infinity);
     if (front.complete) break;
     const rc = regionChain(model, choice, order.subarray(0, front.size), scratch);
-    region = { chain: rc, order: orderOf(rc) };
+    region = { chain: rc, order: regionOrder(rc) };
     if (!held) {
       held = new Float64Array(nS);
       for (let s = 0; s < nS; s++) if (!model.terminal[s]) held[s] = 1;
@@ -166,7 +160,7 @@ export function startValuesEngine(model: FiniteModel, rewards: Float64Array[], p
   if (g && region) ({ chain: last, order: lastOrder } = region);
   else {
     last = regionChain(model, choice, order.subarray(0, front.size), scratch);
-    lastOrder = orderOf(last);
+    lastOrder = regionOrder(last);
   }
   const values: Float64Array[] = [];
   let errorBound = 0;

@@ -8,7 +8,8 @@
  */
 import type { FiniteModel } from "../../model/types.js";
 import type { PolicyChain } from "../evaluation.js";
-import type { Policy } from "../sweeps.js";
+import { expectedRewardAt, type Policy } from "../sweeps.js";
+import { solveOrder, type SolveOrder } from "./order.js";
 
 /** Which actions a state takes: a stochastic policy (nStates * nActions) or one action per state. */
 export type ActionChoice = { policy: Policy } | { actions: Int32Array };
@@ -102,7 +103,6 @@ export type RowRewardSource = { perAction: Float64Array } | { perOutcome: Float6
  */
 export function regionReward(model: FiniteModel, choice: ActionChoice, region: RegionChain, reward: RowRewardSource | null, held: Float64Array | null, gamma: number): Float64Array {
   const nA = model.nActions;
-  const { saStart, prob } = model;
   const { states } = region.chain;
   const { outStart, outState, outProb } = region;
   const rsa = reward && "perAction" in reward ? reward.perAction : null;
@@ -116,14 +116,16 @@ export function regionReward(model: FiniteModel, choice: ActionChoice, region: R
       if (pa === 0) continue;
       const k = s * nA + a;
       if (rsa) acc += pa * rsa[k];
-      else if (ro) {
-        let e = 0;
-        for (let q = saStart[k]; q < saStart[k + 1]; q++) e += prob[q] * ro[q];
-        acc += pa * e;
-      }
+      else if (ro) acc += pa * expectedRewardAt(model, ro, k);
     }
     if (held) for (let f = outStart[i]; f < outStart[i + 1]; f++) acc += gamma * outProb[f] * held[outState[f]];
     r[i] = acc;
   }
   return r;
+}
+
+/** The engine's solve order of a region's rows (order.ts): components, sinks first, exits counted. */
+export function regionOrder(region: RegionChain): SolveOrder {
+  const { chain, exits } = region;
+  return solveOrder({ n: chain.states.length, rowStart: chain.rowStart, col: chain.col }, exits);
 }
